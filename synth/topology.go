@@ -1,0 +1,473 @@
+package synth
+
+import (
+	"math"
+	"math/cmplx"
+)
+
+// PartKind is the kind of a passive element in a section.
+type PartKind uint8
+
+const (
+	// Resistor is a resistor, valued in ohms.
+	Resistor PartKind = iota
+	// Capacitor is a capacitor, valued in farads.
+	Capacitor
+)
+
+func (k PartKind) String() string {
+	if k == Capacitor {
+		return "capacitor"
+	}
+	return "resistor"
+}
+
+// Arrangement says how one circuit position is built from physical parts.
+type Arrangement uint8
+
+const (
+	// Single is one part.
+	Single Arrangement = iota
+	// Series is two or more parts in series.
+	Series
+	// Parallel is two or more parts in parallel.
+	Parallel
+)
+
+func (a Arrangement) String() string {
+	switch a {
+	case Series:
+		return "series"
+	case Parallel:
+		return "parallel"
+	}
+	return "single"
+}
+
+// Combine returns the value of parts of kind k joined by arrangement a:
+// resistances add in series, capacitances add in parallel, and the other way
+// round for reciprocals. It panics on an empty part list.
+func (k PartKind) Combine(a Arrangement, parts ...float64) float64 {
+	if len(parts) == 0 {
+		panic("synth: Combine of no parts")
+	}
+	if a == Single {
+		return parts[0]
+	}
+	add := (a == Series) == (k == Resistor)
+	var s float64
+	for _, p := range parts {
+		if add {
+			s += p
+		} else {
+			s += 1 / p
+		}
+	}
+	if add {
+		return s
+	}
+	return 1 / s
+}
+
+// Element is one circuit position of a topology.
+type Element struct {
+	Ref    string   // designator inside the section: R1, C2, ...
+	Symbol string   // textbook name used in DOMAIN.md and handbook tables: Cf, Cg, Ra, ...
+	Kind   PartKind // resistor or capacitor
+	From   string   // node names: "in" and "out" are the section's ports, "0" is ground
+	To     string
+	Role   string // a few words for people: "feedback to output", "shunt to ground"
+}
+
+// Poly holds polynomial coefficients in ascending powers of s (s in rad/s).
+// Entries beyond a section's pole count are zero.
+type Poly [4]float64
+
+// Topology describes one section circuit once, as data: its elements and
+// nodes, and its transfer function for arbitrary element values. Analysis,
+// netlists, schematics and the fit all read this description.
+//
+// Every topology is a passive RC network driving a unity-gain follower: the
+// op-amp's + input is node Plus and its output (and - input) is node "out".
+type Topology struct {
+	ID       string // stable identifier used in JSON: "sallen-key-lowpass", ...
+	Name     string // for people: "Sallen-Key low-pass"
+	Response Kind   // LowPass or HighPass
+	Poles    int    // 1, 2 or 3
+	Elements []Element
+	Plus     string // node at the follower's + input
+
+	// coeffs returns N(s) and D(s) for element values v (ohms, farads, in
+	// Elements order), with D(0) = 1.
+	coeffs func(v []float64) (num, den Poly)
+	// solve fills the resistors of v, given its capacitors, so that D(s)
+	// equals den. It appends every positive solution to dst; when none
+	// exists it appends the nearest realisable point and reports false.
+	solve func(v []float64, den Poly, dst [][]float64) ([][]float64, bool)
+	// normalised returns the textbook normalised values for den: unit
+	// resistors for a low-pass, unit capacitors for a high-pass.
+	normalised func(den Poly) ([]float64, bool)
+}
+
+// Coeffs returns the numerator and denominator of the section's transfer
+// function for element values v (SI units, in Elements order). It panics if
+// len(v) != len(t.Elements).
+func (t *Topology) Coeffs(v []float64) (num, den Poly) {
+	if len(v) != len(t.Elements) {
+		panic("synth: wrong number of element values for " + t.ID)
+	}
+	return t.coeffs(v)
+}
+
+// Solve returns element vectors that realise the denominator den exactly,
+// taking the capacitors from caps (values in Elements order; resistor entries
+// are ignored) and solving for the resistors. ok is false when no exact
+// positive solution exists; then the single returned vector is the nearest
+// point the capacitors allow (for the Sallen-Key low-pass: equal resistors,
+// which gives the highest Q those capacitors can reach).
+func (t *Topology) Solve(caps []float64, den Poly) (sols [][]float64, ok bool) {
+	return t.solve(caps, den, nil)
+}
+
+// SolveAppend is Solve appending to dst, for allocation-free loops.
+func (t *Topology) SolveAppend(caps []float64, den Poly, dst [][]float64) ([][]float64, bool) {
+	return t.solve(caps, den, dst)
+}
+
+// Normalised returns the classical normalised element values realising den:
+// unit resistors for a low-pass (capacitors solved), unit capacitors for a
+// high-pass (resistors solved). ok is false when no positive solution exists.
+func (t *Topology) Normalised(den Poly) ([]float64, bool) { return t.normalised(den) }
+
+// Eval returns H(jω) of the section with element values v at angular
+// frequency w (rad/s).
+func (t *Topology) Eval(v []float64, w float64) complex128 {
+	num, den := t.coeffs(v)
+	return EvalRational(num, den, t.Poles, w)
+}
+
+// EvalRational returns N(jω)/D(jω) for polynomials of degree n.
+func EvalRational(num, den Poly, n int, w float64) complex128 {
+	s := complex(0, w)
+	var nv, dv complex128
+	for i := n; i >= 0; i-- {
+		nv = nv*s + complex(num[i], 0)
+		dv = dv*s + complex(den[i], 0)
+	}
+	return nv / dv
+}
+
+// Gain2 returns |N(jω)/D(jω)|² for real polynomials of degree n <= 3 without
+// complex arithmetic: the hot path of the fit.
+func Gain2(num, den Poly, n int, w float64) float64 {
+	w2 := w * w
+	// Even part: c0 - c2 w², odd part: c1 w - c3 w³.
+	nr := num[0] - num[2]*w2
+	ni := w * (num[1] - num[3]*w2)
+	dr := den[0] - den[2]*w2
+	di := w * (den[1] - den[3]*w2)
+	return (nr*nr + ni*ni) / (dr*dr + di*di)
+}
+
+// Indices returns the positions in t.Elements of the elements of kind k.
+func (t *Topology) Indices(k PartKind) []int {
+	var out []int
+	for i, e := range t.Elements {
+		if e.Kind == k {
+			out = append(out, i)
+		}
+	}
+	return out
+}
+
+// Topologies lists every section circuit drawerfit knows.
+var Topologies = []*Topology{&FirstOrderLowPass, &FirstOrderHighPass, &SallenKeyLowPass, &SallenKeyHighPass, &ThreePoleLowPass, &ThreePoleHighPass}
+
+// TopologyFor returns the topology for a section of the given response and
+// pole count (1, 2 or 3). It panics for any other pole count.
+func TopologyFor(k Kind, poles int) *Topology {
+	for _, t := range Topologies {
+		if t.Response == k && t.Poles == poles {
+			return t
+		}
+	}
+	panic("synth: no topology with that many poles")
+}
+
+// TopologyByID returns the topology with the given ID, or nil.
+func TopologyByID(id string) *Topology {
+	for _, t := range Topologies {
+		if t.ID == id {
+			return t
+		}
+	}
+	return nil
+}
+
+// FirstOrderLowPass is a series resistor and a shunt capacitor, buffered.
+var FirstOrderLowPass = Topology{
+	ID: "rc-lowpass", Name: "first-order RC low-pass", Response: LowPass, Poles: 1, Plus: "p",
+	Elements: []Element{
+		{Ref: "R1", Symbol: "R", Kind: Resistor, From: "in", To: "p", Role: "series"},
+		{Ref: "C1", Symbol: "C", Kind: Capacitor, From: "p", To: "0", Role: "shunt to ground"},
+	},
+	coeffs: func(v []float64) (num, den Poly) {
+		return Poly{1}, Poly{1, v[0] * v[1]}
+	},
+	solve: func(v []float64, den Poly, dst [][]float64) ([][]float64, bool) {
+		return append(dst, []float64{den[1] / v[1], v[1]}), true
+	},
+	normalised: func(den Poly) ([]float64, bool) { return []float64{1, den[1]}, den[1] > 0 },
+}
+
+// FirstOrderHighPass is a series capacitor and a shunt resistor, buffered.
+var FirstOrderHighPass = Topology{
+	ID: "rc-highpass", Name: "first-order RC high-pass", Response: HighPass, Poles: 1, Plus: "p",
+	Elements: []Element{
+		{Ref: "C1", Symbol: "C", Kind: Capacitor, From: "in", To: "p", Role: "series"},
+		{Ref: "R1", Symbol: "R", Kind: Resistor, From: "p", To: "0", Role: "shunt to ground"},
+	},
+	coeffs: func(v []float64) (num, den Poly) {
+		rc := v[0] * v[1]
+		return Poly{0, rc}, Poly{1, rc}
+	},
+	solve: func(v []float64, den Poly, dst [][]float64) ([][]float64, bool) {
+		return append(dst, []float64{v[0], den[1] / v[0]}), true
+	},
+	normalised: func(den Poly) ([]float64, bool) { return []float64{1, den[1]}, den[1] > 0 },
+}
+
+// SallenKeyLowPass is the unity-gain Sallen-Key low-pass:
+// in -R1- a -R2- p; C1 (Cf) from a to out; C2 (Cg) from p to ground.
+//
+//	D(s) = 1 + s·Cg(R1+R2) + s²·R1 R2 Cf Cg
+var SallenKeyLowPass = Topology{
+	ID: "sallen-key-lowpass", Name: "Sallen-Key low-pass", Response: LowPass, Poles: 2, Plus: "p",
+	Elements: []Element{
+		{Ref: "R1", Symbol: "R1", Kind: Resistor, From: "in", To: "a", Role: "series, input side"},
+		{Ref: "R2", Symbol: "R2", Kind: Resistor, From: "a", To: "p", Role: "series, to + input"},
+		{Ref: "C1", Symbol: "Cf", Kind: Capacitor, From: "a", To: "out", Role: "feedback to output"},
+		{Ref: "C2", Symbol: "Cg", Kind: Capacitor, From: "p", To: "0", Role: "+ input to ground"},
+	},
+	coeffs: func(v []float64) (num, den Poly) {
+		r1, r2, cf, cg := v[0], v[1], v[2], v[3]
+		return Poly{1}, Poly{1, cg * (r1 + r2), r1 * r2 * cf * cg}
+	},
+	solve: func(v []float64, den Poly, dst [][]float64) ([][]float64, bool) {
+		cf, cg := v[2], v[3]
+		p := den[2] / (cf * cg) // R1·R2
+		s := den[1] / cg        // R1+R2
+		disc := s*s - 4*p
+		if disc < 0 {
+			r := math.Sqrt(p)
+			return append(dst, []float64{r, r, cf, cg}), false
+		}
+		sq := math.Sqrt(disc)
+		r1 := (s + sq) / 2
+		r2 := p / r1 // avoids cancellation in (s - sq)/2
+		return append(dst, []float64{r1, r2, cf, cg}), true
+	},
+	normalised: func(den Poly) ([]float64, bool) {
+		cg := den[1] / 2
+		cf := den[2] / cg
+		return []float64{1, 1, cf, cg}, cg > 0 && cf > 0
+	},
+}
+
+// SallenKeyHighPass is the unity-gain Sallen-Key high-pass:
+// in -C1- a -C2- p; R1 (Rf) from a to out; R2 (Rg) from p to ground.
+//
+//	H(s) = s² Rf Rg C1 C2 / (1 + s·Rf(C1+C2) + s²·Rf Rg C1 C2)
+var SallenKeyHighPass = Topology{
+	ID: "sallen-key-highpass", Name: "Sallen-Key high-pass", Response: HighPass, Poles: 2, Plus: "p",
+	Elements: []Element{
+		{Ref: "C1", Symbol: "C1", Kind: Capacitor, From: "in", To: "a", Role: "series, input side"},
+		{Ref: "C2", Symbol: "C2", Kind: Capacitor, From: "a", To: "p", Role: "series, to + input"},
+		{Ref: "R1", Symbol: "Rf", Kind: Resistor, From: "a", To: "out", Role: "feedback to output"},
+		{Ref: "R2", Symbol: "Rg", Kind: Resistor, From: "p", To: "0", Role: "+ input to ground"},
+	},
+	coeffs: func(v []float64) (num, den Poly) {
+		c1, c2, rf, rg := v[0], v[1], v[2], v[3]
+		a2 := rf * rg * c1 * c2
+		return Poly{0, 0, a2}, Poly{1, rf * (c1 + c2), a2}
+	},
+	solve: func(v []float64, den Poly, dst [][]float64) ([][]float64, bool) {
+		c1, c2 := v[0], v[1]
+		rf := den[1] / (c1 + c2)
+		rg := den[2] / (rf * c1 * c2)
+		return append(dst, []float64{c1, c2, rf, rg}), true
+	},
+	normalised: func(den Poly) ([]float64, bool) {
+		rf := den[1] / 2
+		rg := den[2] / rf
+		return []float64{1, 1, rf, rg}, rf > 0 && rg > 0
+	},
+}
+
+// ThreePoleLowPass is the unity-gain single-amplifier third-order low-pass:
+// in -R1- n1 -R2- n2 -R3- p; C1 (Ca) n1 to ground; C2 (Cf) n2 to out;
+// C3 (Cb) p to ground.
+//
+//	D(s) = 1 + s(Ca R1 + Cb(R1+R2+R3)) + s²(Ca Cb R1(R2+R3) + Cb Cf R3(R1+R2)) + s³ Ca Cb Cf R1 R2 R3
+var ThreePoleLowPass = Topology{
+	ID: "three-pole-lowpass", Name: "single-amplifier 3-pole low-pass", Response: LowPass, Poles: 3, Plus: "p",
+	Elements: []Element{
+		{Ref: "R1", Symbol: "R1", Kind: Resistor, From: "in", To: "n1", Role: "series, input side"},
+		{Ref: "R2", Symbol: "R2", Kind: Resistor, From: "n1", To: "n2", Role: "series, middle"},
+		{Ref: "R3", Symbol: "R3", Kind: Resistor, From: "n2", To: "p", Role: "series, to + input"},
+		{Ref: "C1", Symbol: "Ca", Kind: Capacitor, From: "n1", To: "0", Role: "shunt to ground"},
+		{Ref: "C2", Symbol: "Cf", Kind: Capacitor, From: "n2", To: "out", Role: "feedback to output"},
+		{Ref: "C3", Symbol: "Cb", Kind: Capacitor, From: "p", To: "0", Role: "+ input to ground"},
+	},
+	coeffs: func(v []float64) (num, den Poly) {
+		r1, r2, r3, ca, cf, cb := v[0], v[1], v[2], v[3], v[4], v[5]
+		return Poly{1}, Poly{1,
+			ca*r1 + cb*(r1+r2+r3),
+			ca*cb*r1*(r2+r3) + cb*cf*r3*(r1+r2),
+			ca * cb * cf * r1 * r2 * r3}
+	},
+	solve: func(v []float64, den Poly, dst [][]float64) ([][]float64, bool) {
+		ca, cf, cb := v[3], v[4], v[5]
+		a1, a2, a3 := den[1], den[2], den[3]
+		// Given R1: R2+R3 = u from a1, R2·R3 = p from a3, and a2 then fixes
+		// R3 linearly; the residual R2·R3 - p is a function of R1 alone.
+		split := func(r1 float64) (r2, r3, g float64, okr bool) {
+			u := (a1 - (ca+cb)*r1) / cb
+			p := a3 / (ca * cb * cf * r1)
+			r3 = ((a2-ca*cb*r1*u)/(cb*cf) - p) / r1
+			r2 = u - r3
+			return r2, r3, r2*r3 - p, u > 0 && r2 > 0 && r3 > 0
+		}
+		hi := a1 / (ca + cb)
+		sols, ok := scanRoots(hi, split, func(r1, r2, r3 float64) []float64 {
+			return []float64{r1, r2, r3, ca, cf, cb}
+		}, dst)
+		return sols, ok
+	},
+	normalised: func(den Poly) ([]float64, bool) {
+		a1, a2, a3 := den[1], den[2], den[3]
+		// Unit resistors: a1 = Ca + 3Cb, a2 = 2Cb(Ca+Cf), a3 = Ca Cb Cf.
+		// With x = Cb: Ca = a1 - 3x, Cf = a2/(2x) - Ca, and
+		// (a2/2 - (a1-3x)x)(a1-3x) = a3.
+		split := func(x float64) (ca, cf, g float64, okr bool) {
+			ca = a1 - 3*x
+			cf = a2/(2*x) - ca
+			return ca, cf, ca*x*cf - a3, ca > 0 && cf > 0
+		}
+		sols, ok := scanRoots(a1/3, split, func(x, ca, cf float64) []float64 {
+			return []float64{1, 1, 1, ca, cf, x}
+		}, nil)
+		if !ok {
+			return sols[0], false
+		}
+		return sols[0], true
+	},
+}
+
+// ThreePoleHighPass is the dual of ThreePoleLowPass:
+// in -C1- n1 -C2- n2 -C3- p; R1 (Ra) n1 to ground; R2 (Rf) n2 to out;
+// R3 (Rb) p to ground.
+//
+//	D(s) = 1 + s(C1 Ra + C2 Ra + C2 Rf + C3 Rf) + s²(Ra Rf (C1C2 + C1C3 + C2C3) + C2 C3 Rb Rf) + s³ C1 C2 C3 Ra Rb Rf
+var ThreePoleHighPass = Topology{
+	ID: "three-pole-highpass", Name: "single-amplifier 3-pole high-pass", Response: HighPass, Poles: 3, Plus: "p",
+	Elements: []Element{
+		{Ref: "C1", Symbol: "C1", Kind: Capacitor, From: "in", To: "n1", Role: "series, input side"},
+		{Ref: "C2", Symbol: "C2", Kind: Capacitor, From: "n1", To: "n2", Role: "series, middle"},
+		{Ref: "C3", Symbol: "C3", Kind: Capacitor, From: "n2", To: "p", Role: "series, to + input"},
+		{Ref: "R1", Symbol: "Ra", Kind: Resistor, From: "n1", To: "0", Role: "shunt to ground"},
+		{Ref: "R2", Symbol: "Rf", Kind: Resistor, From: "n2", To: "out", Role: "feedback to output"},
+		{Ref: "R3", Symbol: "Rb", Kind: Resistor, From: "p", To: "0", Role: "+ input to ground"},
+	},
+	coeffs: func(v []float64) (num, den Poly) {
+		c1, c2, c3, ra, rf, rb := v[0], v[1], v[2], v[3], v[4], v[5]
+		a3 := c1 * c2 * c3 * ra * rb * rf
+		return Poly{0, 0, 0, a3}, Poly{1,
+			(c1+c2)*ra + (c2+c3)*rf,
+			ra*rf*(c1*c2+c1*c3+c2*c3) + c2*c3*rb*rf,
+			a3}
+	},
+	solve: func(v []float64, den Poly, dst [][]float64) ([][]float64, bool) {
+		return threePoleHighPassSolve(v[0], v[1], v[2], den, dst)
+	},
+	normalised: func(den Poly) ([]float64, bool) {
+		sols, ok := threePoleHighPassSolve(1, 1, 1, den, nil)
+		return sols[0], ok
+	},
+}
+
+func threePoleHighPassSolve(c1, c2, c3 float64, den Poly, dst [][]float64) ([][]float64, bool) {
+	a1, a2, a3 := den[1], den[2], den[3]
+	k := c1*c2 + c1*c3 + c2*c3
+	// Given Ra: Rf from a1, Rb from a3, residual from a2.
+	split := func(ra float64) (rf, rb, g float64, okr bool) {
+		rf = (a1 - (c1+c2)*ra) / (c2 + c3)
+		rb = a3 / (c1 * c2 * c3 * ra * rf)
+		return rf, rb, ra*rf*k + c2*c3*rb*rf - a2, rf > 0 && rb > 0
+	}
+	return scanRoots(a1/(c1+c2), split, func(ra, rf, rb float64) []float64 {
+		return []float64{c1, c2, c3, ra, rf, rb}
+	}, dst)
+}
+
+// scanRoots finds the roots in (0, hi) of the residual g(x) returned by split,
+// where split also yields two dependent values. It scans x on a logarithmic
+// grid for sign changes of g among admissible points, refines each by
+// bisection, and appends build(x, y1, y2) for every root. When there is no
+// root it appends the admissible point with the smallest |g| relative to the
+// scale of the problem (or the grid midpoint) and reports false.
+func scanRoots(hi float64, split func(x float64) (y1, y2, g float64, ok bool),
+	build func(x, y1, y2 float64) []float64, dst [][]float64) ([][]float64, bool) {
+	const steps = 160
+	lo := hi * 1e-6
+	ratio := math.Pow(hi/lo, 1.0/steps)
+	found := false
+	bestX, bestG := math.NaN(), math.Inf(1)
+	px, pg, pok := 0.0, 0.0, false
+	x := lo
+	for i := 0; i <= steps; i++ {
+		if i == steps {
+			x = hi * (1 - 1e-12)
+		}
+		_, _, g, ok := split(x)
+		if ok {
+			if math.Abs(g) < bestG {
+				bestG, bestX = math.Abs(g), x
+			}
+			if pok && (g == 0 || (g > 0) != (pg > 0)) {
+				a, b, ga := px, x, pg
+				for it := 0; it < 200 && b-a > 1e-15*b; it++ {
+					m := 0.5 * (a + b)
+					_, _, gm, okm := split(m)
+					if !okm {
+						break
+					}
+					if (gm > 0) == (ga > 0) {
+						a, ga = m, gm
+					} else {
+						b = m
+					}
+				}
+				r := 0.5 * (a + b)
+				y1, y2, _, okr := split(r)
+				if okr {
+					dst = append(dst, build(r, y1, y2))
+					found = true
+				}
+			}
+		}
+		px, pg, pok = x, g, ok
+		x *= ratio
+	}
+	if found {
+		return dst, true
+	}
+	if math.IsNaN(bestX) {
+		bestX = math.Sqrt(lo * hi)
+	}
+	y1, y2, _, _ := split(bestX)
+	return append(dst, build(bestX, y1, y2)), false
+}
+
+// magnitude helpers used by analysis code.
+func dB(h complex128) float64 { return 20 * math.Log10(cmplx.Abs(h)) }
