@@ -1,0 +1,411 @@
+package synth
+
+import (
+	"fmt"
+	"math"
+	"math/cmplx"
+	"sort"
+
+	"drawerfit/fault"
+)
+
+// Section is one stage of the ideal cascade: a complex pole pair (2-pole), a
+// real pole (1-pole), or a real pole with a pair (3-pole).
+type Section struct {
+	Topology *Topology
+	// F0 is the natural frequency in Hz of the pair, or of the real pole of a
+	// 1-pole section; for a 3-pole section it is the pair's.
+	F0 float64
+	// Q is the pair's quality factor; 0 for a 1-pole section.
+	Q float64
+	// RealF0 is the real pole's frequency in Hz for a 3-pole section, else 0.
+	RealF0 float64
+	// Num and Den are the ideal target section N(s)/D(s), s in rad/s,
+	// Den[0] = 1, unity passband gain.
+	Num, Den Poly
+	// Reason says in a few words why the section is what and where it is.
+	Reason string
+}
+
+// Eval returns the ideal section response N(jw)/D(jw) at angular frequency w.
+func (s *Section) Eval(w float64) complex128 {
+	return EvalRational(s.Num, s.Den, s.Topology.Poles, w)
+}
+
+// Design is an ideal cascade of unity-gain sections realising a Spec.
+type Design struct {
+	Spec  Spec // normalised copy of the specification
+	Order int
+	Odd   Odd // the odd-order arrangement used (as asked; irrelevant for even orders)
+	// Sections in cascade order: ascending Q, a 1-pole section first.
+	Sections []Section
+	// Notes explain the design: how the edge was placed, the stopband
+	// margin, the Chebyshev even-order passband, an order below the minimum.
+	Notes []string
+
+	edgeW float64 // 2π·fp: the normalisation frequency of element values
+}
+
+// MinOrder returns the lowest order (1..MaxOrder) whose design meets the
+// specification at fp and fs. Butterworth and Chebyshev use the closed-form
+// order formulas (DOMAIN.md), then the order is checked against the
+// analysed design (an even Chebyshev order with unity-gain sections has its
+// attenuation measured from the ripple minimum at DC and may need one more).
+// Bessel has no closed form: the order is increased from 1 until the design
+// meets the specification. Without a stopband edge the result is the lowest
+// order that meets the passband (1 except for unusual Bessel delay specs).
+//
+// Errors: fault.Invalid for a bad specification (see Spec.Normalize, except
+// that a missing order is allowed here), fault.Infeasible when no order up to
+// MaxOrder meets it (for Bessel, whose attenuation near the edge stops
+// growing with the order, some demands are unreachable at any order).
+func MinOrder(s Spec) (int, error) {
+	if s.Order == 0 && s.Stop == 0 {
+		s.Order = 1 // only to pass Normalize; MinOrder decides
+	}
+	if err := s.Normalize(); err != nil {
+		return 0, err
+	}
+	start := 1
+	if s.Stop != 0 && s.Approx != Bessel {
+		raw := closedFormOrder(&s)
+		if raw > MaxOrder {
+			return 0, fault.Infeasiblef("%s %s needs order %d for %g dB at %g Hz; the limit is %d",
+				s.Approx, s.Kind, int(math.Ceil(raw-1e-9)), s.StopAtten, s.Stop, MaxOrder)
+		}
+		start = max(1, int(math.Ceil(raw-1e-9)))
+	}
+	best, bestN := math.Inf(-1), 0
+	for n := start; n <= MaxOrder; n++ {
+		d, err := buildDesign(s, n, OddOnePole)
+		if err != nil {
+			return 0, err
+		}
+		ap := d.AttenuationAt(s.Pass)
+		if ap > s.PassAtten+attenSlack {
+			continue
+		}
+		if s.Stop == 0 {
+			return n, nil
+		}
+		as := d.AttenuationAt(s.Stop)
+		if as >= s.StopAtten-attenSlack {
+			return n, nil
+		}
+		if as > best {
+			best, bestN = as, n
+		}
+	}
+	if s.Stop == 0 {
+		return 0, fault.Infeasiblef("no %s order up to %d keeps the attenuation at %g Hz within %g dB",
+			s.Approx, MaxOrder, s.Pass, s.PassAtten)
+	}
+	if bestN == 0 {
+		return 0, fault.Infeasiblef("no %s order up to %d meets %g dB at %g Hz with at most %g dB at %g Hz",
+			s.Approx, MaxOrder, s.StopAtten, s.Stop, s.PassAtten, s.Pass)
+	}
+	return 0, fault.Infeasiblef("no %s order up to %d reaches %g dB at %g Hz: the most is %.2f dB (order %d); move the stopband edge away or use another response",
+		s.Approx, MaxOrder, s.StopAtten, s.Stop, best, bestN)
+}
+
+// attenSlack absorbs rounding when a design meets a specification exactly
+// (dB; far below anything measurable).
+const attenSlack = 1e-9
+
+// closedFormOrder returns the unrounded minimum order of the closed-form
+// formulas (DOMAIN.md; the same as scipy.signal buttord and cheb1ord).
+func closedFormOrder(s *Spec) float64 {
+	r := s.stopRatio()
+	gs := math.Pow(10, s.StopAtten/10) - 1
+	gp := math.Pow(10, s.PassAtten/10) - 1
+	if s.Approx == Chebyshev {
+		return math.Acosh(math.Sqrt(gs/gp)) / math.Acosh(r)
+	}
+	return math.Log10(gs/gp) / (2 * math.Log10(r))
+}
+
+// NewDesign designs the ideal cascade for s at the given order (0: s.Order,
+// or MinOrder when that is 0 too) with the given odd-order arrangement
+// (OddDefault: s.Odd). Any order 1..MaxOrder may be asked for; an order below
+// the minimum gives a design with a note saying by how much it misses the
+// stopband. The passband edge is always met exactly (attenuation Ap at fp,
+// or the unit-delay placement for BesselDelay) and the slack of a higher
+// order goes to the stopband.
+//
+// Errors: fault.Invalid for a bad specification or order, fault.Infeasible
+// when no order meets the specification or a 3-pole section has no positive
+// element values.
+func NewDesign(s Spec, order int, odd Odd) (*Design, error) {
+	if order == 0 {
+		order = s.Order
+	}
+	if order < 0 || order > MaxOrder {
+		return nil, fault.Invalidf("order %d is outside 1..%d", order, MaxOrder)
+	}
+	if order != 0 && s.Order == 0 && s.Stop == 0 {
+		s.Order = order
+	}
+	if err := s.Normalize(); err != nil {
+		return nil, err
+	}
+	if odd == OddDefault {
+		odd = s.Odd
+	}
+	if odd != OddOnePole && odd != OddThreePole {
+		return nil, fault.Invalidf("unknown odd-order arrangement %d", odd)
+	}
+	minN := 0
+	if s.Stop != 0 {
+		var err error
+		minN, err = MinOrder(s)
+		if err != nil && (order == 0 || fault.KindOf(err) != fault.Infeasible) {
+			return nil, err
+		}
+	}
+	if order == 0 {
+		order = minN
+	}
+	d, err := buildDesign(s, order, odd)
+	if err != nil {
+		return nil, err
+	}
+	d.explain(minN)
+	return d, nil
+}
+
+// buildDesign computes the poles, places the edge and groups the sections.
+func buildDesign(s Spec, n int, odd Odd) (*Design, error) {
+	poles := Prototype(s.Approx, n, s.Ripple, s.BesselNorm)
+	// Edge placement: scale the prototype so that the attenuation at the
+	// normalised edge 1 rad/s is exactly Ap.
+	k := 1.0
+	switch {
+	case s.Approx == Butterworth:
+		// DOMAIN.md: the -3 dB frequency is fp·(10^(Ap/10)-1)^(-1/(2n)).
+		k = math.Pow(math.Pow(10, s.PassAtten/10)-1, -1/(2*float64(n)))
+	case s.Approx == Bessel && s.BesselNorm == BesselMag && s.PassAtten != HalfPowerDB:
+		k = 1 / attenCrossing(poles, s.PassAtten)
+	}
+	for i := range poles {
+		poles[i] *= complex(k, 0)
+	}
+	d := &Design{Spec: s, Order: n, Odd: odd, edgeW: 2 * math.Pi * s.Pass}
+	var pairs []complex128
+	var realPole float64
+	for _, p := range poles {
+		if imag(p) == 0 {
+			realPole = -real(p)
+		} else {
+			pairs = append(pairs, p)
+		}
+	}
+	sort.SliceStable(pairs, func(i, j int) bool {
+		_, qi := PairF0Q(pairs[i])
+		_, qj := PairF0Q(pairs[j])
+		return qi < qj
+	})
+	// Normalised frequency w maps to fp·w (low-pass) or fp/w (high-pass).
+	hz := func(w float64) float64 {
+		if s.Kind == HighPass {
+			return s.Pass / w
+		}
+		return s.Pass * w
+	}
+	total := len(pairs)
+	if realPole != 0 {
+		total++
+	}
+	if realPole != 0 && (odd == OddOnePole || len(pairs) == 0) {
+		f := hz(realPole)
+		sec := Section{F0: f, Topology: TopologyFor(s.Kind, 1),
+			Reason: "real pole of the odd order as its own buffered RC section; first, as it has no peaking"}
+		sec.Num, sec.Den = firstOrderPoly(s.Kind, 2*math.Pi*f)
+		d.Sections = append(d.Sections, sec)
+	}
+	for i, p := range pairs {
+		w0, q := PairF0Q(p)
+		f := hz(w0)
+		num, den := pairPoly(s.Kind, 2*math.Pi*f, q)
+		sec := Section{F0: f, Q: q, Topology: TopologyFor(s.Kind, 2), Num: num, Den: den,
+			Reason: fmt.Sprintf("pole pair, Q %.4g: stage %d of %d in order of rising Q", q, len(d.Sections)+1, total)}
+		if i == 0 && realPole != 0 && odd == OddThreePole {
+			fr := hz(realPole)
+			n1, d1 := firstOrderPoly(s.Kind, 2*math.Pi*fr)
+			sec.Topology = TopologyFor(s.Kind, 3)
+			sec.RealF0 = fr
+			sec.Num, sec.Den = mulPoly(n1, num), mulPoly(d1, den)
+			sec.Reason = fmt.Sprintf("real pole (%s) with the lowest-Q pair (Q %.4g) in one single-amplifier 3-pole section; first, as it has the lowest Q",
+				hzString(fr), q)
+			if _, ok := sec.Topology.Normalised(d.normalisedDen(sec.Den)); !ok {
+				return nil, fault.Infeasiblef("%s order %d: the 3-pole section (real pole with the Q %.3g pair) has no positive element values; use the 1-pole arrangement",
+					s.Approx, n, q)
+			}
+		}
+		d.Sections = append(d.Sections, sec)
+	}
+	return d, nil
+}
+
+// firstOrderPoly returns the unity-gain first-order section with pole at w.
+func firstOrderPoly(k Kind, w float64) (num, den Poly) {
+	if k == HighPass {
+		return Poly{0, 1 / w}, Poly{1, 1 / w}
+	}
+	return Poly{1}, Poly{1, 1 / w}
+}
+
+// pairPoly returns the unity-gain second-order section with natural angular
+// frequency w0 and quality factor q.
+func pairPoly(k Kind, w0, q float64) (num, den Poly) {
+	den = Poly{1, 1 / (w0 * q), 1 / (w0 * w0)}
+	if k == HighPass {
+		return Poly{0, 0, 1 / (w0 * w0)}, den
+	}
+	return Poly{1}, den
+}
+
+// mulPoly multiplies a first-order by a second-order polynomial.
+func mulPoly(a, b Poly) Poly {
+	var c Poly
+	for i := 0; i <= 1; i++ {
+		for j := 0; j <= 2; j++ {
+			c[i+j] += a[i] * b[j]
+		}
+	}
+	return c
+}
+
+// normalisedDen rescales a section denominator from s in rad/s to s in units
+// of the design's edge 2π·fp.
+func (d *Design) normalisedDen(den Poly) Poly {
+	w := 1.0
+	for i := range den {
+		den[i] *= w
+		w *= d.edgeW
+	}
+	return den
+}
+
+// Target returns the ideal cascade response at angular frequency w (rad/s):
+// the product of the ideal sections, unity passband gain.
+func (d *Design) Target(w float64) complex128 {
+	h := complex(1, 0)
+	for i := range d.Sections {
+		h *= d.Sections[i].Eval(w)
+	}
+	return h
+}
+
+// AttenuationAt returns the ideal design's attenuation at f (Hz) in positive
+// dB relative to the passband gain (which is 1).
+func (d *Design) AttenuationAt(f float64) float64 {
+	return Attenuation(d.Target(2 * math.Pi * f))
+}
+
+// TargetGroupDelay returns the ideal cascade's group delay in seconds at
+// angular frequency w.
+func (d *Design) TargetGroupDelay(w float64) float64 {
+	var t float64
+	for i := range d.Sections {
+		s := &d.Sections[i]
+		t += GroupDelayRational(s.Num, s.Den, s.Topology.Poles, w)
+	}
+	return t
+}
+
+// Attenuation returns -20·log10|h|: positive dB of loss for a response h
+// relative to unity gain.
+func Attenuation(h complex128) float64 { return -20 * math.Log10(cmplx.Abs(h)) }
+
+// explain fills the design's notes.
+func (d *Design) explain(minN int) {
+	s := &d.Spec
+	ap := d.AttenuationAt(s.Pass)
+	switch {
+	case s.Approx == Chebyshev:
+		d.note("fp %s is the edge of the %.4g dB ripple band", hzString(s.Pass), s.Ripple)
+		if d.Order%2 == 0 {
+			d.note("even order with unity-gain sections: the DC gain is the ripple minimum, so the passband rises up to %.4g dB above the DC gain and the attenuation at fp is 0 dB relative to DC", s.Ripple)
+		}
+	case s.Approx == Bessel && s.BesselNorm == BesselDelay:
+		d.note("unit-delay Bessel normalisation scaled to fp: group delay at DC %s, attenuation at fp %.3f dB, -3 dB at %s",
+			secondsString(d.TargetGroupDelay(0)), ap, hzString(d.halfPower()))
+	default:
+		if math.Abs(s.PassAtten-HalfPowerDB) < 1e-12 {
+			d.note("edge placed at the -3 dB point: %.4f dB at fp %s", ap, hzString(s.Pass))
+		} else {
+			d.note("edge placed to meet the passband exactly: %.4g dB at fp %s, -3 dB at %s", ap, hzString(s.Pass), hzString(d.halfPower()))
+		}
+	}
+	if s.Stop == 0 {
+		return
+	}
+	as := d.AttenuationAt(s.Stop)
+	switch {
+	case minN == 0:
+		d.note("no order up to %d meets %.4g dB at fs %s; order %d gives %.2f dB there", MaxOrder, s.StopAtten, hzString(s.Stop), d.Order, as)
+	case d.Order < minN:
+		d.note("order %d is below the minimum %d: %.2f dB at fs %s, %.2f dB short of the required %.4g dB", d.Order, minN, as, hzString(s.Stop), s.StopAtten-as, s.StopAtten)
+	case d.Order > minN:
+		d.note("order %d is above the minimum %d: the passband edge is met exactly and the slack goes to the stopband: %.2f dB at fs %s, margin %.2f dB", d.Order, minN, as, hzString(s.Stop), as-s.StopAtten)
+	default:
+		d.note("minimum order %d: %.2f dB at fs %s, margin %.2f dB over the required %.4g dB", d.Order, as, hzString(s.Stop), as-s.StopAtten, s.StopAtten)
+	}
+}
+
+func (d *Design) note(format string, args ...any) {
+	d.Notes = append(d.Notes, fmt.Sprintf(format, args...))
+}
+
+// halfPower returns the frequency in Hz where the ideal design's attenuation
+// (relative to its passband gain) is 3.0103 dB; the response of every
+// approximation here crosses that level once.
+func (d *Design) halfPower() float64 {
+	lo, hi := d.Spec.Pass, d.Spec.Pass
+	at := func(f float64) float64 {
+		a := d.AttenuationAt(f)
+		if d.Spec.Kind == HighPass {
+			return -a // attenuation falls with frequency
+		}
+		return a
+	}
+	target := HalfPowerDB
+	if d.Spec.Kind == HighPass {
+		target = -target
+	}
+	for at(lo) > target {
+		lo /= 2
+	}
+	for at(hi) < target {
+		hi *= 2
+	}
+	for it := 0; it < 200 && hi-lo > 1e-13*hi; it++ {
+		m := 0.5 * (lo + hi)
+		if at(m) < target {
+			lo = m
+		} else {
+			hi = m
+		}
+	}
+	return 0.5 * (lo + hi)
+}
+
+// hzString formats a frequency for notes and reasons: 1.5 kHz, 50 Hz.
+func hzString(f float64) string { return siString(f, "Hz") }
+
+func secondsString(t float64) string { return siString(t, "s") }
+
+// siString formats x with an SI prefix and four significant figures.
+func siString(x float64, unit string) string {
+	prefixes := []struct {
+		p string
+		v float64
+	}{{"G", 1e9}, {"M", 1e6}, {"k", 1e3}, {"", 1}, {"m", 1e-3}, {"µ", 1e-6}, {"n", 1e-9}, {"p", 1e-12}, {"f", 1e-15}}
+	ax := math.Abs(x)
+	for _, p := range prefixes {
+		if ax >= p.v*(1-5e-5) {
+			return fmt.Sprintf("%.4g %s%s", x/p.v, p.p, unit)
+		}
+	}
+	return fmt.Sprintf("%.4g %s", x, unit)
+}
