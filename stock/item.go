@@ -1,0 +1,176 @@
+package stock
+
+import (
+	"math"
+	"strconv"
+	"strings"
+	"unicode"
+	"unicode/utf8"
+
+	"drawerfit/fault"
+)
+
+// MaxText is the longest package, dielectric, location or note accepted, in
+// characters (a guard against pasted garbage; common practice, no source).
+const MaxText = 200
+
+// MaxQuantity is the largest quantity a row may hold: a billion parts, far
+// above any drawer, and small enough that sums of quantities cannot
+// overflow (common practice, no source).
+const MaxQuantity = 1_000_000_000
+
+// Item is one stock row: a number of identical parts in one place.
+type Item struct {
+	// ID is the row's number in the store; 0 for a row not yet stored.
+	ID int64
+	// Kind says whether this is a resistor or a capacitor.
+	Kind Kind
+	// Value is in ohms for resistors and farads for capacitors; > 0.
+	Value float64
+	// Tolerance is a fraction (0.01 is ±1 %); 0 means not stated.
+	Tolerance float64
+	// Quantity is the number of parts on hand; >= 0.
+	Quantity int
+	// Package is free text such as "0805", "1206" or "axial".
+	Package string
+	// Dielectric is the capacitor dielectric, as NormalizeDielectric writes
+	// it; always empty for resistors.
+	Dielectric string
+	// Location is the bin, drawer or reel label.
+	Location string
+	// Note is free text.
+	Note string
+}
+
+// Identity is what makes two stock rows the same row: kind, value,
+// tolerance, package, dielectric and location. Text fields compare without
+// regard to ASCII letter case ("a1" is bin "A1"), as the store's unique
+// index does. Quantity and note are not part of it.
+type Identity struct {
+	Kind       Kind
+	Value      float64
+	Tolerance  float64
+	Package    string // ASCII lower case
+	Dielectric string // ASCII lower case
+	Location   string // ASCII lower case
+}
+
+// asciiLower folds A-Z only, matching SQLite's NOCASE collation.
+func asciiLower(s string) string {
+	return strings.Map(func(r rune) rune {
+		if r >= 'A' && r <= 'Z' {
+			return r + ('a' - 'A')
+		}
+		return r
+	}, s)
+}
+
+// Identity returns the item's identity.
+func (it Item) Identity() Identity {
+	return Identity{
+		Kind: it.Kind, Value: it.Value, Tolerance: it.Tolerance,
+		Package: asciiLower(it.Package), Dielectric: asciiLower(it.Dielectric), Location: asciiLower(it.Location),
+	}
+}
+
+// Label is a short human description of the row without its quantity and
+// note: "4.7 kΩ 1% 0805 @A1" or "2.2 nF 5% C0G 0805 @B3".
+func (it Item) Label() string {
+	parts := []string{FormatValue(it.Value, it.Kind)}
+	for _, s := range []string{FormatTolerance(it.Tolerance), it.Dielectric, it.Package} {
+		if s != "" {
+			parts = append(parts, s)
+		}
+	}
+	if it.Location != "" {
+		parts = append(parts, "@"+it.Location)
+	}
+	return strings.Join(parts, " ")
+}
+
+// Normalize trims the text fields, collapses inner runs of white space in
+// package, dielectric and location, and canonicalises the dielectric
+// (NormalizeDielectric). The note is only trimmed.
+func (it Item) Normalize() Item {
+	squash := func(s string) string { return strings.Join(strings.Fields(s), " ") }
+	it.Package = squash(it.Package)
+	it.Dielectric = NormalizeDielectric(it.Dielectric)
+	it.Location = squash(it.Location)
+	it.Note = strings.TrimSpace(it.Note)
+	return it
+}
+
+// FieldError is a problem with one field of an item.
+type FieldError struct {
+	Field  string // column name: kind, value, tolerance, quantity, package, dielectric, location, note
+	Reason string
+}
+
+// Problems lists everything wrong with it (after Normalize, which callers
+// should apply first), or nil. Rules: a valid kind; a finite value within
+// the kind's bounds; a tolerance of 0 (not stated) or in (0, MaxTolerance];
+// a quantity in [0, MaxQuantity]; no dielectric on a resistor; text fields
+// valid UTF-8, free of control characters (the note may hold line breaks
+// and tabs) and at most MaxText characters.
+func (it Item) Problems() []FieldError {
+	var out []FieldError
+	add := func(f, r string) { out = append(out, FieldError{f, r}) }
+	if !it.Kind.Valid() {
+		add("kind", "unknown kind "+it.Kind.String())
+	} else {
+		lo, hi := MinResistance, MaxResistance
+		if it.Kind == Capacitor {
+			lo, hi = MinCapacitance, MaxCapacitance
+		}
+		if math.IsNaN(it.Value) || math.IsInf(it.Value, 0) || it.Value < lo || it.Value > hi {
+			add("value", "value "+strconv.FormatFloat(it.Value, 'g', -1, 64)+" is outside "+
+				FormatValue(lo, it.Kind)+" to "+FormatValue(hi, it.Kind))
+		}
+	}
+	if math.IsNaN(it.Tolerance) || it.Tolerance < 0 || it.Tolerance > MaxTolerance {
+		add("tolerance", "tolerance "+strconv.FormatFloat(it.Tolerance, 'g', -1, 64)+" is outside 0 to "+FormatTolerance(MaxTolerance))
+	}
+	if it.Quantity < 0 {
+		add("quantity", "quantity "+strconv.Itoa(it.Quantity)+" is negative")
+	} else if it.Quantity > MaxQuantity {
+		add("quantity", "quantity "+strconv.Itoa(it.Quantity)+" is above "+strconv.Itoa(MaxQuantity))
+	}
+	if it.Kind == Resistor && it.Dielectric != "" {
+		add("dielectric", "a resistor has no dielectric (put the resistor type in the note)")
+	}
+	for _, f := range []struct{ name, v string }{
+		{"package", it.Package}, {"dielectric", it.Dielectric}, {"location", it.Location}, {"note", it.Note},
+	} {
+		if r := textProblem(f.v, f.name == "note"); r != "" {
+			add(f.name, r)
+		}
+	}
+	return out
+}
+
+func textProblem(s string, multiline bool) string {
+	if !utf8.ValidString(s) {
+		return "not valid UTF-8"
+	}
+	if n := utf8.RuneCountInString(s); n > MaxText {
+		return "longer than " + strconv.Itoa(MaxText) + " characters"
+	}
+	for _, r := range s {
+		if multiline && (r == '\n' || r == '\t' || r == '\r') {
+			continue
+		}
+		if unicode.IsControl(r) {
+			return "contains a control character " + strconv.QuoteRune(r)
+		}
+	}
+	return ""
+}
+
+// Validate returns a fault.Invalid error naming the first problem of it,
+// or nil. It does not normalise.
+func (it Item) Validate() error {
+	if p := it.Problems(); len(p) > 0 {
+		return fault.Invalidf("%s: %s", p[0].Field, p[0].Reason)
+	}
+	return nil
+}
