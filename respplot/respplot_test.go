@@ -288,7 +288,7 @@ func TestSketch(t *testing.T) {
 		{"lowpass", lowpassResponse()},
 		{"highpass", &Response{Kind: synth.HighPass, Target: butterworth(3, 300, true),
 			Nominal: butterworth(3, 290, true), Limits: Limits{Fp: 300, Ap: 3.0103, Fs: 100, As: 25}}},
-		{"target only", &Response{Kind: synth.LowPass, Target: butterworth(2, 5000, false),
+		{"target-only", &Response{Kind: synth.LowPass, Target: butterworth(2, 5000, false),
 			Limits: Limits{Fp: 5000, Ap: 3.0103}}},
 	}
 	for _, c := range cases {
