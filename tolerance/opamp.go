@@ -1,0 +1,382 @@
+package tolerance
+
+import (
+	"fmt"
+	"math"
+	"math/cmplx"
+
+	"drawerfit/fault"
+	"drawerfit/optimize"
+	"drawerfit/synth"
+)
+
+// SectionResponse returns H(jω) of one section with element values v (SI
+// units, in Elements order) at angular frequency w, driven by a
+// single-pole op-amp follower A(s) = A0/(1 + s/ωa), ωa = 2π·GBW/A0 (the
+// model synth.Netlist writes: op.DCGain 0 means synth.DefaultDCGain, op.GBW
+// 0 a flat gain A0). A nil op is an ideal op-amp.
+//
+// Method: modified nodal analysis built from the topology's element list.
+// The unknowns are the voltages of every node except the input (driven at
+// 1 V) and ground; each node but the output gets Kirchhoff's current law,
+// and the output row is the follower's equation Vout = A(V+ - Vout), i.e.
+// Vout - A/(1+A)·V+ = 0 (the op-amp output is an ideal source, so the
+// output node needs no current balance, and the op-amp inputs draw no
+// current). The system (at most four unknowns) is solved by Gaussian
+// elimination with partial pivoting. It panics if len(v) does not match
+// the topology.
+func SectionResponse(t *synth.Topology, v []float64, op *synth.OpAmp, w float64) complex128 {
+	if len(v) != len(t.Elements) {
+		panic("tolerance: wrong number of element values for " + t.ID)
+	}
+	var idx [8]string
+	n := 0
+	index := func(name string) int {
+		if name == "in" || name == "0" {
+			return -1
+		}
+		for i := 0; i < n; i++ {
+			if idx[i] == name {
+				return i
+			}
+		}
+		idx[n] = name
+		n++
+		return n - 1
+	}
+	out := index("out")
+	plus := index(t.Plus)
+	type stamp struct {
+		a, b   int
+		aIn    bool
+		bIn    bool
+		admitt complex128
+	}
+	var st [8]stamp
+	for k, e := range t.Elements {
+		y := complex(1/v[k], 0)
+		if e.Kind == synth.Capacitor {
+			y = complex(0, w*v[k])
+		}
+		st[k] = stamp{a: index(e.From), b: index(e.To), aIn: e.From == "in", bIn: e.To == "in", admitt: y}
+	}
+	var m [8][9]complex128 // augmented matrix, column n is the right-hand side
+	for k := range t.Elements {
+		s := st[k]
+		for _, side := range [2]struct {
+			self, other int
+			otherIn     bool
+		}{{s.a, s.b, s.bIn}, {s.b, s.a, s.aIn}} {
+			if side.self < 0 || side.self == out {
+				continue
+			}
+			m[side.self][side.self] += s.admitt
+			switch {
+			case side.other >= 0:
+				m[side.self][side.other] -= s.admitt
+			case side.otherIn:
+				m[side.self][n] += s.admitt // 1 V at the input
+			}
+		}
+	}
+	m[out][out] = 1
+	m[out][plus] -= followerGain(op, w)
+	return solveOut(&m, n, out)
+}
+
+// followerGain is A/(1+A) for the single-pole model.
+func followerGain(op *synth.OpAmp, w float64) complex128 {
+	if op == nil {
+		return 1
+	}
+	a0 := op.DCGain
+	if a0 == 0 {
+		a0 = synth.DefaultDCGain
+	}
+	a := complex(a0, 0)
+	if op.GBW > 0 {
+		wa := 2 * math.Pi * op.GBW / a0
+		a = complex(a0, 0) / complex(1, w/wa)
+	}
+	return a / (1 + a)
+}
+
+// solveOut solves the n×n augmented system m and returns unknown k.
+func solveOut(m *[8][9]complex128, n, k int) complex128 {
+	x := solveAll(m, n)
+	return x[k]
+}
+
+// solveAll solves the n×n augmented system m (column n is the right-hand
+// side) by Gaussian elimination with partial pivoting; m is overwritten.
+func solveAll(m *[8][9]complex128, n int) [8]complex128 {
+	for c := 0; c < n; c++ {
+		p := c
+		for r := c + 1; r < n; r++ {
+			if cmplx.Abs(m[r][c]) > cmplx.Abs(m[p][c]) {
+				p = r
+			}
+		}
+		m[c], m[p] = m[p], m[c]
+		for r := c + 1; r < n; r++ {
+			f := m[r][c] / m[c][c]
+			if f == 0 {
+				continue
+			}
+			for q := c; q <= n; q++ {
+				m[r][q] -= f * m[c][q]
+			}
+		}
+	}
+	var x [8]complex128
+	for r := n - 1; r >= 0; r-- {
+		s := m[r][n]
+		for q := r + 1; q < n; q++ {
+			s -= m[r][q] * x[q]
+		}
+		x[r] = s / m[r][r]
+	}
+	return x
+}
+
+// opampBoard is a nominal board analysed with an op-amp model.
+type opampBoard struct {
+	b    *board
+	vals [][]float64
+	op   *synth.OpAmp
+}
+
+func (o *opampBoard) response(omega float64) complex128 {
+	h := complex(1, 0)
+	for si, s := range o.b.sections {
+		h *= SectionResponse(s.topo, o.vals[si], o.op, omega)
+	}
+	return h
+}
+
+func (o *opampBoard) gain2(omega float64) float64 {
+	h := o.response(omega)
+	return real(h)*real(h) + imag(h)*imag(h)
+}
+
+// GBWRule returns the op-amp gain-bandwidth a unity-gain section needs by
+// the rule of Op Amps for Everyone (Texas Instruments, SLOD006B, section
+// 16.8.4) and the rule's text: first order fT >= 100·fc; second order with
+// Q > 1 fT = 100·Q·f0·√((Q²-0.5)/(Q²-0.25)) (the book's 100·(fc/a)·... with
+// a = 1/(Q·w0)); second order with Q <= 1 the limiting form 100·Q·f0 (the
+// book's Q < 1 case as recalled from memory; DOMAIN.md gives the same
+// rough figure). A 3-pole section needs the larger of its pair's and its
+// real pole's figures. f0, realF0 in Hz; poles 1, 2 or 3.
+func GBWRule(poles int, f0, q, realF0 float64) (gbw float64, rule string) {
+	pair := func() (float64, string) {
+		if q > 1 {
+			return 100 * q * f0 * math.Sqrt((q*q-0.5)/(q*q-0.25)), "fT >= 100·Q·f0·√((Q²-0.5)/(Q²-0.25)) for Q > 1"
+		}
+		return 100 * q * f0, "fT >= 100·Q·f0 for Q <= 1"
+	}
+	switch poles {
+	case 1:
+		return 100 * f0, "fT >= 100·fc for a first-order section"
+	case 2:
+		return pair()
+	}
+	g, r := pair()
+	if g2 := 100 * realF0; g2 > g {
+		return g2, "fT >= 100·fc of the real pole"
+	}
+	return g, r
+}
+
+// GBWRuleSource names the published rule in every warning.
+const GBWRuleSource = "Op Amps for Everyone, section 16.8.4"
+
+// OpAmpSection is the op-amp check of one section.
+type OpAmpSection struct {
+	Section  int     `json:"section"` // 1-based
+	Topology string  `json:"topology"`
+	F0       float64 `json:"f0_hz"`
+	Q        float64 `json:"q"`
+	RealF0   float64 `json:"real_f0_hz,omitempty"`
+	// RequiredGBW is the gain-bandwidth the rule asks for (Hz), Rule the
+	// rule applied and OK whether the op-amp meets it.
+	RequiredGBW float64 `json:"required_gbw_hz"`
+	Rule        string  `json:"rule"`
+	OK          bool    `json:"ok"`
+	// ErrorDB is the largest change of the section's own response on the
+	// analysis band, dB.
+	ErrorDB float64 `json:"error_db"`
+}
+
+// OpAmpReport is the analysis of a candidate with a real op-amp.
+type OpAmpReport struct {
+	GBW    float64 `json:"gbw_hz"`
+	DCGain float64 `json:"dc_gain"` // V/V
+	// Rule names the source of the gain-bandwidth rule.
+	Rule     string         `json:"rule"`
+	Sections []OpAmpSection `json:"sections"`
+	// BandError is the largest change of the cascade's response the op-amp
+	// adds on the analysis band (fp/10 to fs for a low-pass, fs to 10·fp for
+	// a high-pass; without fs up to 3·fp or down to fp/3), dB.
+	BandError float64 `json:"band_error_db"`
+	// PassbandError is the largest change within the passband part of that
+	// band, dB.
+	PassbandError float64 `json:"passband_error_db"`
+	// Ideal and WithOpAmp are the candidate's figures with an ideal and with
+	// the modelled op-amp.
+	Ideal     Figures `json:"ideal"`
+	WithOpAmp Figures `json:"with_opamp"`
+	// UpperEdge is, for a high-pass, the frequency above the passband where
+	// the op-amp's falling gain brings the response 3 dB down (Hz; 0 for a
+	// low-pass or when not found below 1000·GBW).
+	UpperEdge float64  `json:"upper_edge_hz,omitempty"`
+	Warnings  []string `json:"warnings"`
+}
+
+// CheckOpAmp analyses candidate c with the single-pole op-amp op in every
+// section (see SectionResponse) against spec (zero: the candidate's own),
+// reports the response error the op-amp adds and warns for every section
+// whose gain-bandwidth is below the rule of GBWRule. Errors: fault.Invalid
+// for a non-positive or non-finite gain-bandwidth, a negative gain, a bad
+// specification or a malformed candidate.
+func CheckOpAmp(c *optimize.Candidate, spec synth.Spec, op synth.OpAmp) (*OpAmpReport, error) {
+	if !(op.GBW > 0) || math.IsInf(op.GBW, 0) {
+		return nil, fault.Invalidf("the op-amp gain-bandwidth must be a positive frequency, got %g Hz", op.GBW)
+	}
+	if op.DCGain < 0 || math.IsNaN(op.DCGain) || math.IsInf(op.DCGain, 0) {
+		return nil, fault.Invalidf("the op-amp DC gain must be positive, got %g", op.DCGain)
+	}
+	if op.DCGain == 0 {
+		op.DCGain = synth.DefaultDCGain
+	}
+	if c == nil {
+		return nil, fault.Invalidf("no design to analyse")
+	}
+	if spec.Pass == 0 && c.Design != nil {
+		spec = c.Design.Spec
+	}
+	if spec.Order == 0 && spec.Stop == 0 && c.Design != nil {
+		spec.Order = c.Design.Order
+	}
+	if err := spec.Normalize(); err != nil {
+		return nil, err
+	}
+	b, err := newBoard(c)
+	if err != nil {
+		return nil, err
+	}
+	order := 0
+	for _, s := range b.sections {
+		order += s.topo.Poles
+	}
+	j := newJudge(spec, b, order)
+	ws := b.newWorkspace()
+	ws.load(b.nominalParts())
+	ob := &opampBoard{b: b, vals: ws.vals, op: &op}
+	rep := &OpAmpReport{GBW: op.GBW, DCGain: op.DCGain, Rule: GBWRuleSource, Warnings: []string{}}
+
+	var none Options
+	rep.Ideal = figures(j, j.measure(ws, true), &none)
+	rep.WithOpAmp = figures(j, j.measure(ob, true), &none)
+
+	band := analysisBand(spec)
+	for si, s := range b.sections {
+		w0, q, wr := sectionPoles(ws.coeffs[si].den, s.topo.Poles)
+		os := OpAmpSection{Section: si + 1, Topology: s.topo.ID, F0: w0 / (2 * math.Pi), Q: q, RealF0: wr / (2 * math.Pi)}
+		os.RequiredGBW, os.Rule = GBWRule(s.topo.Poles, os.F0, os.Q, os.RealF0)
+		os.OK = op.GBW >= os.RequiredGBW
+		num, den := ws.coeffs[si].num, ws.coeffs[si].den
+		for _, f := range band {
+			w := 2 * math.Pi * f
+			ideal := synth.EvalRational(num, den, s.topo.Poles, w)
+			real := SectionResponse(s.topo, ws.vals[si], &op, w)
+			os.ErrorDB = math.Max(os.ErrorDB, math.Abs(dbRatio(real, ideal)))
+		}
+		if !os.OK {
+			desc := fmt.Sprintf("f0 %s, Q %.3g", hz(os.F0), os.Q)
+			if s.topo.Poles == 1 {
+				desc = fmt.Sprintf("fc %s", hz(os.F0))
+			}
+			rep.Warnings = append(rep.Warnings, fmt.Sprintf(
+				"section %d (%s, %s): the op-amp's gain-bandwidth %s is below the %s asked for by the rule of %s (%s); the op-amp changes this section's response by up to %.2f dB",
+				si+1, s.topo.Name, desc, hz(op.GBW), hz(os.RequiredGBW), GBWRuleSource, os.Rule, os.ErrorDB))
+		}
+		rep.Sections = append(rep.Sections, os)
+	}
+	for _, f := range band {
+		w := 2 * math.Pi * f
+		d := math.Abs(dbRatio(ob.response(w), complexGain(ws, w)))
+		rep.BandError = math.Max(rep.BandError, d)
+		if x := j.toX(f); x <= 1 {
+			rep.PassbandError = math.Max(rep.PassbandError, d)
+		}
+	}
+	if spec.Kind == synth.HighPass {
+		// Walk up from fp until the op-amp's roll-off takes the gain 3 dB
+		// below its passband value.
+		f := spec.Pass
+		for ; f < 1000*op.GBW; f *= 1.05 {
+			if ob.gain2(2*math.Pi*f) < 0.5 && f > 2*spec.Pass {
+				break
+			}
+		}
+		if f < 1000*op.GBW {
+			lo, hi := f/1.05, f
+			for it := 0; it < 60; it++ {
+				m := math.Sqrt(lo * hi)
+				if ob.gain2(2*math.Pi*m) < 0.5 {
+					hi = m
+				} else {
+					lo = m
+				}
+			}
+			rep.UpperEdge = math.Sqrt(lo * hi)
+			rep.Warnings = append(rep.Warnings, fmt.Sprintf(
+				"a high-pass passes only up to the op-amp's bandwidth: with this op-amp the response is 3 dB down again at %s", hz(rep.UpperEdge)))
+		}
+	}
+	if rep.Ideal.Pass && !rep.WithOpAmp.Pass {
+		rep.Warnings = append(rep.Warnings, "with this op-amp the design no longer meets the specification")
+	}
+	return rep, nil
+}
+
+// complexGain is the ideal cascade response of the loaded workspace.
+func complexGain(ws *workspace, w float64) complex128 {
+	h := complex(1, 0)
+	for i := range ws.coeffs {
+		c := &ws.coeffs[i]
+		h *= synth.EvalRational(c.num, c.den, c.poles, w)
+	}
+	return h
+}
+
+// dbRatio is 20·log10|a/b|.
+func dbRatio(a, b complex128) float64 {
+	return 20 * math.Log10(cmplx.Abs(a)/cmplx.Abs(b))
+}
+
+// analysisBand is the frequency grid of the op-amp error, 100 points per
+// decade (the density of the fit's scoring grid): fp/10 to fs for a
+// low-pass, fs to 10·fp for a high-pass; without fs, up to 3·fp (down to
+// fp/3). fp and fs are included exactly.
+func analysisBand(s synth.Spec) []float64 {
+	var lo, hi float64
+	if s.Kind == synth.LowPass {
+		lo, hi = s.Pass/10, 3*s.Pass
+		if s.Stop > 0 {
+			hi = s.Stop
+		}
+	} else {
+		lo, hi = s.Pass/3, 10*s.Pass
+		if s.Stop > 0 {
+			lo = s.Stop
+		}
+	}
+	dec := math.Log10(hi / lo)
+	n := int(math.Ceil(dec*100)) + 1
+	f := make([]float64, 0, n+1)
+	for i := 0; i < n; i++ {
+		f = append(f, lo*math.Pow(10, dec*float64(i)/float64(n-1)))
+	}
+	return append(f, s.Pass)
+}

@@ -1,0 +1,338 @@
+package tolerance
+
+import (
+	"fmt"
+	"math"
+	"sort"
+
+	"drawerfit/fault"
+	"drawerfit/optimize"
+	"drawerfit/synth"
+)
+
+// Caution is the reminder every tolerance or op-amp report carries.
+const Caution = "These are small-signal estimates: verify the circuit on the bench before production, " +
+	"choose capacitor voltage ratings to suit the circuit, and have circuits for safety-relevant, " +
+	"medical or mains-connected use reviewed by a qualified person under the applicable local rules."
+
+// Figures are one board's figures: the nominal design's or a trial's.
+type Figures struct {
+	// PassVariation is the passband variation in dB: the largest minus the
+	// smallest gain between DC (infinite frequency for a high-pass) and fp.
+	// For a monotonic response it is the attenuation at fp; for Chebyshev it
+	// is the ripple.
+	PassVariation float64 `json:"pass_variation_db"`
+	// StopAtten is the least attenuation in the stopband (at fs), dB relative
+	// to the passband gain; absent without a stopband.
+	StopAtten *float64 `json:"stop_atten_db,omitempty"`
+	// Edge is the -3 dB frequency (the ripple-band edge for Chebyshev), Hz.
+	Edge float64 `json:"edge_hz"`
+	// Pass says whether the figures are inside the acceptance window.
+	Pass bool `json:"pass"`
+}
+
+// Margins are acceptance windows that would give the target yield, dB.
+type Margins struct {
+	// Balanced widens both limits by the same amount.
+	Balanced float64 `json:"balanced_db"`
+	// PassOnly widens only the passband limit (stop margin as given);
+	// absent when no passband margin suffices.
+	PassOnly *float64 `json:"pass_only_db,omitempty"`
+	// StopOnly widens only the stopband limit (pass margin as given).
+	StopOnly *float64 `json:"stop_only_db,omitempty"`
+}
+
+// Refit is the analysis of the design fitted again with its edge moved
+// inside the specification.
+type Refit struct {
+	// Spec is the specification the design was fitted to (the acceptance is
+	// still judged against the original).
+	Spec synth.Spec `json:"-"`
+	// Pass is the new passband edge in Hz; Ripple the new Chebyshev ripple.
+	Pass   float64 `json:"pass_hz"`
+	Ripple float64 `json:"ripple_db,omitempty"`
+	// Margin is the balanced design margin at fp and fs (dB each).
+	Margin    float64             `json:"margin_db"`
+	Yield     float64             `json:"yield"`
+	CILow     float64             `json:"ci_low"`
+	CIHigh    float64             `json:"ci_high"`
+	Candidate *optimize.Candidate `json:"-"`
+}
+
+// Result is a yield analysis. Every float is finite (the result encodes as
+// JSON); optional figures are nil pointers or empty.
+type Result struct {
+	// Yield is the fraction of trials that pass; CILow and CIHigh its
+	// Wilson 95 % confidence interval.
+	Yield  float64 `json:"yield"`
+	CILow  float64 `json:"ci_low"`
+	CIHigh float64 `json:"ci_high"`
+	Trials int     `json:"trials"`
+	Passed int     `json:"passed"`
+	Seed   uint64  `json:"seed"`
+	Dist   Dist    `json:"dist"`
+	// PassMargin and StopMargin are the acceptance window used (dB beyond
+	// the spec's limits).
+	PassMargin  float64 `json:"pass_margin_db"`
+	StopMargin  float64 `json:"stop_margin_db"`
+	TargetYield float64 `json:"target_yield"`
+	// FailPassband and FailStopband count the trials outside each limit
+	// (a trial may fail both).
+	FailPassband int `json:"fail_passband"`
+	FailStopband int `json:"fail_stopband"`
+	// Nominal are the figures of the board with every part at its nominal
+	// value.
+	Nominal Figures `json:"nominal"`
+	// EdgeKind names what Edge measures: "-3 dB frequency" or
+	// "ripple-band edge".
+	EdgeKind      string       `json:"edge_kind"`
+	Edge          *Percentiles `json:"edge_hz,omitempty"`
+	PassVariation *Percentiles `json:"pass_variation_db,omitempty"`
+	StopAtten     *Percentiles `json:"stop_atten_db,omitempty"`
+	// Blame lists each component's share of the failures, largest first;
+	// Unattributed is the share no single component explains.
+	Blame        []Blame `json:"blame"`
+	Unattributed float64 `json:"unattributed"`
+	// Needed is the acceptance window that would give the target yield
+	// (nil when the target is met).
+	Needed        *Margins             `json:"needed_margin,omitempty"`
+	WorstCase     *WorstCase           `json:"worst_case,omitempty"`
+	Sensitivities []SectionSensitivity `json:"sensitivities"`
+	Remedies      []Remedy             `json:"remedies,omitempty"`
+	Refit         *Refit               `json:"refit,omitempty"`
+	// Advice and Warnings are sentences for people.
+	Advice   []string `json:"advice"`
+	Warnings []string `json:"warnings"`
+}
+
+// Run estimates the yield of candidate c against spec by Monte Carlo.
+//
+// Every physical part is drawn independently within its stock row's
+// tolerance (opt.Dist), series and parallel combinations are built from the
+// drawn parts, the cascade is analysed exactly from the topologies' closed
+// forms, and each trial is judged against the specification widened by the
+// margins. A zero spec (Pass == 0) means the candidate's own design
+// specification. Errors: fault.Invalid for bad options, a bad specification
+// or a malformed candidate. With opt.Refit set, errors of the refit are
+// reported as warnings, not returned.
+func Run(c *optimize.Candidate, spec synth.Spec, opt Options) (*Result, error) {
+	if err := opt.normalize(); err != nil {
+		return nil, err
+	}
+	if c == nil {
+		return nil, fault.Invalidf("no design to analyse")
+	}
+	if spec.Pass == 0 && c.Design != nil {
+		spec = c.Design.Spec
+	}
+	if spec.Order == 0 && spec.Stop == 0 && c.Design != nil {
+		spec.Order = c.Design.Order
+	}
+	if err := spec.Normalize(); err != nil {
+		return nil, err
+	}
+	b, err := newBoard(c)
+	if err != nil {
+		return nil, err
+	}
+	order := 0
+	for _, s := range b.sections {
+		order += s.topo.Poles
+	}
+	j := newJudge(spec, b, order)
+	tol := make([]float64, len(b.parts))
+	for i, p := range b.parts {
+		tol[i] = p.tol
+	}
+
+	r := &Result{Trials: opt.Trials, Seed: opt.Seed, Dist: opt.Dist, PassMargin: opt.PassMargin,
+		StopMargin: opt.StopMargin, TargetYield: opt.TargetYield, EdgeKind: "-3 dB frequency",
+		Advice: []string{}, Warnings: []string{}}
+	if j.cheb {
+		r.EdgeKind = "ripple-band edge"
+	}
+	ws := b.newWorkspace()
+	ws.load(b.nominalParts())
+	nm := j.measure(ws, true)
+	r.Nominal = figures(j, nm, &opt)
+
+	ts := simulate(b, j, tol, &opt, true, true)
+	r.Passed = ts.passed()
+	r.Yield = float64(r.Passed) / float64(opt.Trials)
+	r.CILow, r.CIHigh = Wilson(r.Passed, opt.Trials, z95)
+	for i := range ts.pass {
+		if ts.passEx[i] > opt.PassMargin {
+			r.FailPassband++
+		}
+		if ts.stopEx[i] > opt.StopMargin {
+			r.FailStopband++
+		}
+	}
+	r.Edge = percentiles(ts.edge)
+	r.PassVariation = percentiles(ts.passVar)
+	if j.hasStop {
+		r.StopAtten = percentiles(ts.stopAtt)
+	}
+	r.Blame, r.Unattributed = blameTable(b, ts)
+	if r.Blame == nil {
+		r.Blame = []Blame{}
+	}
+	r.Sensitivities = sensitivities(b)
+	if r.Yield < opt.TargetYield {
+		r.Needed = neededMargins(ts, &opt)
+	}
+	r.Warnings = append(r.Warnings, limitWarnings(j, nm, ts, &opt)...)
+
+	if !opt.Brief {
+		r.WorstCase = corners(b, j, tol, &opt)
+		if r.Yield < opt.TargetYield && r.Nominal.Pass {
+			r.Remedies = remedies(b, j, &opt, r.Blame, tol)
+		}
+		if opt.Refit != nil && r.Yield < opt.TargetYield && r.Nominal.Pass && c.Design != nil {
+			r.Refit, err = refit(b, c, spec, opt)
+			if err != nil {
+				r.Warnings = append(r.Warnings, fmt.Sprintf("the design could not be fitted again with its edge moved inside the specification: %v", err))
+			}
+		}
+	}
+	r.Advice = advice(r, j)
+	return r, nil
+}
+
+// figures converts measured metrics into reported figures.
+func figures(j *judge, m metrics, opt *Options) Figures {
+	f := Figures{PassVariation: m.passVar, Edge: m.edge}
+	if math.IsNaN(f.Edge) {
+		f.Edge = 0
+	}
+	if j.hasStop {
+		a := m.stopAtt
+		f.StopAtten = &a
+	}
+	f.Pass = j.passExcess(m) <= opt.PassMargin && j.stopExcess(m) <= opt.StopMargin
+	return f
+}
+
+// neededMargins finds, from the trials' excesses over the spec limits, the
+// acceptance windows that would pass the target fraction of the boards.
+func neededMargins(ts *trialSet, opt *Options) *Margins {
+	n := len(ts.pass)
+	need := int(math.Ceil(opt.TargetYield*float64(n) - 1e-9))
+	need = max(1, min(need, n))
+	u := make([]float64, n)
+	for i := range u {
+		u[i] = math.Max(ts.passEx[i], ts.stopEx[i])
+	}
+	sort.Float64s(u)
+	m := &Margins{Balanced: math.Max(0, u[need-1])}
+	// One limit widened, the other as given.
+	only := func(ex, other []float64, otherMargin float64) *float64 {
+		var v []float64
+		for i := range ex {
+			if other[i] <= otherMargin {
+				v = append(v, ex[i])
+			}
+		}
+		if len(v) < need {
+			return nil
+		}
+		sort.Float64s(v)
+		x := math.Max(0, v[need-1])
+		return &x
+	}
+	m.PassOnly = only(ts.passEx, ts.stopEx, opt.StopMargin)
+	m.StopOnly = only(ts.stopEx, ts.passEx, opt.PassMargin)
+	return m
+}
+
+// limitWarnings says plainly when the nominal response sits on a limit or
+// outside it.
+func limitWarnings(j *judge, nm metrics, ts *trialSet, opt *Options) []string {
+	var w []string
+	n := float64(len(ts.pass))
+	check := func(name, at string, nomEx float64, ex []float64, margin float64) {
+		p := percentiles(ex)
+		if p == nil {
+			return
+		}
+		fails := 0
+		for _, e := range ex {
+			if e > margin {
+				fails++
+			}
+		}
+		inside := margin - nomEx
+		spread := p.P95 - p.P5
+		switch {
+		case inside < 0:
+			w = append(w, fmt.Sprintf("the nominal design fails the %s limit by %.3f dB at %s: no tolerance can fix that; %s of the trials fail there",
+				name, -inside, at, pct(float64(fails)/n)))
+		case inside < 0.1*spread:
+			// Within a tenth of the 5-95 % spread: on the limit for all
+			// practical purposes.
+			w = append(w, fmt.Sprintf("the nominal response sits on the %s limit (%.3f dB inside it at %s, while tolerances spread it over %.2f dB, 5th to 95th percentile): %s of the boards fail there",
+				name, inside, at, spread, pct(float64(fails)/n)))
+		}
+	}
+	check("passband", fmt.Sprintf("fp %s", hz(j.fp)), j.passExcess(nm), ts.passEx, opt.PassMargin)
+	if j.hasStop {
+		check("stopband", fmt.Sprintf("fs %s", hz(j.fs)), j.stopExcess(nm), ts.stopEx, opt.StopMargin)
+	}
+	return w
+}
+
+// advice turns the computed figures into sentences.
+func advice(r *Result, j *judge) []string {
+	a := []string{}
+	if r.Yield >= r.TargetYield {
+		a = append(a, fmt.Sprintf("%s of the boards pass (95%% interval %s to %s), at or above the target %s.",
+			pct(r.Yield), pct(r.CILow), pct(r.CIHigh), pct(r.TargetYield)))
+		return a
+	}
+	a = append(a, fmt.Sprintf("%s of the boards pass (95%% interval %s to %s), below the target %s.",
+		pct(r.Yield), pct(r.CILow), pct(r.CIHigh), pct(r.TargetYield)))
+	if len(r.Blame) > 0 {
+		top := r.Blame[0]
+		a = append(a, fmt.Sprintf("%s of section %d causes the most failures (%s of them).", top.Ref, top.Section, pct(top.Share)))
+	}
+	for _, rm := range r.Remedies {
+		if rm.Reaches {
+			a = append(a, fmt.Sprintf("A %s part for %s of section %d (now %s) raises the yield to %s (computed with the same seed).",
+				tolString(rm.To), rm.Ref, rm.Section, tolString(rm.From), pct(rm.Yield)))
+		} else {
+			a = append(a, fmt.Sprintf("Even a %s part for %s of section %d (now %s) gives only %s: other parts matter too.",
+				tolString(rm.To), rm.Ref, rm.Section, tolString(rm.From), pct(rm.Yield)))
+		}
+	}
+	if m := r.Needed; m != nil {
+		s := fmt.Sprintf("To pass %s of the boards as they are, the acceptance window would need %.2f dB more at both limits",
+			pct(r.TargetYield), m.Balanced)
+		if m.PassOnly != nil {
+			s += fmt.Sprintf(", or %.2f dB more at the passband limit alone", *m.PassOnly)
+		}
+		if m.StopOnly != nil && j.hasStop {
+			s += fmt.Sprintf(", or %.2f dB less at the stopband limit alone", *m.StopOnly)
+		}
+		a = append(a, s+" (--pass-margin, --stop-margin).")
+	}
+	if rf := r.Refit; rf != nil {
+		what := fmt.Sprintf("its edge moved to %s", hz(rf.Pass))
+		if rf.Ripple > 0 {
+			what = fmt.Sprintf("its ripple reduced to %.3g dB", rf.Ripple)
+		}
+		a = append(a, fmt.Sprintf("The same order fitted with %s (design margins balanced at %.2f dB at fp and fs) passes %s of the boards (95%% interval %s to %s).",
+			what, rf.Margin, pct(rf.Yield), pct(rf.CILow), pct(rf.CIHigh)))
+	}
+	return a
+}
+
+// hz formats a frequency for messages.
+func hz(f float64) string {
+	switch {
+	case f >= 1e6:
+		return fmt.Sprintf("%.4g MHz", f/1e6)
+	case f >= 1e3:
+		return fmt.Sprintf("%.4g kHz", f/1e3)
+	}
+	return fmt.Sprintf("%.4g Hz", f)
+}

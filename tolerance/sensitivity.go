@@ -1,0 +1,150 @@
+package tolerance
+
+import (
+	"math"
+)
+
+// ComponentSensitivity holds the normalised sensitivities of a section's
+// pole data to one component: S = ∂ln y / ∂ln x, so that a 1 % change of
+// the component changes y by about S %.
+type ComponentSensitivity struct {
+	Ref    string  `json:"ref"`
+	Symbol string  `json:"symbol"`
+	F0     float64 `json:"f0"`
+	Q      float64 `json:"q"`
+	// RealF0 is the sensitivity of a 3-pole section's real pole (0 otherwise).
+	RealF0 float64 `json:"real_f0,omitempty"`
+}
+
+// SectionSensitivity lists the sensitivities of one section.
+type SectionSensitivity struct {
+	Section    int                    `json:"section"` // 1-based
+	Topology   string                 `json:"topology"`
+	F0         float64                `json:"f0_hz"` // nominal, of the pair (or the 1-pole section's pole)
+	Q          float64                `json:"q"`
+	RealF0     float64                `json:"real_f0_hz,omitempty"`
+	Components []ComponentSensitivity `json:"components"`
+}
+
+// sensStep is the relative step of the central differences on ln x: small
+// enough that the truncation error (about step², 1e-12) is negligible and
+// large enough that rounding (about 1e-16/step) is too.
+const sensStep = 1e-6
+
+// sensitivities computes the normalised sensitivities of every section's f0,
+// Q (and real pole) to each of its components by a central difference of
+// the exact closed-form coefficients.
+func sensitivities(b *board) []SectionSensitivity {
+	ws := b.newWorkspace()
+	nom := b.nominalParts()
+	ws.load(nom)
+	out := make([]SectionSensitivity, len(b.sections))
+	for si, s := range b.sections {
+		t := s.topo
+		w0, q, wr := sectionPoles(ws.coeffs[si].den, t.Poles)
+		ss := SectionSensitivity{Section: si + 1, Topology: t.ID, F0: w0 / (2 * math.Pi), Q: q, RealF0: wr / (2 * math.Pi)}
+		v := append([]float64(nil), ws.vals[si]...)
+		for k, ci := range s.comps {
+			x := v[k]
+			v[k] = x * math.Exp(sensStep)
+			_, dp := t.Coeffs(v)
+			w0p, qp, wrp := sectionPoles(dp, t.Poles)
+			v[k] = x * math.Exp(-sensStep)
+			_, dm := t.Coeffs(v)
+			w0m, qm, wrm := sectionPoles(dm, t.Poles)
+			v[k] = x
+			cs := ComponentSensitivity{Ref: b.comps[ci].ref, Symbol: b.comps[ci].symbol,
+				F0: math.Log(w0p/w0m) / (2 * sensStep)}
+			if t.Poles >= 2 {
+				cs.Q = math.Log(qp/qm) / (2 * sensStep)
+			}
+			if t.Poles == 3 {
+				cs.RealF0 = math.Log(wrp/wrm) / (2 * sensStep)
+			}
+			ss.Components = append(ss.Components, cs)
+		}
+		out[si] = ss
+	}
+	return out
+}
+
+// WorstCase is the corner analysis: every part at a limit of its tolerance,
+// in the direction (found from the sensitivities) that hurts each figure
+// most. Corners are evaluated exactly, not extrapolated.
+type WorstCase struct {
+	// PassVariation is the largest passband variation found (dB) and
+	// PassOK whether it is within the acceptance window.
+	PassVariation float64 `json:"pass_variation_db"`
+	PassOK        bool    `json:"pass_ok"`
+	// StopAtten is the smallest attenuation at fs (dB) and StopOK whether it
+	// is within the acceptance window; absent without a stopband.
+	StopAtten *float64 `json:"stop_atten_db,omitempty"`
+	StopOK    bool     `json:"stop_ok"`
+	// EdgeLow and EdgeHigh are the lowest and highest edge frequencies (Hz):
+	// the -3 dB point, or the ripple-band edge for Chebyshev.
+	EdgeLow  float64 `json:"edge_low_hz"`
+	EdgeHigh float64 `json:"edge_high_hz"`
+}
+
+// corners finds the worst-case corners. The direction of each part comes
+// from the sign of a central difference (relative step 1e-4, large enough
+// to stand clear of the root-search resolution) of the figure with respect
+// to the part's value.
+func corners(b *board, j *judge, tol []float64, opt *Options) *WorstCase {
+	const h = 1e-4
+	ws := b.newWorkspace()
+	nom := b.nominalParts()
+	parts := append([]float64(nil), nom...)
+	n := len(b.parts)
+	dPass, dStop, dEdge := make([]float64, n), make([]float64, n), make([]float64, n)
+	for i := range b.parts {
+		if tol[i] == 0 {
+			continue
+		}
+		si := b.comps[b.parts[i].comp].section
+		parts[i] = nom[i] * (1 + h)
+		ws.load(parts)
+		mp := j.measure(ws, true)
+		parts[i] = nom[i] * (1 - h)
+		ws.loadSection(si, parts)
+		mm := j.measure(ws, true)
+		parts[i] = nom[i]
+		dPass[i] = mp.passVar - mm.passVar
+		dStop[i] = mp.stopAtt - mm.stopAtt
+		dEdge[i] = mp.edge - mm.edge
+	}
+	corner := func(d []float64, sign float64) metrics {
+		for i := range parts {
+			s := 0.0
+			switch {
+			case d[i]*sign > 0:
+				s = 1
+			case d[i]*sign < 0:
+				s = -1
+			}
+			parts[i] = nom[i] * (1 + s*tol[i])
+		}
+		ws.load(parts)
+		m := j.measure(ws, true)
+		copy(parts, nom)
+		return m
+	}
+	wc := &WorstCase{}
+	mp := corner(dPass, 1)
+	wc.PassVariation = mp.passVar
+	wc.PassOK = j.passExcess(mp) <= opt.PassMargin
+	if j.hasStop {
+		ms := corner(dStop, -1)
+		a := ms.stopAtt
+		wc.StopAtten = &a
+		wc.StopOK = j.stopExcess(ms) <= opt.StopMargin
+	} else {
+		wc.StopOK = true
+	}
+	wc.EdgeLow = corner(dEdge, -1).edge
+	wc.EdgeHigh = corner(dEdge, 1).edge
+	if math.IsNaN(wc.EdgeLow) || math.IsNaN(wc.EdgeHigh) {
+		wc.EdgeLow, wc.EdgeHigh = 0, 0
+	}
+	return wc
+}
