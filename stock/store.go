@@ -76,10 +76,13 @@ type ImportSummary struct {
 	Added int
 	// Merged is the number of items whose identity already existed (in the
 	// store, or earlier in the same import) and whose quantity was added to
-	// that row.
+	// that row. With replace only duplicates within the items count here.
 	Merged int
+	// Kept is the number of rows that a replacing import found already in
+	// the store and set to the items' quantity.
+	Kept int
 	// Removed is the number of rows that a replacing import took out
-	// because the file does not have them.
+	// because the items do not have them.
 	Removed int
 	// Units is the total number of parts added (negative if a replacing
 	// import lowered the total).

@@ -1,0 +1,205 @@
+// Package store keeps drawerfit's inventory in a SQLite file (pure Go,
+// modernc.org/sqlite). *DB implements stock.Store.
+//
+// Every connection gets its settings from the connection string: foreign
+// keys on, WAL journal, synchronous=FULL, a busy timeout, and transactions
+// that begin IMMEDIATE (they take the write lock at the start, so two
+// processes never deadlock upgrading a read to a write; the later one waits
+// up to the busy timeout). The schema is the numbered files of package
+// drawerfit/migrations, applied on Open.
+//
+// Public methods each run in one transaction and call private helpers that
+// take the transaction. Other packages that keep their own tables in the
+// same file (added as new migrations) share transactions through DB.Tx,
+// whose *Tx offers the stock operations (Tx.Adjust, Tx.Get, ...) next to
+// the plain *sql.Tx.
+package store
+
+import (
+	"context"
+	"database/sql"
+	"errors"
+	"fmt"
+	"net/url"
+	"os"
+	"path/filepath"
+	"time"
+
+	_ "modernc.org/sqlite" // registers the "sqlite" driver
+
+	"drawerfit/fault"
+	"drawerfit/migrations"
+	"drawerfit/stock"
+)
+
+// BusyTimeout is how long a connection waits for another process's write
+// transaction to finish before giving up (common practice, no source: long
+// enough for any stock command, short enough to report a stuck process).
+const BusyTimeout = 10 * time.Second
+
+// DB is an open stock database. Its methods are safe for concurrent use.
+type DB struct {
+	sql  *sql.DB
+	path string
+
+	// Now is the clock for ledger and row times (time.Now when nil). Tests
+	// set it before use.
+	Now func() time.Time
+}
+
+var _ stock.Store = (*DB)(nil)
+
+// pragmas are applied to every pooled connection.
+func dsnQuery(wal bool) string {
+	q := url.Values{}
+	q.Add("_pragma", fmt.Sprintf("busy_timeout(%d)", BusyTimeout.Milliseconds()))
+	q.Add("_pragma", "foreign_keys(1)")
+	if wal {
+		q.Add("_pragma", "journal_mode(WAL)")
+		// FULL: a commit survives power loss too, not only a crash; the
+		// ledger is small, the fsync cheap.
+		q.Add("_pragma", "synchronous(FULL)")
+	}
+	q.Set("_txlock", "immediate")
+	return q.Encode()
+}
+
+// Open opens the stock database at path, creating the file (not its
+// directory) if it does not exist, and brings its schema up to date. It
+// refuses a file whose schema is newer than this binary knows (a
+// fault.Conflict naming both versions) and a SQLite file that is not a
+// drawerfit database.
+func Open(path string) (*DB, error) {
+	if path == "" {
+		return nil, fault.Invalidf("no database path given")
+	}
+	abs, err := filepath.Abs(path)
+	if err != nil {
+		return nil, fmt.Errorf("open stock database %s: %w", path, err)
+	}
+	if fi, err := os.Stat(abs); err == nil && fi.IsDir() {
+		return nil, fault.Invalidf("stock database %s is a directory", path)
+	}
+	u := url.URL{Scheme: "file", Path: filepath.ToSlash(abs), RawQuery: dsnQuery(true)}
+	sdb, err := sql.Open("sqlite", u.String())
+	if err != nil {
+		return nil, fmt.Errorf("open stock database %s: %w", path, err)
+	}
+	db := &DB{sql: sdb, path: abs}
+	if err := db.init(context.Background()); err != nil {
+		sdb.Close()
+		return nil, err
+	}
+	return db, nil
+}
+
+// OpenMemory opens a new, empty in-memory database with the current schema.
+// It uses a single connection (each SQLite connection to :memory: is its own
+// database). For tests and for one-shot runs on a CSV file.
+func OpenMemory() (*DB, error) {
+	sdb, err := sql.Open("sqlite", "file::memory:?"+dsnQuery(false))
+	if err != nil {
+		return nil, fmt.Errorf("open memory database: %w", err)
+	}
+	sdb.SetMaxOpenConns(1)
+	sdb.SetMaxIdleConns(1)
+	sdb.SetConnMaxLifetime(0)
+	sdb.SetConnMaxIdleTime(0)
+	db := &DB{sql: sdb, path: ":memory:"}
+	if err := db.init(context.Background()); err != nil {
+		sdb.Close()
+		return nil, err
+	}
+	return db, nil
+}
+
+func (db *DB) init(ctx context.Context) error {
+	if err := db.sql.PingContext(ctx); err != nil {
+		return fmt.Errorf("open stock database %s: %w", db.path, err)
+	}
+	return migrate(ctx, db.sql, db.path, migrations.All())
+}
+
+// Close closes the database.
+func (db *DB) Close() error { return db.sql.Close() }
+
+// Path returns the database file's absolute path (":memory:" for
+// OpenMemory).
+func (db *DB) Path() string { return db.path }
+
+// SQL returns the underlying pool for read-only queries by packages that
+// keep their own tables in the same file. Write through DB.Tx.
+func (db *DB) SQL() *sql.DB { return db.sql }
+
+// SchemaVersion returns the schema version recorded in the file.
+func (db *DB) SchemaVersion(ctx context.Context) (int, error) {
+	var v int
+	if err := db.sql.QueryRowContext(ctx, `SELECT COALESCE(MAX(version), 0) FROM schema_version`).Scan(&v); err != nil {
+		return 0, fmt.Errorf("read schema version: %w", err)
+	}
+	return v, nil
+}
+
+func (db *DB) now() time.Time {
+	if db.Now != nil {
+		return db.Now().UTC()
+	}
+	return time.Now().UTC()
+}
+
+// Tx is one write transaction, handed to the function given to DB.Tx. It
+// embeds *sql.Tx for a package's own statements and offers the stock
+// operations so that they commit or roll back together with them. Do not
+// call Commit or Rollback: DB.Tx does.
+type Tx struct {
+	*sql.Tx
+	at time.Time
+}
+
+// Now returns the transaction's time: DB.Now read once when it began, so
+// every row the transaction writes carries the same time.
+func (tx *Tx) Now() time.Time { return tx.at }
+
+// Tx runs fn inside one write transaction: it commits if fn returns nil and
+// rolls back if fn returns an error or panics (the panic continues). The
+// transaction takes the database's write lock at its start, so fn may read
+// and then write without another process changing the rows in between.
+// fn's error is returned unchanged.
+func (db *DB) Tx(ctx context.Context, fn func(tx *Tx) error) (err error) {
+	stx, err := db.sql.BeginTx(ctx, nil)
+	if err != nil {
+		return fmt.Errorf("begin transaction: %w", err)
+	}
+	done := false
+	defer func() {
+		if !done {
+			_ = stx.Rollback()
+		}
+	}()
+	if err := fn(&Tx{Tx: stx, at: db.now()}); err != nil {
+		return err
+	}
+	done = true
+	if err := stx.Commit(); err != nil {
+		_ = stx.Rollback()
+		return fmt.Errorf("commit: %w", err)
+	}
+	return nil
+}
+
+// timeFormat keeps fixed-width UTC times so that text order is time order.
+const timeFormat = "2006-01-02T15:04:05.000000000Z"
+
+func formatTime(t time.Time) string { return t.UTC().Format(timeFormat) }
+
+func parseTime(s string) (time.Time, error) {
+	t, err := time.Parse(timeFormat, s)
+	if err != nil {
+		t, err = time.Parse(time.RFC3339Nano, s)
+	}
+	return t, err
+}
+
+var errNoRows = sql.ErrNoRows
+
+func isNoRows(err error) bool { return errors.Is(err, errNoRows) }
