@@ -419,7 +419,9 @@ func custom(plus string, els ...synth.Element) *synth.Topology {
 }
 
 func TestUndrawable(t *testing.T) {
-	r := func(ref, a, b string) synth.Element { return synth.Element{Ref: ref, Kind: synth.Resistor, From: a, To: b} }
+	r := func(ref, a, b string) synth.Element {
+		return synth.Element{Ref: ref, Kind: synth.Resistor, From: a, To: b}
+	}
 	cases := []struct {
 		name string
 		top  *synth.Topology
