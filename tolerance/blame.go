@@ -59,7 +59,7 @@ func (bl *blamer) assign(ws *workspace, parts []float64, pe, se float64) []float
 		v := bl.violation(bl.j.passExcess(m), bl.j.stopExcess(m))
 		copy(bl.scratch[c.lo:c.hi], parts[c.lo:c.hi])
 		ws.loadSection(c.section, parts)
-		if v <= 0 {
+		if v <= judgeSlack {
 			// Mark decisive components with -1 until counted.
 			w[ci] = -1
 			decisive++
@@ -193,7 +193,7 @@ func remedies(b *board, j *judge, opt *Options, blame []Blame, baseTol []float64
 			lo, hi := Wilson(k, opt.Trials, z95)
 			r := Remedy{Ref: bl.Ref, Section: bl.Section, From: bl.Tolerance, To: step,
 				Yield: float64(k) / float64(opt.Trials), CILow: lo, CIHigh: hi,
-				Reaches: float64(k) >= opt.TargetYield*float64(opt.Trials)}
+				Reaches: float64(k) >= opt.TargetYield*float64(opt.Trials)-1e-9}
 			best = &r
 			if r.Reaches {
 				break

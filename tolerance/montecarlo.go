@@ -69,7 +69,7 @@ type Options struct {
 	// Dist is the distribution of part values ("" means Uniform).
 	Dist Dist
 	// PassMargin and StopMargin widen the acceptance window in dB: a board
-	// passes if its passband variation is at most Ap + PassMargin and its
+	// passes if its passband attenuation (for Chebyshev its ripple) is at most Ap + PassMargin and its
 	// attenuation at fs at least As - StopMargin. Zero: the spec itself.
 	PassMargin, StopMargin float64
 	// TargetYield is the yield the margin and tolerance advice aims for
@@ -176,10 +176,22 @@ func drawParts(b *board, tol, dev, parts []float64) {
 type trialSet struct {
 	passEx, stopEx []float64 // dB excess over the spec limits (<= margin passes)
 	stopAtt        []float64 // dB at fs
-	passVar        []float64 // dB
+	passAtt        []float64 // dB
 	edge           []float64 // Hz (NaN if not found)
 	pass           []bool
 	blame          [][]float64 // per trial (failing only): weight per component
+	// f0 and q are per section, per trial: the natural frequency (Hz) and
+	// Q of the section's pair (of the pole for a 1-pole section).
+	f0, q [][]float64
+}
+
+// judgeSlack absorbs rounding when a board meets a limit exactly (dB; the
+// same figure as synth's order search uses, far below anything measurable).
+const judgeSlack = 1e-9
+
+// accept says whether excesses over the spec limits are inside the window.
+func accept(pe, se float64, opt *Options) bool {
+	return pe <= opt.PassMargin+judgeSlack && se <= opt.StopMargin+judgeSlack
 }
 
 // simulate runs trials 0..n-1 over opt.Workers goroutines. Each worker
@@ -190,11 +202,17 @@ func simulate(b *board, j *judge, tol []float64, opt *Options, needEdge, withBla
 	n := opt.Trials
 	ts := &trialSet{
 		passEx: make([]float64, n), stopEx: make([]float64, n),
-		stopAtt: make([]float64, n), passVar: make([]float64, n),
+		stopAtt: make([]float64, n), passAtt: make([]float64, n),
 		edge: make([]float64, n), pass: make([]bool, n),
 	}
 	if withBlame {
 		ts.blame = make([][]float64, n)
+	}
+	if needEdge {
+		ts.f0, ts.q = make([][]float64, len(b.sections)), make([][]float64, len(b.sections))
+		for si := range b.sections {
+			ts.f0[si], ts.q[si] = make([]float64, n), make([]float64, n)
+		}
 	}
 	workers := min(opt.Workers, n)
 	var wg sync.WaitGroup
@@ -221,8 +239,14 @@ func simulate(b *board, j *judge, tol []float64, opt *Options, needEdge, withBla
 				m := j.measure(ws, needEdge)
 				pe, se := j.passExcess(m), j.stopExcess(m)
 				ts.passEx[i], ts.stopEx[i] = pe, se
-				ts.stopAtt[i], ts.passVar[i], ts.edge[i] = m.stopAtt, m.passVar, m.edge
-				ts.pass[i] = pe <= opt.PassMargin && se <= opt.StopMargin
+				ts.stopAtt[i], ts.passAtt[i], ts.edge[i] = m.stopAtt, m.passAtt, m.edge
+				ts.pass[i] = accept(pe, se, opt)
+				if needEdge {
+					for si := range b.sections {
+						w0, q, _ := sectionPoles(ws.coeffs[si].den, ws.coeffs[si].poles)
+						ts.f0[si][i], ts.q[si][i] = w0/(2*math.Pi), q
+					}
+				}
 				if withBlame && !ts.pass[i] {
 					ts.blame[i] = bl.assign(ws, parts, pe, se)
 				}

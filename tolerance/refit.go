@@ -78,7 +78,7 @@ func refit(b *board, c *optimize.Candidate, spec synth.Spec, opt Options) (*Refi
 			}
 			jj := newJudge(s, nil, order)
 			m := jj.measure(ws, false)
-			return spec.PassAtten - m.passVar, m.stopAtt - spec.StopAtten
+			return spec.PassAtten - m.passAtt, m.stopAtt - spec.StopAtten
 		}
 		pm, sm := margins(1)
 		if sm <= pm {

@@ -103,15 +103,19 @@ func (j *judge) g2(w gainer, x float64) float64 {
 
 // metrics are the figures of one analysed board.
 type metrics struct {
-	passVar float64 // dB: passband variation, max minus min gain for 0 <= x <= 1
+	// passAtt is the passband figure judged against Ap, dB: the largest
+	// attenuation for 0 <= x <= 1 relative to the passband gain (which is
+	// exactly 1 at x = 0), or for Chebyshev the ripple, the largest minus the
+	// smallest gain there.
+	passAtt float64
 	gmax    float64 // |H|² maximum in the passband (>= 1)
 	stopAtt float64 // dB: least attenuation in the stopband relative to the passband gain
 	edge    float64 // Hz: -3 dB frequency, or ripple-band edge for Chebyshev; NaN if not found
 }
 
-// passExcess is how far the passband variation exceeds Ap (dB; <= 0 passes
+// passExcess is how far the passband figure exceeds Ap (dB; <= 0 passes
 // the spec itself).
-func (j *judge) passExcess(m metrics) float64 { return m.passVar - j.ap }
+func (j *judge) passExcess(m metrics) float64 { return m.passAtt - j.ap }
 
 // stopExcess is how far the stopband attenuation falls short of As (dB; <= 0
 // passes). Without a stopband it is -Inf.
@@ -144,7 +148,11 @@ func (j *judge) measure(w gainer, needEdge bool) metrics {
 		gmin = math.Min(gmin, j.golden(w, j.xAt(imin-1), j.grid[imin+1], false))
 	}
 	m.gmax = gmax
-	m.passVar = 10 * math.Log10(gmax/gmin)
+	if j.cheb {
+		m.passAtt = 10 * math.Log10(gmax/gmin)
+	} else {
+		m.passAtt = -10 * math.Log10(gmin)
+	}
 	if j.hasStop {
 		g := j.g2(w, j.xs)
 		for _, x := range j.stopScan {

@@ -17,11 +17,12 @@ const Caution = "These are small-signal estimates: verify the circuit on the ben
 
 // Figures are one board's figures: the nominal design's or a trial's.
 type Figures struct {
-	// PassVariation is the passband variation in dB: the largest minus the
-	// smallest gain between DC (infinite frequency for a high-pass) and fp.
-	// For a monotonic response it is the attenuation at fp; for Chebyshev it
-	// is the ripple.
-	PassVariation float64 `json:"pass_variation_db"`
+	// PassAtten is the passband figure judged against Ap, dB: the largest
+	// attenuation between DC (infinite frequency for a high-pass) and fp
+	// relative to the passband gain, which for a monotonic response is the
+	// attenuation at fp; for Chebyshev the ripple there (largest minus
+	// smallest gain), since fp is the ripple-band edge and Ap the ripple.
+	PassAtten float64 `json:"pass_atten_db"`
 	// StopAtten is the least attenuation in the stopband (at fs), dB relative
 	// to the passband gain; absent without a stopband.
 	StopAtten *float64 `json:"stop_atten_db,omitempty"`
@@ -40,6 +41,14 @@ type Margins struct {
 	PassOnly *float64 `json:"pass_only_db,omitempty"`
 	// StopOnly widens only the stopband limit (pass margin as given).
 	StopOnly *float64 `json:"stop_only_db,omitempty"`
+}
+
+// SectionSpread is the spread over the trials of one section's natural
+// frequency (of the pair; of the pole for a 1-pole section) and Q.
+type SectionSpread struct {
+	Section int          `json:"section"` // 1-based
+	F0      *Percentiles `json:"f0_hz"`
+	Q       *Percentiles `json:"q,omitempty"`
 }
 
 // Refit is the analysis of the design fitted again with its edge moved
@@ -85,10 +94,12 @@ type Result struct {
 	Nominal Figures `json:"nominal"`
 	// EdgeKind names what Edge measures: "-3 dB frequency" or
 	// "ripple-band edge".
-	EdgeKind      string       `json:"edge_kind"`
-	Edge          *Percentiles `json:"edge_hz,omitempty"`
-	PassVariation *Percentiles `json:"pass_variation_db,omitempty"`
-	StopAtten     *Percentiles `json:"stop_atten_db,omitempty"`
+	EdgeKind  string       `json:"edge_kind"`
+	Edge      *Percentiles `json:"edge_hz,omitempty"`
+	PassAtten *Percentiles `json:"pass_atten_db,omitempty"`
+	StopAtten *Percentiles `json:"stop_atten_db,omitempty"`
+	// Sections is the spread of each section's f0 and Q.
+	Sections []SectionSpread `json:"sections"`
 	// Blame lists each component's share of the failures, largest first;
 	// Unattributed is the share no single component explains.
 	Blame        []Blame `json:"blame"`
@@ -161,17 +172,24 @@ func Run(c *optimize.Candidate, spec synth.Spec, opt Options) (*Result, error) {
 	r.Yield = float64(r.Passed) / float64(opt.Trials)
 	r.CILow, r.CIHigh = Wilson(r.Passed, opt.Trials, z95)
 	for i := range ts.pass {
-		if ts.passEx[i] > opt.PassMargin {
+		if ts.passEx[i] > opt.PassMargin+judgeSlack {
 			r.FailPassband++
 		}
-		if ts.stopEx[i] > opt.StopMargin {
+		if ts.stopEx[i] > opt.StopMargin+judgeSlack {
 			r.FailStopband++
 		}
 	}
 	r.Edge = percentiles(ts.edge)
-	r.PassVariation = percentiles(ts.passVar)
+	r.PassAtten = percentiles(ts.passAtt)
 	if j.hasStop {
 		r.StopAtten = percentiles(ts.stopAtt)
+	}
+	for si, s := range b.sections {
+		sp := SectionSpread{Section: si + 1, F0: percentiles(ts.f0[si])}
+		if s.topo.Poles >= 2 {
+			sp.Q = percentiles(ts.q[si])
+		}
+		r.Sections = append(r.Sections, sp)
 	}
 	r.Blame, r.Unattributed = blameTable(b, ts)
 	if r.Blame == nil {
@@ -201,7 +219,7 @@ func Run(c *optimize.Candidate, spec synth.Spec, opt Options) (*Result, error) {
 
 // figures converts measured metrics into reported figures.
 func figures(j *judge, m metrics, opt *Options) Figures {
-	f := Figures{PassVariation: m.passVar, Edge: m.edge}
+	f := Figures{PassAtten: m.passAtt, Edge: m.edge}
 	if math.IsNaN(f.Edge) {
 		f.Edge = 0
 	}
@@ -209,7 +227,7 @@ func figures(j *judge, m metrics, opt *Options) Figures {
 		a := m.stopAtt
 		f.StopAtten = &a
 	}
-	f.Pass = j.passExcess(m) <= opt.PassMargin && j.stopExcess(m) <= opt.StopMargin
+	f.Pass = accept(j.passExcess(m), j.stopExcess(m), opt)
 	return f
 }
 

@@ -72,10 +72,10 @@ func sensitivities(b *board) []SectionSensitivity {
 // in the direction (found from the sensitivities) that hurts each figure
 // most. Corners are evaluated exactly, not extrapolated.
 type WorstCase struct {
-	// PassVariation is the largest passband variation found (dB) and
+	// PassAtten is the largest passband attenuation (Chebyshev: ripple) found (dB) and
 	// PassOK whether it is within the acceptance window.
-	PassVariation float64 `json:"pass_variation_db"`
-	PassOK        bool    `json:"pass_ok"`
+	PassAtten float64 `json:"pass_atten_db"`
+	PassOK    bool    `json:"pass_ok"`
 	// StopAtten is the smallest attenuation at fs (dB) and StopOK whether it
 	// is within the acceptance window; absent without a stopband.
 	StopAtten *float64 `json:"stop_atten_db,omitempty"`
@@ -109,7 +109,7 @@ func corners(b *board, j *judge, tol []float64, opt *Options) *WorstCase {
 		ws.loadSection(si, parts)
 		mm := j.measure(ws, true)
 		parts[i] = nom[i]
-		dPass[i] = mp.passVar - mm.passVar
+		dPass[i] = mp.passAtt - mm.passAtt
 		dStop[i] = mp.stopAtt - mm.stopAtt
 		dEdge[i] = mp.edge - mm.edge
 	}
@@ -131,13 +131,13 @@ func corners(b *board, j *judge, tol []float64, opt *Options) *WorstCase {
 	}
 	wc := &WorstCase{}
 	mp := corner(dPass, 1)
-	wc.PassVariation = mp.passVar
-	wc.PassOK = j.passExcess(mp) <= opt.PassMargin
+	wc.PassAtten = mp.passAtt
+	wc.PassOK = j.passExcess(mp) <= opt.PassMargin+judgeSlack
 	if j.hasStop {
 		ms := corner(dStop, -1)
 		a := ms.stopAtt
 		wc.StopAtten = &a
-		wc.StopOK = j.stopExcess(ms) <= opt.StopMargin
+		wc.StopOK = j.stopExcess(ms) <= opt.StopMargin+judgeSlack
 	} else {
 		wc.StopOK = true
 	}
