@@ -335,7 +335,12 @@ func CheckOpAmp(c *optimize.Candidate, spec synth.Spec, op synth.OpAmp) (*OpAmpR
 		}
 	}
 	if rep.Ideal.Pass && !rep.WithOpAmp.Pass {
-		rep.Warnings = append(rep.Warnings, "with this op-amp the design no longer meets the specification")
+		s := fmt.Sprintf("with this op-amp the design no longer meets the specification: passband %.3f dB (limit %.4g dB)",
+			rep.WithOpAmp.PassAtten, spec.PassAtten)
+		if rep.WithOpAmp.StopAtten != nil {
+			s += fmt.Sprintf(", %.2f dB at fs (at least %.4g dB)", *rep.WithOpAmp.StopAtten, spec.StopAtten)
+		}
+		rep.Warnings = append(rep.Warnings, s)
 	}
 	return rep, nil
 }
