@@ -1,0 +1,386 @@
+package stock
+
+import (
+	"bufio"
+	"bytes"
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"strconv"
+	"strings"
+	"unicode/utf8"
+
+	"drawerfit/fault"
+)
+
+// CSV columns, in the order WriteCSV writes them. kind, value and quantity
+// are required in a file; the others may be left out.
+var (
+	CSVColumns      = []string{"kind", "value", "tolerance", "quantity", "package", "dielectric", "location", "note"}
+	requiredColumns = []string{"kind", "value", "quantity"}
+)
+
+// MaxCSVProblems is how many problems a CSVError lists before it only
+// counts the rest: enough to fix a file in one pass, short enough to read
+// (common practice, no source).
+const MaxCSVProblems = 20
+
+// CSVProblem is one thing wrong in a CSV file.
+type CSVProblem struct {
+	// Line is the line number in the file, counting from 1 (the header).
+	Line int
+	// Column is the column's name, or "" when the problem is the whole row.
+	Column string
+	// Reason says what is wrong.
+	Reason string
+}
+
+func (p CSVProblem) String() string {
+	if p.Column == "" {
+		return fmt.Sprintf("line %d: %s", p.Line, p.Reason)
+	}
+	return fmt.Sprintf("line %d, %s: %s", p.Line, p.Column, p.Reason)
+}
+
+// CSVError lists the problems of a CSV file that ReadCSV refused. It is
+// returned wrapped in a fault.Invalid error; get it with errors.As.
+type CSVError struct {
+	// Problems are the first MaxCSVProblems problems, in file order.
+	Problems []CSVProblem
+	// More counts the problems found beyond those listed.
+	More int
+}
+
+// Error lists the problems, one per line after a summary line.
+func (e *CSVError) Error() string {
+	var b strings.Builder
+	n := len(e.Problems) + e.More
+	if n == 1 {
+		b.WriteString("the CSV file has 1 problem:")
+	} else {
+		fmt.Fprintf(&b, "the CSV file has %d problems:", n)
+	}
+	for _, p := range e.Problems {
+		b.WriteString("\n  ")
+		b.WriteString(p.String())
+	}
+	if e.More > 0 {
+		fmt.Fprintf(&b, "\n  ... and %d more", e.More)
+	}
+	return b.String()
+}
+
+func (e *CSVError) add(line int, col, reason string) {
+	if len(e.Problems) < MaxCSVProblems {
+		e.Problems = append(e.Problems, CSVProblem{line, col, reason})
+	} else {
+		e.More++
+	}
+}
+
+func (e *CSVError) fault() error {
+	return &fault.Error{Kind: fault.Invalid, Msg: e.Error(), Err: e}
+}
+
+// formulaStart are the characters that make a spreadsheet read a cell as a
+// formula (the commonly cited CSV-injection set: = + - @, and tab and
+// carriage return; common practice, no source).
+const formulaStart = "=+-@\t\r"
+
+// neutralise prefixes a text cell that a spreadsheet would run as a formula
+// with an apostrophe, and also a cell that already starts with one, so
+// that restore can undo exactly what neutralise did.
+func neutralise(s string) string {
+	if s != "" && (strings.ContainsRune(formulaStart, rune(s[0])) || s[0] == '\'') {
+		return "'" + s
+	}
+	return s
+}
+
+// restore undoes neutralise: an apostrophe followed by a formula character
+// or another apostrophe is dropped. Any other leading apostrophe is text.
+func restore(s string) string {
+	if len(s) >= 2 && s[0] == '\'' && (strings.ContainsRune(formulaStart, rune(s[1])) || s[1] == '\'') {
+		return s[1:]
+	}
+	return s
+}
+
+// bom is the UTF-8 byte order mark some spreadsheets write first.
+var bom = []byte{0xEF, 0xBB, 0xBF}
+
+// ReadCSV reads stock rows from a CSV file. The first record is the header:
+// column names from CSVColumns in any order and letter case; kind, value
+// and quantity are required, an unknown or repeated column is an error that
+// names it. The file is UTF-8, with or without a byte order mark, with LF or
+// CRLF line ends and fields quoted as RFC 4180 describes. Records whose
+// fields are all empty are skipped.
+//
+// Cells are read as the rest of the package reads them: kind by ParseKind,
+// value by ParseValue, tolerance by ParseToleranceFor (empty: not stated),
+// quantity as a whole number >= 0, dielectric normalised. Text cells
+// neutralised against spreadsheet formulas by WriteCSV are restored.
+//
+// It returns every row or none: if anything is wrong the error is a
+// fault.Invalid wrapping a *CSVError that lists each problem with its line,
+// column and reason (the first MaxCSVProblems of them). Rows are returned
+// in file order, ID 0, duplicates not merged.
+func ReadCSV(r io.Reader) ([]Item, error) {
+	br := bufio.NewReader(r)
+	if b, err := br.Peek(len(bom)); err == nil && bytes.Equal(b, bom) {
+		br.Discard(len(bom))
+	}
+	cr := csv.NewReader(br)
+	cr.FieldsPerRecord = -1    // checked below, with a better message
+	cr.TrimLeadingSpace = true // "kind, value" and `, "quoted"` are common by hand
+	problems := &CSVError{}
+
+	header, err := cr.Read()
+	if errors.Is(err, io.EOF) {
+		problems.add(1, "", "the file is empty; it needs a header line such as "+strings.Join(CSVColumns, ","))
+		return nil, problems.fault()
+	}
+	if err != nil {
+		problems.add(csvErrLine(err, 1), "", csvErrReason(err))
+		return nil, problems.fault()
+	}
+	headerLine, _ := cr.FieldPos(0)
+	cols := map[string]int{}
+	names := make([]string, len(header))
+	for i, h := range header {
+		name := strings.ToLower(strings.TrimSpace(h))
+		names[i] = name
+		switch {
+		case !utf8.ValidString(h):
+			problems.add(headerLine, "", fmt.Sprintf("column %d's name is not valid UTF-8", i+1))
+		case name == "":
+			problems.add(headerLine, "", fmt.Sprintf("column %d has no name", i+1))
+		case !isCSVColumn(name):
+			problems.add(headerLine, "", fmt.Sprintf("unknown column %q (known: %s)", strings.TrimSpace(h), strings.Join(CSVColumns, ", ")))
+		default:
+			if _, dup := cols[name]; dup {
+				problems.add(headerLine, "", fmt.Sprintf("column %q appears twice", name))
+			}
+			cols[name] = i
+		}
+	}
+	for _, req := range requiredColumns {
+		if _, ok := cols[req]; !ok {
+			problems.add(headerLine, "", fmt.Sprintf("required column %q is missing", req))
+		}
+	}
+	if len(problems.Problems) > 0 {
+		return nil, problems.fault()
+	}
+
+	var items []Item
+	for {
+		rec, err := cr.Read()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			// The reader cannot resynchronise after a quoting error.
+			problems.add(csvErrLine(err, 0), "", csvErrReason(err)+" (reading stopped here)")
+			break
+		}
+		line, _ := cr.FieldPos(0)
+		if allBlank(rec) {
+			continue
+		}
+		if len(rec) != len(header) {
+			problems.add(line, "", fmt.Sprintf("has %d fields, the header has %d", len(rec), len(header)))
+			continue
+		}
+		it, ok := readRow(rec, cols, func(col string, reason string) {
+			l, _ := cr.FieldPos(cols[col])
+			problems.add(l, col, reason)
+		})
+		if ok {
+			items = append(items, it)
+		}
+	}
+	if len(problems.Problems) > 0 {
+		return nil, problems.fault()
+	}
+	return items, nil
+}
+
+func isCSVColumn(name string) bool {
+	for _, c := range CSVColumns {
+		if c == name {
+			return true
+		}
+	}
+	return false
+}
+
+func allBlank(rec []string) bool {
+	for _, f := range rec {
+		if strings.TrimSpace(f) != "" {
+			return false
+		}
+	}
+	return true
+}
+
+func csvErrLine(err error, def int) int {
+	var pe *csv.ParseError
+	if errors.As(err, &pe) {
+		return pe.Line
+	}
+	return def
+}
+
+func csvErrReason(err error) string {
+	var pe *csv.ParseError
+	if errors.As(err, &pe) {
+		return fmt.Sprintf("malformed CSV at column %d: %v", pe.Column, pe.Err)
+	}
+	return err.Error()
+}
+
+// reasonOf is the problem text for a cell error; the package's parse
+// errors already quote the cell.
+func reasonOf(err error) string { return err.Error() }
+
+// readRow converts one record; it reports each bad cell through bad and
+// returns ok false if there was any.
+func readRow(rec []string, cols map[string]int, bad func(col, reason string)) (Item, bool) {
+	ok := true
+	fail := func(col, reason string) {
+		ok = false
+		bad(col, reason)
+	}
+	cell := func(col string) string {
+		if i, has := cols[col]; has {
+			return rec[i]
+		}
+		return ""
+	}
+	var it Item
+	if !utf8.ValidString(strings.Join(rec, "")) {
+		for _, c := range CSVColumns {
+			if _, has := cols[c]; has && !utf8.ValidString(cell(c)) {
+				fail(c, "not valid UTF-8")
+			}
+		}
+		return it, false
+	}
+
+	kind, err := ParseKind(cell("kind"))
+	kindOK := err == nil
+	if !kindOK {
+		fail("kind", reasonOf(err))
+	}
+	it.Kind = kind
+	if kindOK {
+		if v, err := ParseValue(cell("value"), kind); err != nil {
+			fail("value", reasonOf(err))
+		} else {
+			it.Value = v
+		}
+	}
+	if t := strings.TrimSpace(cell("tolerance")); t != "" {
+		if f, err := ParseToleranceFor(t, kind, it.Value); err != nil {
+			fail("tolerance", reasonOf(err))
+		} else {
+			it.Tolerance = f
+		}
+	}
+	if q, err := parseQuantity(cell("quantity")); err != nil {
+		fail("quantity", err.Error())
+	} else {
+		it.Quantity = q
+	}
+	it.Package = restore(strings.TrimSpace(cell("package")))
+	it.Dielectric = restore(strings.TrimSpace(cell("dielectric")))
+	it.Location = restore(strings.TrimSpace(cell("location")))
+	it.Note = restore(strings.TrimSpace(cell("note")))
+	it = it.Normalize()
+	if kindOK {
+		for _, p := range it.Problems() {
+			switch p.Field {
+			case "value", "tolerance", "quantity":
+				// Reported above from the text, with the text quoted.
+			default:
+				fail(p.Field, p.Reason)
+			}
+		}
+	}
+	return it, ok
+}
+
+// parseQuantity reads a whole number of parts: digits only, 0 to
+// MaxQuantity.
+func parseQuantity(s string) (int, error) {
+	t := strings.TrimSpace(s)
+	if t == "" {
+		return 0, fmt.Errorf("quantity is empty")
+	}
+	for _, r := range t {
+		if r < '0' || r > '9' {
+			if r == '-' {
+				return 0, fmt.Errorf("quantity %q is negative", s)
+			}
+			return 0, fmt.Errorf("quantity %q is not a whole number", s)
+		}
+	}
+	if len(t) > 10 {
+		return 0, fmt.Errorf("quantity %q is above %d", s, MaxQuantity)
+	}
+	n, err := strconv.Atoi(t)
+	if err != nil || n > MaxQuantity {
+		return 0, fmt.Errorf("quantity %q is above %d", s, MaxQuantity)
+	}
+	return n, nil
+}
+
+// ParseQuantity reads a quantity as ReadCSV does: a whole number from 0 to
+// MaxQuantity, digits only. Errors are fault.Invalid and quote the text.
+func ParseQuantity(s string) (int, error) {
+	n, err := parseQuantity(s)
+	if err != nil {
+		return 0, fault.Invalidf("%v", err)
+	}
+	return n, nil
+}
+
+// WriteCSV writes items in the format ReadCSV reads: a header with all of
+// CSVColumns, then one row per item, LF line ends. Values and tolerances
+// are written exactly (4.7k, 2.2nF, 1%), so reading the file back gives
+// the identical numbers; text cells that a spreadsheet would run as a
+// formula are neutralised with a leading apostrophe, which ReadCSV
+// removes. IDs are not written. An invalid item is a fault.Invalid error
+// and nothing after it is written.
+func WriteCSV(w io.Writer, items []Item) error {
+	cw := csv.NewWriter(w)
+	if err := cw.Write(CSVColumns); err != nil {
+		return fmt.Errorf("write CSV: %w", err)
+	}
+	for i, it := range items {
+		if p := it.Problems(); len(p) > 0 {
+			cw.Flush()
+			return fault.Invalidf("item %d (%s): %s: %s", i+1, it.Label(), p[0].Field, p[0].Reason)
+		}
+		rec := []string{
+			it.Kind.String(),
+			compactValue(it.Value, it.Kind),
+			FormatTolerance(it.Tolerance),
+			strconv.Itoa(it.Quantity),
+			neutralise(it.Package),
+			neutralise(it.Dielectric),
+			neutralise(it.Location),
+			neutralise(it.Note),
+		}
+		if err := cw.Write(rec); err != nil {
+			return fmt.Errorf("write CSV: %w", err)
+		}
+	}
+	cw.Flush()
+	if err := cw.Error(); err != nil {
+		return fmt.Errorf("write CSV: %w", err)
+	}
+	return nil
+}

@@ -1,0 +1,184 @@
+package stock
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"reflect"
+	"strings"
+	"testing"
+
+	"drawerfit/fault"
+)
+
+func csvProblems(t *testing.T, err error) *CSVError {
+	t.Helper()
+	if !fault.Is(err, fault.Invalid) {
+		t.Fatalf("error %v is not fault.Invalid", err)
+	}
+	var ce *CSVError
+	if !errors.As(err, &ce) {
+		t.Fatalf("no *CSVError in %v", err)
+	}
+	return ce
+}
+
+func TestReadCSV(t *testing.T) {
+	in := "\ufeffKind,VALUE, Quantity ,tolerance,location,dielectric,package,note\r\n" +
+		"R,4k7,50,F,A1,,0805,\r\n" +
+		"capacitor,2n2,20,5%,B3,cog,0805,\"signal, C0G\"\r\n" +
+		"\r\n" +
+		",,,,,,,\r\n" +
+		"C,\"100 nF\",10,10%,\"reel-3\",polyester,radial,\"two\r\nlines\"\r\n" +
+		"r,1M0,3,,D6,,axial,'=SUM(A1)\r\n"
+	items, err := ReadCSV(strings.NewReader(in))
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []Item{
+		{Kind: Resistor, Value: 4700, Tolerance: 0.01, Quantity: 50, Location: "A1", Package: "0805"},
+		{Kind: Capacitor, Value: 2.2e-9, Tolerance: 0.05, Quantity: 20, Location: "B3", Dielectric: "C0G", Package: "0805", Note: "signal, C0G"},
+		{Kind: Capacitor, Value: 100e-9, Tolerance: 0.1, Quantity: 10, Location: "reel-3", Dielectric: "PET", Package: "radial", Note: "two\nlines"}, // encoding/csv reads a quoted CRLF as LF
+		{Kind: Resistor, Value: 1e6, Quantity: 3, Location: "D6", Package: "axial", Note: "=SUM(A1)"},
+	}
+	if !reflect.DeepEqual(items, want) {
+		t.Fatalf("ReadCSV:\n got %+v\nwant %+v", items, want)
+	}
+}
+
+func TestReadCSVMinimalColumns(t *testing.T) {
+	items, err := ReadCSV(strings.NewReader("quantity,value,kind\n7,10k,resistor\n"))
+	if err != nil || len(items) != 1 || items[0].Value != 10e3 || items[0].Quantity != 7 {
+		t.Fatalf("%+v %v", items, err)
+	}
+}
+
+func TestReadCSVRefuses(t *testing.T) {
+	cases := []struct {
+		name string
+		in   string
+		want []CSVProblem
+	}{
+		{"empty file", "", []CSVProblem{{1, "", "the file is empty"}}},
+		{"unknown column", "kind,value,quantity,colour\nR,1k,1,red\n", []CSVProblem{{1, "", `unknown column "colour"`}}},
+		{"missing column", "kind,value\nR,1k\n", []CSVProblem{{1, "", `required column "quantity" is missing`}}},
+		{"repeated column", "kind,value,quantity,Value\nR,1k,1,2k\n", []CSVProblem{{1, "", `column "value" appears twice`}}},
+		{"nameless column", "kind,value,quantity,\nR,1k,1,\n", []CSVProblem{{1, "", "column 4 has no name"}}},
+		{"header only with data first", "R,1k,1\n", []CSVProblem{{1, "", `unknown column "R"`}, {1, "", `unknown column "1k"`}, {1, "", `unknown column "1"`}, {1, "", `required column "kind"`}, {1, "", `required column "value"`}, {1, "", `required column "quantity"`}}},
+		{"bad cells on several lines",
+			"kind,value,quantity,tolerance,dielectric\n" +
+				"R,1k,10,1%,\n" +
+				"R,4k7k,10,1%,\n" + // line 3: value
+				"X,1k,10,1%,\n" + // line 4: kind
+				"C,103,-5,Z,C0G\n" + // line 5: value, tolerance, quantity
+				"R,2k2,10,1%,C0G\n" + // line 6: dielectric on a resistor
+				"R,1k,ten,1%,\n", // line 7: quantity
+			[]CSVProblem{
+				{3, "value", `"4k7k": ambiguous`},
+				{4, "kind", `kind "X"`},
+				{5, "value", "three-digit marking"},
+				{5, "tolerance", `"Z": asymmetric`},
+				{5, "quantity", `"-5" is negative`},
+				{6, "dielectric", "a resistor has no dielectric"},
+				{7, "quantity", `"ten" is not a whole number`},
+			}},
+		{"field count", "kind,value,quantity\nR,1k\nR,1k,1,2\n", []CSVProblem{{2, "", "has 2 fields, the header has 3"}, {3, "", "has 4 fields"}}},
+		{"bare quote", "kind,value,quantity\nR,1k,1\nR,4\"7,1\n", []CSVProblem{{3, "", "malformed CSV"}}},
+		{"line numbers after a quoted line break", "kind,value,quantity,note\nR,1k,1,\"a\nb\"\nR,0,1,\n", []CSVProblem{{4, "value", "zero"}}},
+		{"invalid UTF-8", "kind,value,quantity,note\nR,1k,1,\xff\n", []CSVProblem{{2, "note", "UTF-8"}}},
+		{"control character", "kind,value,quantity,location\nR,1k,1,A\x011\n", []CSVProblem{{2, "location", "control character"}}},
+		{"small capacitor letter tolerance", "kind,value,quantity,tolerance\nC,4p7,1,C\n", []CSVProblem{{2, "tolerance", "absolute tolerance in pF"}}},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			items, err := ReadCSV(strings.NewReader(c.in))
+			if items != nil {
+				t.Errorf("items returned with an error: %+v", items)
+			}
+			ce := csvProblems(t, err)
+			if len(ce.Problems) != len(c.want) {
+				t.Fatalf("problems:\n%v\nwant %d of them", ce, len(c.want))
+			}
+			for i, w := range c.want {
+				p := ce.Problems[i]
+				if p.Line != w.Line || p.Column != w.Column || !strings.Contains(p.Reason, w.Reason) {
+					t.Errorf("problem %d = %+v, want line %d, column %q, reason containing %q", i, p, w.Line, w.Column, w.Reason)
+				}
+			}
+		})
+	}
+}
+
+func TestReadCSVCapsTheList(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("kind,value,quantity\n")
+	for i := 0; i < MaxCSVProblems+15; i++ {
+		b.WriteString("R,0,1\n")
+	}
+	_, err := ReadCSV(strings.NewReader(b.String()))
+	ce := csvProblems(t, err)
+	if len(ce.Problems) != MaxCSVProblems || ce.More != 15 {
+		t.Fatalf("%d listed, %d more", len(ce.Problems), ce.More)
+	}
+	if msg := err.Error(); !strings.Contains(msg, fmt.Sprintf("has %d problems", MaxCSVProblems+15)) || !strings.Contains(msg, "and 15 more") {
+		t.Fatalf("message %q", msg)
+	}
+}
+
+func TestCSVRoundTrip(t *testing.T) {
+	items := []Item{
+		{Kind: Resistor, Value: 4700, Tolerance: 0.01, Quantity: 50, Package: "0805", Location: "A1"},
+		{Kind: Resistor, Value: 47300, Tolerance: 0.001, Quantity: 3, Package: "axial", Location: "A2", Note: "E192 spare"},
+		{Kind: Resistor, Value: 0.47, Tolerance: 0.05, Quantity: 10, Location: "-shunts-"},
+		{Kind: Capacitor, Value: 2.2e-9, Tolerance: 0.05, Quantity: 20, Dielectric: "C0G", Location: "B3", Note: "+ for the 1 kHz low-pass"},
+		{Kind: Capacitor, Value: 0.68e-12, Quantity: 5, Dielectric: "NP0", Location: "@top", Note: "'quoted"},
+		{Kind: Capacitor, Value: 4700e-6, Tolerance: 0.2, Quantity: 2, Dielectric: "electrolytic", Package: "radial", Note: "=1+1"},
+		{Kind: Capacitor, Value: 1.0 / 3 * 1e-6, Tolerance: 0.0025, Quantity: 1, Dielectric: "PP", Note: "line one\nline two, \"quoted\""},
+		{Kind: Capacitor, Value: 2.5, Quantity: 1, Note: "''=both"},
+	}
+	var buf bytes.Buffer
+	if err := WriteCSV(&buf, items); err != nil {
+		t.Fatal(err)
+	}
+	out := buf.String()
+	for _, want := range []string{"kind,value,tolerance,quantity,package,dielectric,location,note\n",
+		"resistor,4.7k,1%,50,0805,,A1,\n", "capacitor,2.2nF,5%,20,,C0G,B3,'+ for", ",'@top,''quoted\n", ",'=1+1\n"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("output lacks %q:\n%s", want, out)
+		}
+	}
+	back, err := ReadCSV(&buf)
+	if err != nil {
+		t.Fatalf("%v\n%s", err, out)
+	}
+	if !reflect.DeepEqual(back, items) {
+		t.Fatalf("round trip:\n got %+v\nwant %+v", back, items)
+	}
+	if err := WriteCSV(&buf, []Item{{Kind: Resistor, Value: 0, Quantity: 1}}); !fault.Is(err, fault.Invalid) {
+		t.Fatalf("invalid item written: %v", err)
+	}
+}
+
+func TestNeutraliseRestore(t *testing.T) {
+	for _, s := range []string{"", "A1", "=A1", "+1", "-1", "@x", "\tx", "'", "''", "'=", "'x", "x'", "=", "'''"} {
+		if got := restore(neutralise(s)); got != s {
+			t.Errorf("restore(neutralise(%q)) = %q", s, got)
+		}
+		if n := neutralise(s); n != "" && strings.ContainsRune(formulaStart, rune(n[0])) {
+			t.Errorf("neutralise(%q) = %q still starts a formula", s, n)
+		}
+	}
+}
+
+func TestParseQuantity(t *testing.T) {
+	for in, want := range map[string]int{"0": 0, "7": 7, " 120 ": 120, "1000000000": MaxQuantity} {
+		if got, err := ParseQuantity(in); err != nil || got != want {
+			t.Errorf("ParseQuantity(%q) = %v, %v", in, got, err)
+		}
+	}
+	for _, in := range []string{"", "-1", "1.5", "1e3", "1,000", "+3", "1000000001", "99999999999999999999"} {
+		if _, err := ParseQuantity(in); !fault.Is(err, fault.Invalid) {
+			t.Errorf("ParseQuantity(%q): %v", in, err)
+		}
+	}
+}
