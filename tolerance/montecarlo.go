@@ -77,6 +77,9 @@ type Options struct {
 	TargetYield float64
 	// Workers is the number of goroutines (0: runtime.GOMAXPROCS).
 	Workers int
+	// Boards, when positive, asks for a forecast of how many of that many
+	// built boards pass (Result.Boards).
+	Boards int
 	// Brief skips the advice (which re-runs the Monte Carlo), the worst-case
 	// corners and the refit; for ranking many candidates quickly.
 	Brief bool
@@ -109,6 +112,9 @@ func (o *Options) normalize() error {
 		if math.IsNaN(m) || math.IsInf(m, 0) {
 			return fault.Invalidf("acceptance margins must be finite numbers of dB, got %g", m)
 		}
+	}
+	if o.Boards < 0 || o.Boards > 1_000_000 {
+		return fault.Invalidf("the number of boards must be between 1 and 1000000, got %d", o.Boards)
 	}
 	if o.Workers <= 0 {
 		o.Workers = runtime.GOMAXPROCS(0)

@@ -79,6 +79,8 @@ type Result struct {
 	Trials int     `json:"trials"`
 	Passed int     `json:"passed"`
 	Seed   uint64  `json:"seed"`
+	// Boards forecasts a batch (only when Options.Boards is set).
+	Boards *Boards `json:"boards,omitempty"`
 	Dist   Dist    `json:"dist"`
 	// PassMargin and StopMargin are the acceptance window used (dB beyond
 	// the spec's limits).
@@ -171,6 +173,13 @@ func Run(c *optimize.Candidate, spec synth.Spec, opt Options) (*Result, error) {
 	r.Passed = ts.passed()
 	r.Yield = float64(r.Passed) / float64(opt.Trials)
 	r.CILow, r.CIHigh = Wilson(r.Passed, opt.Trials, z95)
+	if opt.Boards > 0 {
+		bf, err := ForecastBoards(r.Passed, opt.Trials, opt.Boards)
+		if err != nil {
+			return nil, err
+		}
+		r.Boards = &bf
+	}
 	for i := range ts.pass {
 		if ts.passEx[i] > opt.PassMargin+judgeSlack {
 			r.FailPassband++
