@@ -97,11 +97,11 @@ func MinOrder(s Spec) (int, error) {
 		}
 	}
 	if s.Stop == 0 {
-		return 0, fault.Infeasiblef("no %s order up to %d keeps the attenuation at %g Hz within %g dB",
+		return 0, fault.Infeasiblef("no %s order up to %d keeps the attenuation at %g Hz within %.6g dB",
 			s.Approx, MaxOrder, s.Pass, s.PassAtten)
 	}
 	if bestN == 0 {
-		return 0, fault.Infeasiblef("no %s order up to %d meets %g dB at %g Hz with at most %g dB at %g Hz",
+		return 0, fault.Infeasiblef("no %s order up to %d meets %g dB at %g Hz with at most %.6g dB at %g Hz",
 			s.Approx, MaxOrder, s.StopAtten, s.Stop, s.PassAtten, s.Pass)
 	}
 	return 0, fault.Infeasiblef("no %s order up to %d reaches %g dB at %g Hz: the most is %.2f dB (order %d); move the stopband edge away or use another response",
@@ -325,7 +325,11 @@ func (d *Design) explain(minN int) {
 	case s.Approx == Chebyshev:
 		d.note("fp %s is the edge of the %.4g dB ripple band", hzString(s.Pass), s.Ripple)
 		if d.Order%2 == 0 {
-			d.note("even order with unity-gain sections: the DC gain is the ripple minimum, so the passband rises up to %.4g dB above the DC gain and the attenuation at fp is 0 dB relative to DC", s.Ripple)
+			ref := "DC"
+			if s.Kind == HighPass {
+				ref = "high-frequency"
+			}
+			d.note("even order with unity-gain sections: the %s gain is the ripple minimum, so the passband rises up to %.4g dB above it and the attenuation at fp is 0 dB relative to the %s gain", ref, s.Ripple, ref)
 		}
 	case s.Approx == Bessel && s.BesselNorm == BesselDelay:
 		d.note("unit-delay Bessel normalisation scaled to fp: group delay at DC %s, attenuation at fp %.3f dB, -3 dB at %s",

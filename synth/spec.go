@@ -232,7 +232,7 @@ func (s *Spec) Normalize() error {
 			return fault.Invalidf("for a high-pass the stopband edge (%g Hz) must be below the passband edge (%g Hz)", s.Stop, s.Pass)
 		}
 		if s.StopAtten <= s.PassAtten {
-			return fault.Invalidf("stopband attenuation (%g dB) must exceed the passband attenuation (%g dB)", s.StopAtten, s.PassAtten)
+			return fault.Invalidf("stopband attenuation (%.6g dB) must exceed the passband attenuation (%.6g dB)", s.StopAtten, s.PassAtten)
 		}
 	}
 	if s.Order != 0 && (s.Order < 1 || s.Order > MaxOrder) {

@@ -1,0 +1,453 @@
+package cli
+
+import (
+	"fmt"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"drawerfit/fault"
+	"drawerfit/stock"
+	"drawerfit/synth"
+)
+
+func init() { register("plan", newPlanCmd) }
+
+// planOptions are the flags of `drawerfit plan`.
+type planOptions struct {
+	kind       string
+	pass       string
+	passAtten  float64
+	stop       string
+	atten      float64
+	response   string
+	ripple     float64
+	order      int
+	odd        string
+	besselNorm string
+	anchor     string
+	json       bool
+	netlist    string
+
+	// which optional numbers were given explicitly
+	passAttenSet, attenSet, rippleSet, orderSet, besselNormSet bool
+}
+
+func newPlanCmd(env *Env) *cobra.Command {
+	o := &planOptions{}
+	cmd := &cobra.Command{
+		Use:   "plan lowpass|highpass --pass FREQ [--stop FREQ --atten DB | --order N]",
+		Short: "Design the ideal filter: order, sections, normalised and scaled values",
+		Long: `plan designs a unity-gain active filter from a specification, without
+looking at the stock: the order, each section's natural frequency f0 and Q
+in cascade order (rising Q), its normalised element values (passband edge at
+1 rad/s, unit resistors for a low-pass, unit capacitors for a high-pass), and
+values scaled by the classical hand procedure: frequency scaling by 2π·fp
+and, per section, impedance scaling that puts the resistors in the geometric
+middle of 1 kΩ to 1 MΩ, or gives each section's largest capacitor the
+--anchor value.
+
+Give the passband edge and either a stopband edge with its attenuation (the
+minimum order is computed) or an order. Butterworth and Bessel place the
+-3 dB point (or --pass-atten) exactly at the passband edge; for Chebyshev the
+edge is the end of the ripple band. Frequencies accept 1500, 1.5k, 1.5kHz.
+Odd orders build the real pole as its own RC section (--odd 1pole) or with
+the lowest-Q pair in one 3-pole section (--odd 3pole).
+
+The netlist (--netlist, and in --json) uses only R, C, V and E elements
+and simulates in any SPICE-compatible program: input node in, output out.`,
+		Example: `  # A rain gauge's ultrasonic echo pick-up: keep 40 kHz and up, at least
+  # 50 dB down at 10 kHz, with a Chebyshev response of 0.5 dB ripple
+  drawerfit plan highpass --pass 40k --stop 10k --atten 50 --response chebyshev --ripple 0.5
+
+  # A model railway's sound card: smooth the DAC output with a 5th-order
+  # Bessel low-pass at 8 kHz, one 3-pole section first, 4.7 nF capacitors
+  drawerfit plan lowpass --pass 8kHz --response bessel --order 5 --odd 3pole --anchor 4n7
+
+  # The same as JSON, with the SPICE netlist written to a file
+  drawerfit plan lowpass --pass 8k --response bessel --order 5 --json --netlist smoother.cir`,
+		Args: func(cmd *cobra.Command, args []string) error {
+			if len(args) != 1 {
+				return usageError{fmt.Errorf("plan needs one response type, lowpass or highpass (got %d arguments)", len(args))}
+			}
+			return nil
+		},
+		RunE: func(cmd *cobra.Command, args []string) error {
+			o.kind = args[0]
+			f := cmd.Flags()
+			o.passAttenSet = f.Changed("pass-atten")
+			o.attenSet = f.Changed("atten")
+			o.rippleSet = f.Changed("ripple")
+			o.orderSet = f.Changed("order")
+			o.besselNormSet = f.Changed("bessel-norm")
+			return runPlan(env, o)
+		},
+	}
+	f := cmd.Flags()
+	f.StringVar(&o.pass, "pass", "", "passband edge frequency fp (required), e.g. 1k or 1.5kHz")
+	f.Float64Var(&o.passAtten, "pass-atten", 0, "most attenuation allowed at fp, dB (default 3.01 for Butterworth and Bessel; the ripple for Chebyshev)")
+	f.StringVar(&o.stop, "stop", "", "stopband edge frequency fs")
+	f.Float64Var(&o.atten, "atten", 0, "least attenuation required at fs, dB")
+	f.StringVar(&o.response, "response", "butterworth", "approximation: butterworth, chebyshev or bessel")
+	f.Float64Var(&o.ripple, "ripple", 0, "Chebyshev passband ripple, dB (default 1)")
+	f.IntVar(&o.order, "order", 0, "filter order 1..12 (default: the minimum that meets --stop/--atten)")
+	f.StringVar(&o.odd, "odd", "1pole", "odd-order real pole: 1pole (own RC section) or 3pole (with the lowest-Q pair)")
+	f.StringVar(&o.besselNorm, "bessel-norm", "mag", "Bessel normalisation: mag (-3 dB at fp) or delay (unit delay scaled to fp)")
+	f.StringVar(&o.anchor, "anchor", "", "value of each section's largest capacitor, e.g. 10n (default: resistors mid-range)")
+	f.BoolVar(&o.json, "json", false, "print one JSON object")
+	f.StringVar(&o.netlist, "netlist", "", "write the SPICE netlist to this file")
+	return cmd
+}
+
+// planSpec turns the options into a specification; every mistake is a
+// fault.Invalid error.
+func planSpec(o *planOptions) (synth.Spec, error) {
+	var s synth.Spec
+	var err error
+	if s.Kind, err = synth.ParseKind(o.kind); err != nil {
+		return s, err
+	}
+	if s.Approx, err = synth.ParseApprox(o.response); err != nil {
+		return s, err
+	}
+	if o.pass == "" {
+		return s, fault.Invalidf("give the passband edge with --pass, e.g. --pass 1k")
+	}
+	if s.Pass, err = synth.ParseFrequency(o.pass); err != nil {
+		return s, fault.Invalidf("--pass: %v", err)
+	}
+	if o.passAttenSet {
+		if !(o.passAtten > 0) || math.IsInf(o.passAtten, 0) {
+			return s, fault.Invalidf("--pass-atten must be a positive number of dB, got %g", o.passAtten)
+		}
+		s.PassAtten = o.passAtten
+	}
+	if o.stop != "" {
+		if s.Stop, err = synth.ParseFrequency(o.stop); err != nil {
+			return s, fault.Invalidf("--stop: %v", err)
+		}
+		if !o.attenSet {
+			return s, fault.Invalidf("--stop needs --atten, the least attenuation at the stopband edge")
+		}
+	}
+	if o.attenSet {
+		if o.stop == "" {
+			return s, fault.Invalidf("--atten needs --stop, the stopband edge it applies to")
+		}
+		if !(o.atten > 0) || math.IsInf(o.atten, 0) {
+			return s, fault.Invalidf("--atten must be a positive number of dB, got %g", o.atten)
+		}
+		s.StopAtten = o.atten
+	}
+	if o.rippleSet {
+		if s.Approx != synth.Chebyshev {
+			return s, fault.Invalidf("--ripple only applies to --response chebyshev, not %s", s.Approx)
+		}
+		if !(o.ripple > 0) || math.IsInf(o.ripple, 0) {
+			return s, fault.Invalidf("--ripple must be a positive number of dB, got %g", o.ripple)
+		}
+		s.Ripple = o.ripple
+	}
+	if o.orderSet {
+		if o.order < 1 || o.order > synth.MaxOrder {
+			return s, fault.Invalidf("--order %d is outside 1..%d", o.order, synth.MaxOrder)
+		}
+		s.Order = o.order
+	}
+	if s.Odd, err = synth.ParseOdd(o.odd); err != nil {
+		return s, err
+	}
+	if o.besselNormSet && s.Approx != synth.Bessel {
+		return s, fault.Invalidf("--bessel-norm only applies to --response bessel, not %s", s.Approx)
+	}
+	if s.BesselNorm, err = synth.ParseBesselNorm(o.besselNorm); err != nil {
+		return s, err
+	}
+	if s.Stop == 0 && s.Order == 0 {
+		return s, fault.Invalidf("give a stopband (--stop and --atten) or an order (--order)")
+	}
+	return s, s.Normalize()
+}
+
+// planJSON is the --json output of plan. Keys are stable.
+type planJSON struct {
+	Order         int               `json:"order"`
+	Response      string            `json:"response"`
+	Kind          string            `json:"kind"`
+	PassHz        float64           `json:"pass_hz"`
+	PassAttenDB   float64           `json:"pass_atten_db"`
+	StopHz        *float64          `json:"stop_hz"`
+	StopAttenDB   *float64          `json:"stop_atten_db"`
+	RippleDB      *float64          `json:"ripple_db"`
+	Odd           string            `json:"odd"`
+	BesselNorm    *string           `json:"bessel_norm"`
+	Sections      []planSectionJSON `json:"sections"`
+	AttenuationDB planAttenuationDB `json:"attenuation_db"`
+	Notes         []string          `json:"notes"`
+	Netlist       string            `json:"netlist"`
+}
+
+type planSectionJSON struct {
+	Topology   string              `json:"topology"`
+	Name       string              `json:"name"`
+	F0Hz       float64             `json:"f0_hz"`
+	Q          float64             `json:"q"`
+	RealF0Hz   *float64            `json:"real_f0_hz,omitempty"`
+	Reason     string              `json:"reason"`
+	Components []planComponentJSON `json:"components"`
+}
+
+type planComponentJSON struct {
+	Ref        string  `json:"ref"`
+	Value      float64 `json:"value"` // ohms or farads
+	Text       string  `json:"text"`
+	Kind       string  `json:"kind"`
+	Symbol     string  `json:"symbol"`
+	Role       string  `json:"role"`
+	Normalised float64 `json:"normalised"`
+}
+
+type planAttenuationDB struct {
+	Pass float64  `json:"pass"`
+	Stop *float64 `json:"stop"`
+}
+
+func runPlan(env *Env, o *planOptions) error {
+	spec, err := planSpec(o)
+	if err != nil {
+		return err
+	}
+	var anchor float64
+	if o.anchor != "" {
+		if anchor, err = stock.ParseValue(o.anchor, stock.Capacitor); err != nil {
+			return fault.Invalidf("--anchor: %v", err)
+		}
+	}
+	d, err := synth.NewDesign(spec, 0, spec.Odd)
+	if err != nil {
+		return err
+	}
+	stages, err := d.Scale(synth.Scaling{Anchor: anchor})
+	if err != nil {
+		return err
+	}
+	refs := synth.DefaultRefs(stages)
+	lo, hi := d.Band()
+	netlist := synth.Netlist(stages, synth.NetlistOptions{
+		Title:  planTitle(d),
+		FStart: lo, FStop: hi, PointsPerDecade: 50,
+		Refs: refs,
+	})
+	if o.netlist != "" {
+		if err := os.WriteFile(o.netlist, []byte(netlist), 0o644); err != nil {
+			return fmt.Errorf("write netlist: %w", err)
+		}
+	}
+	// Attenuation of the analysed (scaled) response, not the ideal target:
+	// they agree, and this is what the values deliver.
+	passAtt := synth.Attenuation(synth.CascadeResponse(stages, 2*math.Pi*spec.Pass))
+	var stopAtt *float64
+	if spec.Stop > 0 {
+		a := synth.Attenuation(synth.CascadeResponse(stages, 2*math.Pi*spec.Stop))
+		stopAtt = &a
+	}
+	warnings := rangeWarnings(stages, refs)
+
+	if o.json {
+		out := planJSON{
+			Order: d.Order, Response: spec.Approx.String(), Kind: spec.Kind.String(),
+			PassHz: spec.Pass, PassAttenDB: spec.PassAtten, Odd: d.Odd.String(),
+			AttenuationDB: planAttenuationDB{Pass: passAtt, Stop: stopAtt},
+			Notes:         append(append([]string{}, d.Notes...), warnings...),
+			Netlist:       netlist,
+		}
+		if spec.Stop > 0 {
+			out.StopHz, out.StopAttenDB = &spec.Stop, &spec.StopAtten
+		}
+		if spec.Approx == synth.Chebyshev {
+			out.RippleDB = &spec.Ripple
+		}
+		if spec.Approx == synth.Bessel {
+			n := spec.BesselNorm.String()
+			out.BesselNorm = &n
+		}
+		for i, sec := range d.Sections {
+			norm, err := d.Normalised(i)
+			if err != nil {
+				return err
+			}
+			js := planSectionJSON{Topology: sec.Topology.ID, Name: sec.Topology.Name, F0Hz: sec.F0, Q: sec.Q, Reason: sec.Reason}
+			if sec.RealF0 > 0 {
+				rf := sec.RealF0
+				js.RealF0Hz = &rf
+			}
+			for j, e := range sec.Topology.Elements {
+				for k, part := range stages[i].Positions[j].Parts {
+					js.Components = append(js.Components, planComponentJSON{
+						Ref: refs(i, j, k), Value: part, Text: formatPart(part, e.Kind),
+						Kind: e.Kind.String(), Symbol: e.Symbol, Role: e.Role, Normalised: norm[j],
+					})
+				}
+			}
+			out.Sections = append(out.Sections, js)
+		}
+		return writeJSON(env.Out, out)
+	}
+
+	w := env.Out
+	fmt.Fprintln(w, planTitle(d))
+	for _, n := range d.Notes {
+		fmt.Fprintln(w, "  "+n)
+	}
+	fmt.Fprintln(w)
+	secs := newGrid("stage", "topology", "f0", "Q", "reason").right(0, 2, 3)
+	secs.title = "Sections in cascade order"
+	for i, sec := range d.Sections {
+		q := "-"
+		if sec.Q > 0 {
+			q = strconv.FormatFloat(sec.Q, 'f', 4, 64)
+		}
+		f0 := formatHz(sec.F0)
+		if sec.RealF0 > 0 {
+			f0 += " (real pole " + formatHz(sec.RealF0) + ")"
+		}
+		secs.add(strconv.Itoa(i+1), sec.Topology.Name, f0, q, sec.Reason)
+	}
+	secs.render(env, w)
+	fmt.Fprintln(w)
+	comps := newGrid("stage", "ref", "element", "role", "normalised", "value").right(0, 4, 5)
+	comps.title = "Components (normalised: edge 1 rad/s; scaled by 2π·fp and per-stage impedance)"
+	for i, sec := range d.Sections {
+		norm, err := d.Normalised(i)
+		if err != nil {
+			return err
+		}
+		for j, e := range sec.Topology.Elements {
+			for k, part := range stages[i].Positions[j].Parts {
+				comps.add(strconv.Itoa(i+1), refs(i, j, k), e.Symbol, e.Role,
+					strconv.FormatFloat(norm[j], 'g', 6, 64), formatPart(part, e.Kind))
+			}
+		}
+	}
+	comps.render(env, w)
+	fmt.Fprintln(w)
+	fmt.Fprintf(w, "Attenuation: %s dB at fp %s (allowed %.3f dB)", formatDB(passAtt, 3), formatHz(spec.Pass), spec.PassAtten)
+	if stopAtt != nil {
+		fmt.Fprintf(w, ", %s dB at fs %s (required %.4g dB)", formatDB(*stopAtt, 2), formatHz(spec.Stop), spec.StopAtten)
+	}
+	fmt.Fprintln(w)
+	for _, wn := range warnings {
+		fmt.Fprintln(w, "Note: "+wn)
+	}
+	if o.netlist != "" {
+		fmt.Fprintf(w, "SPICE netlist written to %s\n", o.netlist)
+	}
+	return nil
+}
+
+// planTitle is a one-line description of the design.
+func planTitle(d *synth.Design) string {
+	s := d.Spec
+	var b strings.Builder
+	fmt.Fprintf(&b, "%s-order %s %s, fp %s", ordinal(d.Order), approxName(s), kindName(s.Kind), formatHz(s.Pass))
+	if s.Stop > 0 {
+		fmt.Fprintf(&b, ", fs %s with %.4g dB", formatHz(s.Stop), s.StopAtten)
+	}
+	return b.String()
+}
+
+func approxName(s synth.Spec) string {
+	switch s.Approx {
+	case synth.Chebyshev:
+		return fmt.Sprintf("Chebyshev (%.4g dB ripple)", s.Ripple)
+	case synth.Bessel:
+		if s.BesselNorm == synth.BesselDelay {
+			return "Bessel (delay-normalised)"
+		}
+		return "Bessel"
+	}
+	return "Butterworth"
+}
+
+func kindName(k synth.Kind) string {
+	if k == synth.HighPass {
+		return "high-pass"
+	}
+	return "low-pass"
+}
+
+func ordinal(n int) string {
+	suffix := "th"
+	switch {
+	case n%100 >= 11 && n%100 <= 13:
+	case n%10 == 1:
+		suffix = "st"
+	case n%10 == 2:
+		suffix = "nd"
+	case n%10 == 3:
+		suffix = "rd"
+	}
+	return strconv.Itoa(n) + suffix
+}
+
+// formatHz writes a frequency with an SI prefix and up to 5 significant
+// digits: 1 kHz, 1.5 kHz, 440 Hz.
+func formatHz(f float64) string {
+	for _, p := range []struct {
+		s string
+		v float64
+	}{{"G", 1e9}, {"M", 1e6}, {"k", 1e3}} {
+		if f >= p.v {
+			return strconv.FormatFloat(f/p.v, 'g', 5, 64) + " " + p.s + "Hz"
+		}
+	}
+	return strconv.FormatFloat(f, 'g', 5, 64) + " Hz"
+}
+
+// formatDB writes a number of dB with prec decimals, without a minus sign
+// on a value that rounds to zero.
+func formatDB(x float64, prec int) string {
+	if math.Abs(x) < 0.5*math.Pow10(-prec) {
+		x = 0
+	}
+	return strconv.FormatFloat(x, 'f', prec, 64)
+}
+
+// formatPart writes a component value with its unit.
+func formatPart(v float64, k synth.PartKind) string {
+	if k == synth.Capacitor {
+		return stock.FormatValue(v, stock.Capacitor)
+	}
+	return stock.FormatValue(v, stock.Resistor)
+}
+
+// Practical ranges (DOMAIN.md practical rules, common practice, no source):
+// resistors 1 kΩ to 1 MΩ, capacitors from 100 pF.
+const (
+	planRMin = synth.DefaultRMin
+	planRMax = synth.DefaultRMax
+	planCMin = 100e-12
+)
+
+// rangeWarnings lists parts outside the practical ranges.
+func rangeWarnings(stages []synth.Stage, refs func(int, int, int) string) []string {
+	var out []string
+	for i, st := range stages {
+		for j, e := range st.Topology.Elements {
+			for k, v := range st.Positions[j].Parts {
+				switch {
+				case e.Kind == synth.Resistor && (v < planRMin || v > planRMax):
+					out = append(out, fmt.Sprintf("%s = %s is outside the practical range 1 kΩ to 1 MΩ; try another --anchor",
+						refs(i, j, k), formatPart(v, e.Kind)))
+				case e.Kind == synth.Capacitor && v < planCMin:
+					out = append(out, fmt.Sprintf("%s = %s is below 100 pF, where stray and op-amp input capacitance matter; try a larger --anchor",
+						refs(i, j, k), formatPart(v, e.Kind)))
+				}
+			}
+		}
+	}
+	return out
+}
