@@ -1,0 +1,600 @@
+package cli
+
+import (
+	"context"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"drawerfit/fault"
+	"drawerfit/stock"
+)
+
+func init() { register("stock", newStockCmd) }
+
+func newStockCmd(env *Env) *cobra.Command {
+	cmd := &cobra.Command{
+		Use:   "stock",
+		Short: "Keep the parts inventory: import, list, add, count, export, history",
+		Long: `The stock database is the drawer as drawerfit knows it: one row per kind,
+value, tolerance, package, dielectric and location, with a quantity. Every
+change of a quantity is written to a ledger with its reason and time.
+
+Values are read as plain numbers (4700), with SI prefixes (4.7k, 47nF,
+0.047uF) or in the IEC 60062 code (4K7, R47, 1M0, 2n2, 4u7, p68).
+Capacitor values need a prefix or the unit F: a bare 103 or 0.1 is refused,
+since markings and old schematics read those differently. Tolerances are
+percentages (1%, ±0.5%) or IEC 60062 letters (F, G, J, K, M).
+
+The database file is --db, else $DRAWERFIT_DB, else drawerfit/stock.db in
+the XDG data home; it is created on first use.`,
+		Example: `  # Fill a fresh database from the bench drawer's spreadsheet and look at it
+  drawerfit stock import sample-stock.csv
+  drawerfit stock list --kind capacitor
+
+  # Ten 2.2 nF C0G parts arrived for bin C4
+  drawerfit stock add 2n2 --kind C --qty 10 --tol 5% --dielectric C0G --location C4
+
+  # Recount bin A2 and write the inventory back to a spreadsheet
+  drawerfit stock set 14 --qty 37 --reason "recounted A2"
+  drawerfit stock export drawer.csv`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error { return cmd.Help() },
+	}
+	cmd.AddCommand(newStockImportCmd(env), newStockListCmd(env), newStockAddCmd(env),
+		newStockSetCmd(env), newStockRemoveCmd(env), newStockExportCmd(env), newStockHistoryCmd(env))
+	return cmd
+}
+
+// itemJSON is the stable JSON form of a stock row (stock list --json).
+type itemJSON struct {
+	ID         int64   `json:"id"`
+	Kind       string  `json:"kind"`
+	Value      float64 `json:"value"`
+	Tolerance  float64 `json:"tolerance"`
+	Quantity   int     `json:"quantity"`
+	Package    string  `json:"package"`
+	Dielectric string  `json:"dielectric"`
+	Location   string  `json:"location"`
+	Note       string  `json:"note"`
+}
+
+func toItemJSON(it stock.Item) itemJSON {
+	return itemJSON{ID: it.ID, Kind: it.Kind.String(), Value: it.Value, Tolerance: it.Tolerance,
+		Quantity: it.Quantity, Package: it.Package, Dielectric: it.Dielectric, Location: it.Location, Note: it.Note}
+}
+
+// parseID reads a stock row id: a positive integer, optionally written #12.
+func parseID(s string) (int64, error) {
+	t := strings.TrimPrefix(strings.TrimSpace(s), "#")
+	id, err := strconv.ParseInt(t, 10, 64)
+	if err != nil || id <= 0 {
+		return 0, fault.Invalidf("stock row id %q is not a positive whole number", s)
+	}
+	return id, nil
+}
+
+// ---- import ----
+
+type stockImportOptions struct {
+	File    string
+	Replace bool
+	JSON    bool
+}
+
+func newStockImportCmd(env *Env) *cobra.Command {
+	var o stockImportOptions
+	cmd := &cobra.Command{
+		Use:   "import FILE",
+		Short: "Add the rows of a CSV file to the stock (all or nothing)",
+		Long: `Import reads a CSV file with a header line. Columns kind, value and quantity
+are required; tolerance, package, dielectric, location and note are optional;
+any order, any letter case. kind is resistor, capacitor, R or C. The file may
+be UTF-8 with or without a byte order mark, with LF or CRLF line ends.
+
+If any row is bad nothing is imported: every problem is listed with its line,
+column and reason. A row whose kind, value, tolerance, package, dielectric
+and location match an existing row adds its quantity to that row. With
+--replace the inventory becomes exactly the file's content, in one step.
+FILE "-" reads standard input.`,
+		Example: `  # First fill of the workshop's database from its spreadsheet export
+  drawerfit stock import sample-stock.csv
+
+  # After a full stocktake: make the database match the counted sheet
+  drawerfit stock import stocktake-march.csv --replace`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			o.File = args[0]
+			return runStockImport(cmd.Context(), env, o)
+		},
+	}
+	cmd.Flags().BoolVar(&o.Replace, "replace", false, "make the inventory exactly the file's content")
+	cmd.Flags().BoolVar(&o.JSON, "json", false, "print the summary as JSON")
+	return cmd
+}
+
+func runStockImport(ctx context.Context, env *Env, o stockImportOptions) error {
+	items, err := env.readStockCSV(o.File)
+	if err != nil {
+		if fault.Is(err, fault.Invalid) {
+			return fault.Invalidf("%w\nnothing was imported", err)
+		}
+		return err
+	}
+	db, err := env.openStore()
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	sum, err := db.Import(ctx, items, o.Replace)
+	if err != nil {
+		return err
+	}
+	if o.JSON {
+		return writeJSON(env.Out, map[string]any{
+			"rows": sum.Rows, "added": sum.Added, "merged": sum.Merged, "kept": sum.Kept,
+			"removed": sum.Removed, "units": sum.Units, "replace": o.Replace,
+		})
+	}
+	name := o.File
+	if name == "-" {
+		name = "standard input"
+	}
+	fmt.Fprintf(env.Out, "imported %d rows from %s into %s\n", sum.Rows, name, db.Path())
+	fmt.Fprintf(env.Out, "  %d new stock rows\n", sum.Added)
+	if sum.Merged > 0 {
+		fmt.Fprintf(env.Out, "  %d rows matched a row already there; their quantities were added to it\n", sum.Merged)
+	}
+	if o.Replace {
+		fmt.Fprintf(env.Out, "  %d rows kept with the file's quantity, %d rows not in the file removed\n", sum.Kept, sum.Removed)
+	}
+	fmt.Fprintf(env.Out, "  %+d parts in total\n", sum.Units)
+	return nil
+}
+
+// ---- list ----
+
+type stockListOptions struct {
+	Kind string
+	CSV  string
+	JSON bool
+}
+
+func newStockListCmd(env *Env) *cobra.Command {
+	var o stockListOptions
+	cmd := &cobra.Command{
+		Use:   "list",
+		Short: "Show the stock rows",
+		Long: `List shows every stock row with its id (used by set, remove and history),
+formatted value, tolerance, quantity, package, dielectric, location and note.
+On a terminal it draws a table; piped, it prints tab-separated lines. --json
+prints an array of objects with the keys id, kind, value (ohms or farads),
+tolerance (a fraction), quantity, package, dielectric, location and note.
+
+--csv FILE lists a CSV file instead of the database, without storing it:
+a quick look at a drawer, and a check that the file would import.`,
+		Example: `  # What film and C0G capacitors are in the drawer?
+  drawerfit stock list --kind capacitor
+
+  # Look at the bundled sample drawer without any set-up
+  drawerfit stock list --csv sample-stock.csv
+
+  # Resistors with fewer than ten left, for the next order
+  drawerfit stock list --kind R --json | jq '.[] | select(.quantity < 10)'`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error { return runStockList(cmd.Context(), env, o) },
+	}
+	cmd.Flags().StringVar(&o.Kind, "kind", "", "only this kind: resistor, capacitor, R or C")
+	cmd.Flags().StringVar(&o.CSV, "csv", "", "list this CSV file instead of the database")
+	cmd.Flags().BoolVar(&o.JSON, "json", false, "print JSON")
+	return cmd
+}
+
+func runStockList(ctx context.Context, env *Env, o stockListOptions) error {
+	var f stock.Filter
+	if o.Kind != "" {
+		k, err := stock.ParseKind(o.Kind)
+		if err != nil {
+			return err
+		}
+		f.Kind = &k
+	}
+	items, err := env.stockItems(ctx, o.CSV, f)
+	if err != nil {
+		return err
+	}
+	if o.JSON {
+		out := make([]itemJSON, 0, len(items))
+		for _, it := range items {
+			out = append(out, toItemJSON(it))
+		}
+		return writeJSON(env.Out, out)
+	}
+	if len(items) == 0 {
+		if o.CSV == "" && f.Kind == nil {
+			fmt.Fprintln(env.Err, "the stock is empty; fill it with: drawerfit stock import FILE")
+		} else {
+			fmt.Fprintln(env.Err, "no matching stock rows")
+		}
+		return nil
+	}
+	g := newGrid("ID", "Kind", "Value", "Tol", "Qty", "Package", "Dielectric", "Location", "Note").right(0, 2, 3, 4)
+	parts := 0
+	for _, it := range items {
+		g.add(strconv.FormatInt(it.ID, 10), it.Kind.String(), stock.FormatValue(it.Value, it.Kind),
+			stock.FormatTolerance(it.Tolerance), strconv.Itoa(it.Quantity), it.Package, it.Dielectric,
+			it.Location, oneLine(it.Note))
+		parts += it.Quantity
+	}
+	g.footer = []string{"", "", "", "", strconv.Itoa(parts), "", "", "", fmt.Sprintf("%d rows", len(items))}
+	g.render(env, env.Out)
+	return nil
+}
+
+// oneLine keeps a table cell on one line.
+func oneLine(s string) string {
+	return strings.Join(strings.Fields(s), " ")
+}
+
+// ---- add ----
+
+type stockAddOptions struct {
+	Value      string
+	Kind       string
+	Qty        int
+	Tol        string
+	Package    string
+	Dielectric string
+	Location   string
+	Note       string
+	Reason     string
+	JSON       bool
+}
+
+func newStockAddCmd(env *Env) *cobra.Command {
+	var o stockAddOptions
+	cmd := &cobra.Command{
+		Use:   "add VALUE --kind K --qty N",
+		Short: "Add parts: a new row, or more of an existing one",
+		Long: `Add puts parts into the stock. If a row with the same kind, value,
+tolerance, package, dielectric and location exists, the quantity is added to
+it; otherwise a new row is made. VALUE is written as for import (4K7, 4.7k,
+2n2, 470pF).`,
+		Example: `  # A strip of fifty 4.7 kΩ 1 % 0805 resistors for bin A3
+  drawerfit stock add 4K7 --kind R --qty 50 --tol 1% --package 0805 --location A3
+
+  # Twenty 10 nF polypropylene film capacitors from the audio order
+  drawerfit stock add 10n --kind C --qty 20 --tol 5% --dielectric PP --package radial --location D2 --reason "audio order"`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			o.Value = args[0]
+			return runStockAdd(cmd.Context(), env, o)
+		},
+	}
+	fl := cmd.Flags()
+	fl.StringVar(&o.Kind, "kind", "", "resistor, capacitor, R or C (required)")
+	fl.IntVar(&o.Qty, "qty", 0, "number of parts (required)")
+	fl.StringVar(&o.Tol, "tol", "", "tolerance: 1%, ±0.5% or an IEC 60062 letter (F, J, K...)")
+	fl.StringVar(&o.Package, "package", "", "package, e.g. 0805, 1206, axial, radial")
+	fl.StringVar(&o.Dielectric, "dielectric", "", "capacitor dielectric: C0G, NP0, PP, PET, PS, mica, X7R, electrolytic...")
+	fl.StringVar(&o.Location, "location", "", "bin, drawer or reel label")
+	fl.StringVar(&o.Note, "note", "", "free text")
+	fl.StringVar(&o.Reason, "reason", "added", "reason written to the ledger")
+	fl.BoolVar(&o.JSON, "json", false, "print the stored row as JSON")
+	cmd.MarkFlagRequired("kind")
+	cmd.MarkFlagRequired("qty")
+	return cmd
+}
+
+func runStockAdd(ctx context.Context, env *Env, o stockAddOptions) error {
+	k, err := stock.ParseKind(o.Kind)
+	if err != nil {
+		return err
+	}
+	v, err := stock.ParseValue(o.Value, k)
+	if err != nil {
+		return err
+	}
+	if o.Qty < 0 {
+		return fault.Invalidf("--qty %d is negative; use stock set to lower a count", o.Qty)
+	}
+	it := stock.Item{Kind: k, Value: v, Quantity: o.Qty, Package: o.Package, Dielectric: o.Dielectric,
+		Location: o.Location, Note: o.Note}
+	if strings.TrimSpace(o.Tol) != "" {
+		if it.Tolerance, err = stock.ParseToleranceFor(o.Tol, k, v); err != nil {
+			return err
+		}
+	}
+	db, err := env.openStore()
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	got, merged, err := db.Add(ctx, it, o.Reason)
+	if err != nil {
+		return err
+	}
+	if o.JSON {
+		return writeJSON(env.Out, map[string]any{"item": toItemJSON(got), "merged": merged})
+	}
+	if merged {
+		fmt.Fprintf(env.Out, "#%d %s: %+d, now %d on hand\n", got.ID, got.Label(), o.Qty, got.Quantity)
+	} else {
+		fmt.Fprintf(env.Out, "#%d %s: new row, %d on hand\n", got.ID, got.Label(), got.Quantity)
+	}
+	return nil
+}
+
+// ---- set ----
+
+type stockSetOptions struct {
+	ID     string
+	Qty    int
+	Reason string
+	JSON   bool
+}
+
+func newStockSetCmd(env *Env) *cobra.Command {
+	var o stockSetOptions
+	cmd := &cobra.Command{
+		Use:   "set ID --qty N --reason TEXT",
+		Short: "Set the quantity of one stock row (after a count, a loss, a use)",
+		Long: `Set writes a new quantity for the row with the given id (see stock list)
+and records the difference and the reason in the ledger.`,
+		Example: `  # The bin of 10 kΩ resistors (row 14) was counted: 37 left
+  drawerfit stock set 14 --qty 37 --reason "recounted bin A2"`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			o.ID = args[0]
+			return runStockSet(cmd.Context(), env, o)
+		},
+	}
+	cmd.Flags().IntVar(&o.Qty, "qty", 0, "the new quantity (required)")
+	cmd.Flags().StringVar(&o.Reason, "reason", "", "why the quantity changed (required)")
+	cmd.Flags().BoolVar(&o.JSON, "json", false, "print the row as JSON")
+	cmd.MarkFlagRequired("qty")
+	cmd.MarkFlagRequired("reason")
+	return cmd
+}
+
+func runStockSet(ctx context.Context, env *Env, o stockSetOptions) error {
+	id, err := parseID(o.ID)
+	if err != nil {
+		return err
+	}
+	if o.Qty < 0 {
+		return fault.Invalidf("--qty %d is negative", o.Qty)
+	}
+	db, err := env.openStore()
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	before, err := db.Get(ctx, id)
+	if err != nil {
+		return err
+	}
+	got, err := db.SetQuantity(ctx, id, o.Qty, o.Reason)
+	if err != nil {
+		return err
+	}
+	if o.JSON {
+		return writeJSON(env.Out, toItemJSON(got))
+	}
+	if got.Quantity == before.Quantity {
+		fmt.Fprintf(env.Out, "#%d %s: already %d, nothing written\n", got.ID, got.Label(), got.Quantity)
+		return nil
+	}
+	fmt.Fprintf(env.Out, "#%d %s: %d -> %d (%+d)\n", got.ID, got.Label(), before.Quantity, got.Quantity, got.Quantity-before.Quantity)
+	return nil
+}
+
+// ---- remove ----
+
+func newStockRemoveCmd(env *Env) *cobra.Command {
+	return &cobra.Command{
+		Use:   "remove ID",
+		Short: "Take a stock row out of the inventory (its history stays)",
+		Long: `Remove takes the row with the given id out of the inventory. The ledger keeps
+its history and gets a closing entry that takes its quantity to zero.`,
+		Example: `  # The old carbon-film bin D6 (row 31) was emptied into the scrap box
+  drawerfit stock remove 31`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error { return runStockRemove(cmd.Context(), env, args[0]) },
+	}
+}
+
+func runStockRemove(ctx context.Context, env *Env, idText string) error {
+	id, err := parseID(idText)
+	if err != nil {
+		return err
+	}
+	db, err := env.openStore()
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	it, err := db.Get(ctx, id)
+	if err != nil {
+		return err
+	}
+	if err := db.Remove(ctx, id); err != nil {
+		return err
+	}
+	fmt.Fprintf(env.Out, "removed #%d %s (%d parts written off in the ledger)\n", it.ID, it.Label(), it.Quantity)
+	return nil
+}
+
+// ---- export ----
+
+func newStockExportCmd(env *Env) *cobra.Command {
+	return &cobra.Command{
+		Use:   "export [FILE]",
+		Short: "Write the stock as CSV (standard output by default)",
+		Long: `Export writes every stock row as CSV in the format import reads, with exact
+values (4.7k, 2.2nF) and tolerances. Text that a spreadsheet would run as a
+formula (starting with =, +, - or @) gets a leading apostrophe, which import
+removes again. A FILE is replaced in one step: a reader never sees half a
+file.`,
+		Example: `  # Hand the drawer to the spreadsheet for the quarterly order
+  drawerfit stock export drawer.csv
+
+  # Move the inventory to a fresh database file
+  drawerfit stock export | drawerfit --db new.db stock import - --replace`,
+		Args: cobra.MaximumNArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			file := ""
+			if len(args) == 1 {
+				file = args[0]
+			}
+			return runStockExport(cmd.Context(), env, file)
+		},
+	}
+}
+
+func runStockExport(ctx context.Context, env *Env, file string) error {
+	db, err := env.openStore()
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	items, err := db.List(ctx, stock.Filter{})
+	if err != nil {
+		return err
+	}
+	if file == "" || file == "-" {
+		return stock.WriteCSV(env.Out, items)
+	}
+	if err := writeFileAtomic(file, func(w io.Writer) error { return stock.WriteCSV(w, items) }); err != nil {
+		return err
+	}
+	fmt.Fprintf(env.Err, "exported %d rows to %s\n", len(items), file)
+	return nil
+}
+
+// writeFileAtomic writes a file through a temporary file in the same
+// directory, synced and then renamed over the target, so the target is
+// either the old file or the whole new one.
+func writeFileAtomic(path string, write func(io.Writer) error) (err error) {
+	dir := filepath.Dir(path)
+	tmp, err := os.CreateTemp(dir, "."+filepath.Base(path)+".*.tmp")
+	if err != nil {
+		return fmt.Errorf("write %s: %w", path, err)
+	}
+	defer func() {
+		if err != nil {
+			tmp.Close()
+			os.Remove(tmp.Name())
+		}
+	}()
+	if err := write(tmp); err != nil {
+		return err
+	}
+	if err := tmp.Chmod(0o644); err != nil {
+		return fmt.Errorf("write %s: %w", path, err)
+	}
+	if err := tmp.Sync(); err != nil {
+		return fmt.Errorf("write %s: %w", path, err)
+	}
+	if err := tmp.Close(); err != nil {
+		return fmt.Errorf("write %s: %w", path, err)
+	}
+	if err := os.Rename(tmp.Name(), path); err != nil {
+		return fmt.Errorf("write %s: %w", path, err)
+	}
+	// Make the rename itself durable (best effort; not all systems allow
+	// syncing a directory).
+	if d, derr := os.Open(dir); derr == nil {
+		d.Sync()
+		d.Close()
+	}
+	return nil
+}
+
+// ---- history ----
+
+type stockHistoryOptions struct {
+	ID   string
+	JSON bool
+}
+
+// movementJSON is the stable JSON form of a ledger entry.
+type movementJSON struct {
+	ID      int64    `json:"id"`
+	StockID int64    `json:"stock_id"`
+	Delta   int      `json:"delta"`
+	Balance int      `json:"balance"`
+	Reason  string   `json:"reason"`
+	At      string   `json:"at"`
+	Part    itemJSON `json:"part"`
+}
+
+func newStockHistoryCmd(env *Env) *cobra.Command {
+	var o stockHistoryOptions
+	cmd := &cobra.Command{
+		Use:   "history [ID]",
+		Short: "Show the ledger of quantity changes, for one row or all",
+		Long: `History shows every change of a quantity, oldest first: when (UTC), which row,
+the change, the quantity after it and the reason. Removed rows keep their
+history. --json prints an array of objects with the keys id, stock_id,
+delta, balance, reason, at (RFC 3339) and part (as in stock list --json).`,
+		Example: `  # Where did the 2.2 nF C0G capacitors (row 52) go?
+  drawerfit stock history 52
+
+  # Everything that happened to the drawer, as JSON
+  drawerfit stock history --json`,
+		Args: cobra.MaximumNArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if len(args) == 1 {
+				o.ID = args[0]
+			}
+			return runStockHistory(cmd.Context(), env, o)
+		},
+	}
+	cmd.Flags().BoolVar(&o.JSON, "json", false, "print JSON")
+	return cmd
+}
+
+func runStockHistory(ctx context.Context, env *Env, o stockHistoryOptions) error {
+	var id int64
+	if o.ID != "" {
+		var err error
+		if id, err = parseID(o.ID); err != nil {
+			return err
+		}
+	}
+	db, err := env.openStore()
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	ms, err := db.History(ctx, id)
+	if err != nil {
+		return err
+	}
+	if o.JSON {
+		out := make([]movementJSON, 0, len(ms))
+		for _, m := range ms {
+			out = append(out, movementJSON{ID: m.ID, StockID: m.StockID, Delta: m.Delta, Balance: m.Balance,
+				Reason: m.Reason, At: m.At.UTC().Format(time.RFC3339Nano), Part: toItemJSON(m.Part)})
+		}
+		return writeJSON(env.Out, out)
+	}
+	if len(ms) == 0 {
+		fmt.Fprintln(env.Err, "the ledger is empty")
+		return nil
+	}
+	g := newGrid("Entry", "Time (UTC)", "Row", "Part", "Change", "After", "Reason").right(0, 2, 4, 5)
+	for _, m := range ms {
+		g.add(strconv.FormatInt(m.ID, 10), m.At.UTC().Format("2006-01-02 15:04:05"), strconv.FormatInt(m.StockID, 10),
+			m.Part.Label(), fmt.Sprintf("%+d", m.Delta), strconv.Itoa(m.Balance), oneLine(m.Reason))
+	}
+	g.render(env, env.Out)
+	return nil
+}
