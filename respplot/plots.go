@@ -231,7 +231,6 @@ func addMask(p *plot.Plot, leg *legend, r *Response, lo, hi, bottom, top float64
 		f    float64
 		name string
 	}{{L.Fp, "fp"}, {L.Fs, "fs"}}
-	var lab plotter.XYLabels
 	for _, e := range edges {
 		if !(e.f > lo && e.f < hi) {
 			continue
@@ -239,22 +238,27 @@ func addMask(p *plot.Plot, leg *legend, r *Response, lo, hi, bottom, top float64
 		if err := addLine(p, leg, plotter.XYs{{X: e.f, Y: bottom}, {X: e.f, Y: top}}, edgeStyle, ""); err != nil {
 			return err
 		}
-		lab.XYs = append(lab.XYs, plotter.XY{X: e.f, Y: bottom})
-		lab.Labels = append(lab.Labels, e.name+" "+FormatEng(e.f, "Hz", 4))
-	}
-	if len(lab.XYs) > 0 {
-		l, err := plotter.NewLabels(lab)
+		// Write the label on the transition-band side of its line, at the
+		// bottom, where neither the mask nor the curve is: right of fp and
+		// left of fs for a low-pass, the other way round for a high-pass.
+		right := (e.name == "fp") != hp
+		l, err := plotter.NewLabels(plotter.XYLabels{
+			XYs:    plotter.XYs{{X: e.f, Y: bottom}},
+			Labels: []string{e.name + " " + FormatEng(e.f, "Hz", 4)},
+		})
 		if err != nil {
 			return fmt.Errorf("respplot: edge labels: %w", err)
 		}
-		for i := range l.TextStyle {
-			l.TextStyle[i].Font = sans
-			l.TextStyle[i].Font.Size = vg.Points(8)
-			l.TextStyle[i].Rotation = math.Pi / 2
-			l.TextStyle[i].XAlign = draw.XLeft
-			l.TextStyle[i].YAlign = draw.YTop
+		st := &l.TextStyle[0]
+		st.Font = sans
+		st.Font.Size = vg.Points(8)
+		st.YAlign = draw.YBottom
+		st.XAlign = draw.XLeft
+		l.Offset = vg.Point{X: vg.Points(3), Y: vg.Points(3)}
+		if !right {
+			st.XAlign = draw.XRight
+			l.Offset.X = -vg.Points(3)
 		}
-		l.Offset = vg.Point{X: -vg.Points(2), Y: vg.Points(3)}
 		p.Add(l)
 	}
 	return nil

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
+	"sort"
 
 	"drawerfit/synth"
 )
@@ -159,4 +160,46 @@ func Sample(h func(w float64) complex128, f []float64) (gain, phase, delay []flo
 		delay[i] = -cmplx.Phase(h(w2)/h(w1)) / (w2 - w1)
 	}
 	return gain, phase, delay
+}
+
+// PercentileBand returns the band between the pLo and pHi percentiles
+// (0 < pLo < pHi < 100) of the gain curves of Monte Carlo trials: gains[t][i]
+// is trial t's gain in dB at freq[i]. Percentiles interpolate linearly
+// between order statistics (type 7 of Hyndman and Fan, the default of R and
+// NumPy). NaN gains are skipped. It panics if a trial's length differs from
+// len(freq) or the percentiles are out of order.
+func PercentileBand(label string, freq []float64, gains [][]float64, pLo, pHi float64) Band {
+	if !(0 < pLo && pLo < pHi && pHi < 100) {
+		panic("respplot: PercentileBand needs 0 < pLo < pHi < 100")
+	}
+	b := Band{Label: label, Freq: append([]float64(nil), freq...),
+		Lo: make([]float64, len(freq)), Hi: make([]float64, len(freq))}
+	col := make([]float64, 0, len(gains))
+	for i := range freq {
+		col = col[:0]
+		for _, g := range gains {
+			if len(g) != len(freq) {
+				panic("respplot: PercentileBand trial length differs from the frequencies")
+			}
+			if !math.IsNaN(g[i]) {
+				col = append(col, g[i])
+			}
+		}
+		sort.Float64s(col)
+		b.Lo[i], b.Hi[i] = quantile(col, pLo/100), quantile(col, pHi/100)
+	}
+	return b
+}
+
+// quantile is the type-7 quantile of sorted data (NaN when empty).
+func quantile(sorted []float64, p float64) float64 {
+	if len(sorted) == 0 {
+		return math.NaN()
+	}
+	h := p * float64(len(sorted)-1)
+	i := int(math.Floor(h))
+	if i >= len(sorted)-1 {
+		return sorted[len(sorted)-1]
+	}
+	return sorted[i] + (h-float64(i))*(sorted[i+1]-sorted[i])
 }

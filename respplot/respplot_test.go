@@ -374,3 +374,17 @@ func TestShiftToZero(t *testing.T) {
 		})
 	}
 }
+
+func TestPercentileBand(t *testing.T) {
+	// Type-7 quantiles of 1..5: p5 = 1 + 0.05·4 = 1.2, p95 = 4.8 (the
+	// definition in Hyndman & Fan 1996, as numpy.percentile computes it).
+	f := []float64{100, 200}
+	gains := [][]float64{{1, -1}, {2, -2}, {3, -3}, {4, -4}, {5, math.NaN()}}
+	b := PercentileBand("x", f, gains, 5, 95)
+	want := [][2]float64{{1.2, 4.8}, {-4 + 0.05*3, -1 - 0.05*3}}
+	for i := range f {
+		if math.Abs(b.Lo[i]-want[i][0]) > 1e-12 || math.Abs(b.Hi[i]-want[i][1]) > 1e-12 {
+			t.Errorf("at %g Hz band %g..%g, want %g..%g", f[i], b.Lo[i], b.Hi[i], want[i][0], want[i][1])
+		}
+	}
+}
