@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strconv"
 
 	"drawerfit/fault"
 	"drawerfit/optimize"
@@ -208,11 +209,14 @@ func Run(c *optimize.Candidate, spec synth.Spec, opt Options) (*Result, error) {
 	if r.Yield < opt.TargetYield {
 		r.Needed = neededMargins(ts, &opt)
 	}
-	r.Warnings = append(r.Warnings, limitWarnings(j, nm, ts, &opt)...)
+	lw, onLimit := limitWarnings(j, nm, ts, &opt)
+	r.Warnings = append(r.Warnings, lw...)
 
 	if !opt.Brief {
 		r.WorstCase = corners(b, j, tol, &opt)
-		if r.Yield < opt.TargetYield && r.Nominal.Pass {
+		// Better parts cannot help a nominal that sits on (or beyond) a
+		// limit: about half the boards fail there whatever the tolerances.
+		if r.Yield < opt.TargetYield && r.Nominal.Pass && !onLimit {
 			r.Remedies = remedies(b, j, &opt, r.Blame, tol)
 		}
 		if opt.Refit != nil && r.Yield < opt.TargetYield && r.Nominal.Pass && c.Design != nil {
@@ -222,7 +226,7 @@ func Run(c *optimize.Candidate, spec synth.Spec, opt Options) (*Result, error) {
 			}
 		}
 	}
-	r.Advice = advice(r, j)
+	r.Advice = advice(r, j, onLimit)
 	return r, nil
 }
 
@@ -273,9 +277,8 @@ func neededMargins(ts *trialSet, opt *Options) *Margins {
 }
 
 // limitWarnings says plainly when the nominal response sits on a limit or
-// outside it.
-func limitWarnings(j *judge, nm metrics, ts *trialSet, opt *Options) []string {
-	var w []string
+// outside it; onLimit reports the first case.
+func limitWarnings(j *judge, nm metrics, ts *trialSet, opt *Options) (w []string, onLimit bool) {
 	n := float64(len(ts.pass))
 	check := func(name, at string, nomEx float64, ex []float64, margin float64) {
 		p := percentiles(ex)
@@ -284,32 +287,33 @@ func limitWarnings(j *judge, nm metrics, ts *trialSet, opt *Options) []string {
 		}
 		fails := 0
 		for _, e := range ex {
-			if e > margin {
+			if e > margin+judgeSlack {
 				fails++
 			}
 		}
 		inside := margin - nomEx
 		spread := p.P95 - p.P5
 		switch {
-		case inside < 0:
+		case inside < -judgeSlack:
 			w = append(w, fmt.Sprintf("the nominal design fails the %s limit by %.3f dB at %s: no tolerance can fix that; %s of the trials fail there",
 				name, -inside, at, pct(float64(fails)/n)))
 		case inside < 0.1*spread:
 			// Within a tenth of the 5-95 % spread: on the limit for all
 			// practical purposes.
-			w = append(w, fmt.Sprintf("the nominal response sits on the %s limit (%.3f dB inside it at %s, while tolerances spread it over %.2f dB, 5th to 95th percentile): %s of the boards fail there",
-				name, inside, at, spread, pct(float64(fails)/n)))
+			onLimit = true
+			w = append(w, fmt.Sprintf("the nominal response sits on the %s limit (%.3f dB inside it at %s, while tolerances spread it over %.2f dB, 5th to 95th percentile): %s of the boards fail there, and no single better part changes that",
+				name, math.Max(0, inside), at, spread, pct(float64(fails)/n)))
 		}
 	}
 	check("passband", fmt.Sprintf("fp %s", hz(j.fp)), j.passExcess(nm), ts.passEx, opt.PassMargin)
 	if j.hasStop {
 		check("stopband", fmt.Sprintf("fs %s", hz(j.fs)), j.stopExcess(nm), ts.stopEx, opt.StopMargin)
 	}
-	return w
+	return w, onLimit
 }
 
 // advice turns the computed figures into sentences.
-func advice(r *Result, j *judge) []string {
+func advice(r *Result, j *judge, onLimit bool) []string {
 	a := []string{}
 	if r.Yield >= r.TargetYield {
 		a = append(a, fmt.Sprintf("%s of the boards pass (95%% interval %s to %s), at or above the target %s.",
@@ -342,6 +346,9 @@ func advice(r *Result, j *judge) []string {
 		}
 		a = append(a, s+" (--pass-margin, --stop-margin).")
 	}
+	if onLimit && r.Refit == nil {
+		a = append(a, "The nominal response sits on a specification limit: fit the design with its edge moved inside the specification (a slightly wider passband, or less ripple), or accept a wider window.")
+	}
 	if rf := r.Refit; rf != nil {
 		what := fmt.Sprintf("its edge moved to %s", hz(rf.Pass))
 		if rf.Ripple > 0 {
@@ -353,8 +360,9 @@ func advice(r *Result, j *judge) []string {
 	return a
 }
 
-// hz formats a frequency for messages.
+// hz formats a frequency for messages, to 4 significant digits.
 func hz(f float64) string {
+	f, _ = strconv.ParseFloat(strconv.FormatFloat(f, 'g', 4, 64), 64)
 	switch {
 	case f >= 1e6:
 		return fmt.Sprintf("%.4g MHz", f/1e6)
