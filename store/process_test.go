@@ -17,6 +17,7 @@ import (
 	"testing"
 	"time"
 
+	"drawerfit/migrations"
 	"drawerfit/stock"
 )
 
@@ -44,6 +45,9 @@ func TestHelperProcess(t *testing.T) {
 	}
 	arg := func(i int) string { return os.Getenv(fmt.Sprintf("DRAWERFIT_HELPER_ARG%d", i)) }
 	ctx := context.Background()
+	if role == "open" {
+		io.Copy(io.Discard, os.Stdin)
+	}
 	db, err := Open(arg(0))
 	if err != nil {
 		fmt.Fprintln(os.Stderr, "helper:", err)
@@ -270,5 +274,43 @@ func TestTwoProcessesLoseNoUpdate(t *testing.T) {
 	t.Logf("the two processes took turns %d times", switches)
 	if switches < 2 {
 		t.Fatalf("the processes did not interleave (%d turns)", switches)
+	}
+}
+
+// TestTwoProcessesCreateOneFile starts two processes that open the same new
+// file at the same moment, as two commands on first use would: both must
+// succeed and each migration must be applied once.
+func TestTwoProcessesCreateOneFile(t *testing.T) {
+	if testing.Short() {
+		t.Skip("starts two subprocesses")
+	}
+	path := filepath.Join(t.TempDir(), "first-use.db")
+	var cmds []*exec.Cmd
+	var gates []io.WriteCloser
+	for i := 0; i < 2; i++ {
+		cmd := helper(t, "open", path)
+		in, _ := cmd.StdinPipe()
+		if err := cmd.Start(); err != nil {
+			t.Fatal(err)
+		}
+		cmds, gates = append(cmds, cmd), append(gates, in)
+	}
+	for _, g := range gates {
+		g.Close()
+	}
+	for i, cmd := range cmds {
+		if err := cmd.Wait(); err != nil {
+			t.Fatalf("helper %d: %v", i, err)
+		}
+	}
+	db, err := Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	var n, max int
+	db.SQL().QueryRow(`SELECT COUNT(*), MAX(version) FROM schema_version`).Scan(&n, &max)
+	if n != max || max != migrations.Latest() {
+		t.Fatalf("%d migration records, highest %d, want %d each", n, max, migrations.Latest())
 	}
 }
