@@ -75,6 +75,7 @@ func (g *grid) render(e *Env, w io.Writer) {
 		style.Color.Header = text.Colors{text.Bold}
 	}
 	style.Format.Header = text.FormatDefault
+	style.Format.Footer = text.FormatDefault
 	t.SetStyle(style)
 	if g.title != "" {
 		t.SetTitle(g.title)
