@@ -1,12 +1,18 @@
 package tolerance
 
 import (
+	"fmt"
 	"math"
 
-	"drawerfit/fault"
 	"drawerfit/optimize"
 	"drawerfit/synth"
 )
+
+// noSlack says why moving the edge is not possible; it is advice, not a
+// failure.
+type noSlack string
+
+func (n noSlack) Error() string { return string(n) }
 
 // refit moves the design's edge inside the specification so that its
 // nominal passband and stopband margins are equal, fits it again through
@@ -22,7 +28,7 @@ import (
 // an even order).
 func refit(b *board, c *optimize.Candidate, spec synth.Spec, opt Options) (*Refit, error) {
 	if !(spec.Stop > 0) {
-		return nil, fault.Infeasiblef("there is no stopband to take margin from")
+		return nil, noSlack("there is no stopband to take margin from")
 	}
 	nspec := spec
 	nspec.Order = c.Design.Order
@@ -44,11 +50,11 @@ func refit(b *board, c *optimize.Candidate, spec synth.Spec, opt Options) (*Refi
 		}
 		bal := func(r float64) float64 { return (spec.PassAtten - r) - (stopAt(r) - spec.StopAtten) }
 		if bal(spec.PassAtten) >= 0 {
-			return nil, fault.Infeasiblef("order %d has no stopband slack to trade", c.Design.Order)
+			return nil, noSlack(fmt.Sprintf("order %d has no stopband slack to trade for passband margin; one order more would have", c.Design.Order))
 		}
 		lo, hi := spec.PassAtten*1e-6, spec.PassAtten
 		if bal(lo) <= 0 {
-			return nil, fault.Infeasiblef("order %d cannot balance its margins", c.Design.Order)
+			return nil, noSlack(fmt.Sprintf("order %d cannot balance its margins", c.Design.Order))
 		}
 		for it := 0; it < 100; it++ {
 			m := 0.5 * (lo + hi)
@@ -82,7 +88,7 @@ func refit(b *board, c *optimize.Candidate, spec synth.Spec, opt Options) (*Refi
 		}
 		pm, sm := margins(1)
 		if sm <= pm {
-			return nil, fault.Infeasiblef("order %d has no stopband slack to trade", order)
+			return nil, noSlack(fmt.Sprintf("order %d has no stopband slack to trade for passband margin; one order more would have", order))
 		}
 		lo, hi := 0.0, math.Log(spec.Stop/spec.Pass)
 		if spec.Kind == synth.HighPass {

@@ -1,6 +1,7 @@
 package tolerance
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"sort"
@@ -212,6 +213,7 @@ func Run(c *optimize.Candidate, spec synth.Spec, opt Options) (*Result, error) {
 	lw, onLimit := limitWarnings(j, nm, ts, &opt)
 	r.Warnings = append(r.Warnings, lw...)
 
+	refitNote := ""
 	if !opt.Brief {
 		r.WorstCase = corners(b, j, tol, &opt)
 		// Better parts cannot help a nominal that sits on (or beyond) a
@@ -221,12 +223,16 @@ func Run(c *optimize.Candidate, spec synth.Spec, opt Options) (*Result, error) {
 		}
 		if opt.Refit != nil && r.Yield < opt.TargetYield && r.Nominal.Pass && c.Design != nil {
 			r.Refit, err = refit(b, c, spec, opt)
-			if err != nil {
+			var ns noSlack
+			switch {
+			case errors.As(err, &ns):
+				refitNote = fmt.Sprintf("Moving the edge inside the specification does not help here: %s.", ns)
+			case err != nil:
 				r.Warnings = append(r.Warnings, fmt.Sprintf("the design could not be fitted again with its edge moved inside the specification: %v", err))
 			}
 		}
 	}
-	r.Advice = advice(r, j, onLimit)
+	r.Advice = advice(r, j, onLimit, refitNote)
 	return r, nil
 }
 
@@ -313,7 +319,7 @@ func limitWarnings(j *judge, nm metrics, ts *trialSet, opt *Options) (w []string
 }
 
 // advice turns the computed figures into sentences.
-func advice(r *Result, j *judge, onLimit bool) []string {
+func advice(r *Result, j *judge, onLimit bool, refitNote string) []string {
 	a := []string{}
 	if r.Yield >= r.TargetYield {
 		a = append(a, fmt.Sprintf("%s of the boards pass (95%% interval %s to %s), at or above the target %s.",
@@ -346,7 +352,10 @@ func advice(r *Result, j *judge, onLimit bool) []string {
 		}
 		a = append(a, s+" (--pass-margin, --stop-margin).")
 	}
-	if onLimit && r.Refit == nil {
+	switch {
+	case refitNote != "":
+		a = append(a, refitNote)
+	case onLimit && r.Refit == nil:
 		a = append(a, "The nominal response sits on a specification limit: fit the design with its edge moved inside the specification (a slightly wider passband, or less ripple), or accept a wider window.")
 	}
 	if rf := r.Refit; rf != nil {
