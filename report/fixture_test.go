@@ -227,22 +227,14 @@ func lowpass5(t testing.TB) *optimize.Candidate {
 		Pass: 2000, Order: 5}, synth.OddOnePole)
 }
 
-// sampleYield invents a yield summary with an envelope of ±0.4 dB around
-// the nominal response (not a real Monte Carlo run: the report only draws
-// what it is given).
+// sampleYield invents a yield summary (figures made up: the report only
+// shows what it is given) with a real envelope from Envelope.
 func sampleYield(c *optimize.Candidate) *YieldSummary {
-	st := c.Stages()
-	f := respplot.LogGrid(c.Design.Spec.Pass/10, c.Design.Spec.Stop*3, 120)
-	lo, hi := make([]float64, len(f)), make([]float64, len(f))
-	for i, fi := range f {
-		g := respplot.GainDB(synth.CascadeResponse(st, 2*math.Pi*fi))
-		lo[i], hi[i] = g-0.4, g+0.4
-	}
 	return &YieldSummary{
 		Yield: 0.9135, CILow: 0.9005, CIHigh: 0.9250, Trials: 2000, Seed: 7, Dist: "uniform",
 		Facts:  []Fact{{"-3 dB frequency, 5th to 95th percentile", "981 Hz to 1.019 kHz"}},
 		Blame:  []BlameLine{{Ref: "C2", Section: 1, Share: 0.41}, {Ref: "C4", Section: 2, Share: 0.33}},
 		Advice: []string{"C2 of section 1 causes most failures."},
-		Bands:  []respplot.Band{{Label: "5th–95th percentile", Freq: f, Lo: lo, Hi: hi}},
+		Bands:  []respplot.Band{Envelope(c, EnvelopeOptions{Trials: 300, Seed: 1})},
 	}
 }

@@ -11,6 +11,7 @@ import (
 	"time"
 
 	"drawerfit/optimize"
+	"drawerfit/respplot"
 	"drawerfit/synth"
 )
 
@@ -312,5 +313,43 @@ func TestSpecLine(t *testing.T) {
 				t.Errorf("SpecLine = %q, want %q", got, c.want)
 			}
 		})
+	}
+}
+
+func TestWritePNGs(t *testing.T) {
+	dir := t.TempDir()
+	paths, err := WritePNGs(&Sheet{Candidate: lowpass4(t)}, dir, "lp")
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []string{"lp-magnitude.png", "lp-phase.png", "lp-group-delay.png"}
+	if len(paths) != len(want) {
+		t.Fatalf("paths %q", paths)
+	}
+	for i, p := range paths {
+		b, err := os.ReadFile(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if filepath.Base(p) != want[i] || !bytes.HasPrefix(b, []byte("\x89PNG\r\n\x1a\n")) {
+			t.Errorf("%s is not the PNG %s", p, want[i])
+		}
+	}
+	if _, err := WritePNGs(&Sheet{}, dir, ""); err == nil {
+		t.Error("no error for a sheet without a candidate")
+	}
+}
+
+func TestResponseSketch(t *testing.T) {
+	// The terminal sketch of a candidate: the nominal curve marks and the
+	// edges from the design's specification.
+	s, err := respplot.Sketch(Response(lowpass4(t), respplot.Limits{}), 60, 12)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"* nominal", "fp 1 kHz, fs 3 kHz", "0 dB |"} {
+		if !strings.Contains(s, want) {
+			t.Errorf("sketch lacks %q:\n%s", want, s)
+		}
 	}
 }

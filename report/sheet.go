@@ -213,7 +213,6 @@ func build(s *Sheet) (*view, error) {
 	if boards <= 0 {
 		boards = 1
 	}
-	spec := c.Design.Spec
 	v := &view{
 		Title: s.Title, Spec: s.Spec, StockDB: s.StockDB, DesignID: s.DesignID,
 		Generator: s.Generator, Boards: boards, Notes: s.Notes, Warnings: s.Warnings,
@@ -239,23 +238,10 @@ func build(s *Sheet) (*view, error) {
 	v.Summary = summary(c)
 
 	// Plots.
-	lim := s.Limits
-	if lim == (respplot.Limits{}) {
-		lim = respplot.Limits{Fp: spec.Pass, Ap: spec.PassAtten, Fs: spec.Stop, As: spec.StopAtten}
-	}
 	stages := c.Stages()
-	r := &respplot.Response{
-		Kind:    spec.Kind,
-		Target:  c.Design.Target,
-		Nominal: func(w float64) complex128 { return synth.CascadeResponse(stages, w) },
-		Limits:  lim,
-	}
-	if s.Yield != nil {
-		r.Bands = s.Yield.Bands
-	}
-	figs, err := respplot.Figures(r)
+	figs, err := s.figures()
 	if err != nil {
-		return nil, fmt.Errorf("report: %w", err)
+		return nil, err
 	}
 	captions := map[string]string{
 		"magnitude":   "Gain of the ideal target (solid) and of the nominal parts (dashed); shaded: outside the specification.",
@@ -307,6 +293,52 @@ func build(s *Sheet) (*view, error) {
 		v.Yield = yieldOf(s.Yield)
 	}
 	return v, nil
+}
+
+// Response returns what the plots of candidate c show: the ideal target
+// (the design's own), the nominal response of the parts (ideal op-amps) and
+// the specification's limits (lim, or the design's specification when lim
+// is zero). The terminal sketch of a candidate is
+// respplot.Sketch(report.Response(c, respplot.Limits{}), 60, 12).
+func Response(c *optimize.Candidate, lim respplot.Limits) *respplot.Response {
+	spec := c.Design.Spec
+	if lim == (respplot.Limits{}) {
+		lim = respplot.Limits{Fp: spec.Pass, Ap: spec.PassAtten, Fs: spec.Stop, As: spec.StopAtten}
+	}
+	stages := c.Stages()
+	return &respplot.Response{
+		Kind:    spec.Kind,
+		Target:  c.Design.Target,
+		Nominal: func(w float64) complex128 { return synth.CascadeResponse(stages, w) },
+		Limits:  lim,
+	}
+}
+
+// figures returns the sheet's plots (magnitude, phase, group delay).
+func (s *Sheet) figures() ([]respplot.Figure, error) {
+	if s.Candidate == nil || s.Candidate.Design == nil {
+		return nil, fmt.Errorf("report: the sheet has no candidate with a design")
+	}
+	r := Response(s.Candidate, s.Limits)
+	if s.Yield != nil {
+		r.Bands = s.Yield.Bands
+	}
+	figs, err := respplot.Figures(r)
+	if err != nil {
+		return nil, fmt.Errorf("report: %w", err)
+	}
+	return figs, nil
+}
+
+// WritePNGs writes the sheet's plots as PNG files into dir (which must
+// exist): PREFIX-magnitude.png, PREFIX-phase.png and PREFIX-group-delay.png,
+// or without "PREFIX-" when prefix is empty. It returns the paths written.
+func WritePNGs(s *Sheet, dir, prefix string) ([]string, error) {
+	figs, err := s.figures()
+	if err != nil {
+		return nil, err
+	}
+	return respplot.WritePNGs(dir, prefix, figs)
 }
 
 // SpecLine writes a design's specification in one line, e.g.
