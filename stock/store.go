@@ -40,12 +40,12 @@ type Delta struct {
 
 // ShortRow is one row that an adjustment would take below zero.
 type ShortRow struct {
-	StockID int64
+	StockID int64 `json:"stock_id"`
 	// Needed is how many parts the adjustment takes out of the row (the
 	// negated sum of its changes).
-	Needed int
+	Needed int `json:"needed"`
 	// OnHand is the row's quantity.
-	OnHand int
+	OnHand int `json:"on_hand"`
 }
 
 // Shortfall is the cause carried by the fault.Conflict error that
