@@ -36,6 +36,7 @@ type CSVProblem struct {
 	Reason string
 }
 
+// String writes the problem as "line 4, value: reason".
 func (p CSVProblem) String() string {
 	if p.Column == "" {
 		return fmt.Sprintf("line %d: %s", p.Line, p.Reason)
