@@ -1,0 +1,118 @@
+package optimize
+
+import (
+	"drawerfit/synth"
+)
+
+// Part is one physical part taken from a stock row.
+type Part struct {
+	StockID    int64
+	Value      float64 // ohms or farads
+	Tolerance  float64 // fraction, e.g. 0.01
+	Location   string
+	Dielectric string
+	Package    string
+}
+
+// Component is one circuit position of a section as built: a single part or
+// two parts in series or parallel.
+type Component struct {
+	Ref         string // board designator: R1, C4, ...
+	Symbol      string // textbook symbol of the position (Cf, Cg, Ra, ...)
+	Kind        synth.PartKind
+	Value       float64 // the combination's nominal value
+	Arrangement synth.Arrangement
+	Parts       []Part
+}
+
+// Tolerance returns the effective relative tolerance of the combination:
+// the parts' tolerances weighted by their share of the total (DOMAIN.md,
+// "Real parts").
+func (c Component) Tolerance() float64 {
+	if len(c.Parts) == 1 {
+		return c.Parts[0].Tolerance
+	}
+	var t float64
+	for _, p := range c.Parts {
+		t += p.Tolerance * share(c.Kind, c.Arrangement, p.Value, c.Value)
+	}
+	return t
+}
+
+// share is the part's share of a combination's value: for an additive
+// arrangement (series R, parallel C) v/total, for a reciprocal one total/v.
+func share(k synth.PartKind, a synth.Arrangement, v, total float64) float64 {
+	if (a == synth.Series) == (k == synth.Resistor) {
+		return v / total
+	}
+	return total / v
+}
+
+// SectionFit is one section of a candidate: the ideal target and the
+// components chosen for it.
+type SectionFit struct {
+	Target     synth.Section
+	Components []Component // in Target.Topology.Elements order
+	F0         float64     // realised natural frequency, Hz (of the pair for a 3-pole section)
+	Q          float64     // realised Q (0 for a 1-pole section)
+	RealF0     float64     // realised real-pole frequency of a 3-pole section, Hz
+}
+
+// Values returns the nominal element values in Elements order.
+func (s *SectionFit) Values() []float64 {
+	v := make([]float64, len(s.Components))
+	for i, c := range s.Components {
+		v[i] = c.Value
+	}
+	return v
+}
+
+// Stage returns the section as a synth.Stage (for netlists and analysis).
+func (s *SectionFit) Stage() synth.Stage {
+	st := synth.Stage{Topology: s.Target.Topology, Positions: make([]synth.Position, len(s.Components))}
+	for i, c := range s.Components {
+		parts := make([]float64, len(c.Parts))
+		for j, p := range c.Parts {
+			parts[j] = p.Value
+		}
+		st.Positions[i] = synth.Position{Arrangement: c.Arrangement, Parts: parts}
+	}
+	return st
+}
+
+// StockUse is how many parts of one stock row a single board takes.
+type StockUse struct {
+	StockID  int64
+	PerBoard int
+}
+
+// Candidate is one buildable design: an order and arrangement, the ideal
+// design it approximates, and the parts chosen for every section.
+type Candidate struct {
+	Design        *synth.Design
+	Sections      []SectionFit // cascade order
+	ResponseError float64      // dB, largest |candidate - target| on the scoring grid
+	PassAtten     float64      // dB at fp, from the candidate's own response
+	StopAtten     float64      // dB at fs; NaN when the spec has no fs
+	MeetsSpec     bool
+	PartCount     int // physical parts per board
+	UniqueParts   int // distinct stock rows per board
+	StockUse      []StockUse
+	// BoardsBuildable is how many boards the stock covers for this design.
+	BoardsBuildable int
+	// Pareto is true when no other listed candidate is at least as good in
+	// response error, part count and unique parts and better in one.
+	Pareto bool
+}
+
+// Order returns the filter order of the candidate.
+func (c *Candidate) Order() int { return c.Design.Order }
+
+// Stages returns the candidate's sections as synth stages.
+func (c *Candidate) Stages() []synth.Stage {
+	st := make([]synth.Stage, len(c.Sections))
+	for i := range c.Sections {
+		st[i] = c.Sections[i].Stage()
+	}
+	return st
+}

@@ -1,0 +1,293 @@
+package optimize
+
+import (
+	"math"
+	"sort"
+)
+
+// Rank is the ordering of the candidate list.
+type Rank uint8
+
+const (
+	// RankBalanced lists candidates within the good-enough error first, by
+	// part count, then unique parts, then error; the rest by error.
+	RankBalanced Rank = iota
+	// RankError orders by response error (ties: parts, unique parts).
+	RankError
+	// RankParts orders by part count (ties: unique parts, error).
+	RankParts
+	// RankUnique orders by unique parts (ties: parts, error).
+	RankUnique
+)
+
+func (r Rank) String() string {
+	return [...]string{"balanced", "error", "parts", "unique"}[r]
+}
+
+// rankKey is a lexicographic sort key; smaller is better.
+type rankKey [4]float64
+
+func (a rankKey) less(b rankKey) bool {
+	for i := range a {
+		if a[i] != b[i] {
+			return a[i] < b[i]
+		}
+	}
+	return false
+}
+
+func makeKey(r Rank, goodEnough, err float64, parts, unique int) rankKey {
+	p, u := float64(parts), float64(unique)
+	switch r {
+	case RankError:
+		return rankKey{err, p, u, 0}
+	case RankParts:
+		return rankKey{p, u, err, 0}
+	case RankUnique:
+		return rankKey{u, p, err, 0}
+	}
+	if err <= goodEnough {
+		return rankKey{0, p, u, err}
+	}
+	return rankKey{1, err, p, u}
+}
+
+// combo is one complete assignment of section candidates.
+type combo struct {
+	key       rankKey
+	design    int   // index of the design in the fit
+	picks     []int // per section, the index into that section's list
+	err       float64
+	parts     int
+	unique    int
+	passAtten float64
+	stopAtten float64
+	meets     bool
+}
+
+func (a *combo) less(b *combo) bool {
+	if a.key != b.key {
+		return a.key.less(b.key)
+	}
+	if a.design != b.design {
+		return a.design < b.design
+	}
+	for i := range a.picks {
+		if a.picks[i] != b.picks[i] {
+			return a.picks[i] < b.picks[i]
+		}
+	}
+	return false
+}
+
+// topList keeps the best k combos in order.
+type topList struct {
+	k    int
+	list []*combo
+}
+
+func (t *topList) worst() (rankKey, bool) {
+	if len(t.list) < t.k {
+		return rankKey{}, false
+	}
+	return t.list[len(t.list)-1].key, true
+}
+
+func (t *topList) add(c *combo) {
+	if len(t.list) == t.k && !c.less(t.list[len(t.list)-1]) {
+		return
+	}
+	at := sort.Search(len(t.list), func(i int) bool { return c.less(t.list[i]) })
+	if len(t.list) < t.k {
+		t.list = append(t.list, nil)
+	}
+	copy(t.list[at+1:], t.list[at:])
+	t.list[at] = c
+}
+
+// combiner searches the product of the sections' shortlists by depth-first
+// branch and bound.
+type combiner struct {
+	lists      [][]sectionCand
+	rows       []Row
+	boards     int
+	rank       Rank
+	goodEnough float64
+	design     int
+	passIdx    int     // grid index of fp
+	stopIdx    int     // grid index of fs, or -1
+	tdbTotal   []float64
+	ap, as     float64 // specification limits, dB
+	keepFail   bool
+	out        *topList
+	closest    *combo // best failing combo by error, for the explanation
+
+	// per section suffix bounds over the remaining sections
+	remMin, remMax [][]float64
+	remParts       []int
+
+	// state
+	partial [][]float64 // per depth, the deviation sum so far
+	counts  []int32
+	unique  int
+	picks   []int
+	nodes   int
+
+	budget    int  // largest number of nodes to visit; 0 means no limit
+	truncated bool // the budget ran out
+}
+
+func (c *combiner) prepare() {
+	m := len(c.lists)
+	g := len(c.tdbTotal)
+	c.remMin = make([][]float64, m+1)
+	c.remMax = make([][]float64, m+1)
+	c.remParts = make([]int, m+1)
+	c.remMin[m] = make([]float64, g)
+	c.remMax[m] = make([]float64, g)
+	for s := m - 1; s >= 0; s-- {
+		mn := make([]float64, g)
+		mx := make([]float64, g)
+		minParts := math.MaxInt32
+		for i := range mn {
+			mn[i], mx[i] = math.Inf(1), math.Inf(-1)
+		}
+		for _, sc := range c.lists[s] {
+			for i, d := range sc.dev {
+				mn[i] = math.Min(mn[i], d)
+				mx[i] = math.Max(mx[i], d)
+			}
+			minParts = min(minParts, int(sc.parts))
+		}
+		for i := range mn {
+			mn[i] += c.remMin[s+1][i]
+			mx[i] += c.remMax[s+1][i]
+		}
+		c.remMin[s], c.remMax[s] = mn, mx
+		c.remParts[s] = minParts + c.remParts[s+1]
+	}
+	c.partial = make([][]float64, m+1)
+	for i := range c.partial {
+		c.partial[i] = make([]float64, g)
+	}
+	c.counts = make([]int32, len(c.rows))
+	c.picks = make([]int, m)
+}
+
+// lowerErr bounds the final error of any completion of the first s sections:
+// at every grid point the remaining sections add a deviation within their
+// shortlists' range.
+func (c *combiner) lowerErr(s int) float64 {
+	p := c.partial[s]
+	mn, mx := c.remMin[s], c.remMax[s]
+	var lb float64
+	for i, v := range p {
+		lo, hi := v+mn[i], v+mx[i]
+		if lo > lb {
+			lb = lo
+		} else if -hi > lb {
+			lb = -hi
+		}
+	}
+	return lb
+}
+
+func (c *combiner) run() {
+	if len(c.lists) == 0 {
+		return
+	}
+	for _, l := range c.lists {
+		if len(l) == 0 {
+			return
+		}
+	}
+	c.prepare()
+	c.dfs(0, 0)
+}
+
+func (c *combiner) dfs(s, parts int) {
+	c.nodes++
+	m := len(c.lists)
+	if s == m {
+		c.leaf(parts)
+		return
+	}
+	for i := range c.lists[s] {
+		sc := &c.lists[s][i]
+		// Quantities across sections.
+		ok := true
+		added := 0
+		for _, rc := range sc.rows {
+			c.counts[rc.row] += rc.count
+			if c.counts[rc.row] == rc.count {
+				added++
+			}
+			if int(c.counts[rc.row])*c.boards > c.rows[rc.row].Quantity {
+				ok = false
+			}
+		}
+		c.unique += added
+		if ok {
+			prev, next := c.partial[s], c.partial[s+1]
+			for g := range next {
+				next[g] = prev[g] + sc.dev[g]
+			}
+			np := parts + int(sc.parts)
+			c.picks[s] = i
+			if c.promising(s+1, np) {
+				c.dfs(s+1, np)
+			}
+		}
+		c.unique -= added
+		for _, rc := range sc.rows {
+			c.counts[rc.row] -= rc.count
+		}
+	}
+}
+
+// promising reports whether a completion of the first s sections could
+// still enter the list: until the list is full every branch is explored;
+// after that only branches whose lower-bound key does not exceed the worst
+// listed key. The node budget stops a runaway search (reported to the user).
+func (c *combiner) promising(s, parts int) bool {
+	if c.budget > 0 && c.nodes > c.budget {
+		c.truncated = true
+		return false
+	}
+	worst, full := c.out.worst()
+	if !full {
+		return true
+	}
+	lb := c.lowerErr(s)
+	k := makeKey(c.rank, c.goodEnough, lb, parts+c.remParts[s], c.unique)
+	return !worst.less(k)
+}
+
+func (c *combiner) leaf(parts int) {
+	sum := c.partial[len(c.lists)]
+	var e float64
+	for _, d := range sum {
+		e = math.Max(e, math.Abs(d))
+	}
+	pa := -(c.tdbTotal[c.passIdx] + sum[c.passIdx])
+	sa := math.NaN()
+	meets := pa <= c.ap+1e-9
+	if c.stopIdx >= 0 {
+		sa = -(c.tdbTotal[c.stopIdx] + sum[c.stopIdx])
+		meets = meets && sa >= c.as-1e-9
+	}
+	cb := &combo{
+		key: makeKey(c.rank, c.goodEnough, e, parts, c.unique), design: c.design,
+		picks: append([]int(nil), c.picks...), err: e, parts: parts, unique: c.unique,
+		passAtten: pa, stopAtten: sa, meets: meets,
+	}
+	if !meets {
+		if c.closest == nil || e < c.closest.err {
+			c.closest = cb
+		}
+		if !c.keepFail {
+			return
+		}
+	}
+	c.out.add(cb)
+}

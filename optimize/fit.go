@@ -1,0 +1,487 @@
+package optimize
+
+import (
+	"fmt"
+	"math"
+	"runtime"
+	"sort"
+	"strings"
+
+	"drawerfit/fault"
+	"drawerfit/stock"
+	"drawerfit/synth"
+)
+
+// Options controls a fit. The zero value is not usable; start from
+// DefaultOptions.
+type Options struct {
+	Combine    int     // 1: single parts only; 2: also pairs in series or parallel
+	Boards     int     // every row used must cover this many boards
+	MaxOrder   int     // highest order tried; 0 means the minimum order + 1
+	Rank       Rank    // ordering of the list
+	Top        int     // how many candidates to list
+	GoodEnough float64 // dB; the balanced ranking's error threshold
+	RMin, RMax float64 // ohms: the range of every resistor and combination
+	CMin, CMax float64 // farads: the range of every capacitor and combination
+	// AllowDielectric widens the capacitor dielectrics beyond C0G/NP0 and
+	// film (names as in stock.NormalizeDielectric).
+	AllowDielectric []string
+	ShowFailing     bool // also list candidates that miss the specification
+	// Odd restricts odd orders to one arrangement; nil tries both.
+	Odd *synth.Odd
+	// Shortlist is how many candidates per part count each section keeps
+	// for the cross-section search.
+	Shortlist int
+	// NodeBudget bounds the cross-section search per design (0: default).
+	NodeBudget int
+	Workers    int                       // goroutines; 0 means GOMAXPROCS
+	Progress   func(done, total int)     // optional, called as designs finish
+	Extra      func(d *synth.Design) int // unused hook kept nil
+}
+
+// DefaultOptions returns the documented defaults: pairs on, one board, the
+// minimum order and one more, balanced ranking, ten candidates, 0.05 dB good
+// enough, resistors 1 kΩ–1 MΩ and capacitors 100 pF–10 µF (common practice,
+// no source; DOMAIN.md "Practical rules").
+func DefaultOptions() Options {
+	return Options{Combine: 2, Boards: 1, Rank: RankBalanced, Top: 10, GoodEnough: 0.05,
+		RMin: 1e3, RMax: 1e6, CMin: 100e-12, CMax: 10e-6, Shortlist: 10}
+}
+
+// Result is the outcome of a fit.
+type Result struct {
+	Spec       synth.Spec
+	Candidates []*Candidate // best first
+	// Closest is the best candidate that misses the specification when no
+	// candidate meets it (nil otherwise or when nothing could be built).
+	Closest *Candidate
+	// Limits says what limited the search, in sentences, when nothing met
+	// the specification.
+	Limits []string
+	// Notes are remarks on the search (truncation, restrictions).
+	Notes []string
+	// Designs are the ideal designs that were searched.
+	Designs []*synth.Design
+	// Resistors and Capacitors count the realisable values searched.
+	Resistors, Capacitors int
+}
+
+// Fit searches the stock items for the best buildable designs of spec.
+//
+// Errors: fault.Invalid for bad options or specification; fault.Infeasible
+// when the stock cannot even be searched (no usable resistors or
+// capacitors). A search that finds nothing meeting the specification is not
+// an error: the Result has no candidates, a closest miss and the limits.
+func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
+	if err := checkOptions(&o); err != nil {
+		return nil, err
+	}
+	wantOrder := spec.Order
+	if err := spec.Normalize(); err != nil {
+		return nil, err
+	}
+	rows, why := usableRows(items, o)
+	res, err := buildValues(rows, synth.Resistor, o.Combine, o.Boards, o.RMin, o.RMax)
+	if err != nil {
+		return nil, err
+	}
+	caps, err := buildValues(rows, synth.Capacitor, o.Combine, o.Boards, o.CMin, o.CMax)
+	if err != nil {
+		return nil, err
+	}
+	if len(res.vals) == 0 || len(caps.vals) == 0 {
+		what := "resistors"
+		if len(res.vals) > 0 {
+			what = "capacitors"
+		} else if len(caps.vals) == 0 {
+			what = "resistors or capacitors"
+		}
+		return nil, fault.Infeasiblef("the stock has no usable %s%s", what, why)
+	}
+	orders, err := ordersFor(spec, wantOrder, o)
+	if err != nil {
+		return nil, err
+	}
+	r := &Result{Spec: spec, Resistors: len(res.vals), Capacitors: len(caps.vals)}
+	type job struct {
+		n   int
+		odd synth.Odd
+	}
+	var jobs []job
+	for _, n := range orders {
+		if n%2 == 1 && n >= 3 {
+			for _, odd := range []synth.Odd{synth.OddOnePole, synth.OddThreePole} {
+				if o.Odd == nil || *o.Odd == odd {
+					jobs = append(jobs, job{n, odd})
+				}
+			}
+		} else {
+			jobs = append(jobs, job{n, synth.OddOnePole})
+		}
+	}
+	grid := gridFor(spec)
+	passIdx, stopIdx := indexOf(grid.f, spec.Pass), -1
+	if spec.Stop > 0 {
+		stopIdx = indexOf(grid.f, spec.Stop)
+	}
+	top := &topList{k: o.Top}
+	var closest *combo
+	var lists [][][]sectionCand
+	var diags [][]sectionDiag
+	for ji, jb := range jobs {
+		s := spec
+		s.Order = jb.n
+		s.Odd = jb.odd
+		d, err := synth.NewDesign(s, jb.n, jb.odd)
+		if err != nil {
+			return nil, err
+		}
+		r.Designs = append(r.Designs, d)
+		secLists := make([][]sectionCand, len(d.Sections))
+		secDiag := make([]sectionDiag, len(d.Sections))
+		tdbTotal := make([]float64, len(grid.w))
+		for i := range d.Sections {
+			t := newTarget(&d.Sections[i], &grid)
+			for g, v := range t.tdb {
+				tdbTotal[g] += v
+			}
+			ss := &sectionSearch{t: t, res: res, cap: caps, rows: rows, boards: o.Boards,
+				k: o.Shortlist, ceiling: sectionCeiling, rmin: o.RMin, rmax: o.RMax}
+			secLists[i], secDiag[i] = ss.run(o.Workers)
+			sortForRank(secLists[i], o.Rank)
+		}
+		cb := &combiner{lists: secLists, rows: rows, boards: o.Boards, rank: o.Rank,
+			goodEnough: o.GoodEnough, design: ji, passIdx: passIdx, stopIdx: stopIdx,
+			tdbTotal: tdbTotal, ap: spec.PassAtten, as: spec.StopAtten, keepFail: o.ShowFailing,
+			out: top, budget: o.NodeBudget}
+		cb.run()
+		if cb.truncated {
+			r.Notes = append(r.Notes, fmt.Sprintf("order %d (%s): the cross-section search stopped after %d combinations; the list may miss some designs",
+				jb.n, arrangementName(d), cb.nodes))
+		}
+		if cb.closest != nil && (closest == nil || cb.closest.err < closest.err) {
+			closest = cb.closest
+		}
+		lists = append(lists, secLists)
+		diags = append(diags, secDiag)
+		if o.Progress != nil {
+			o.Progress(ji+1, len(jobs))
+		}
+	}
+	for _, c := range top.list {
+		r.Candidates = append(r.Candidates, assemble(c, r.Designs[c.design], lists[c.design], rows, res, caps, o))
+	}
+	markPareto(r.Candidates)
+	for i, c := range r.Candidates {
+		_ = i
+		c.BoardsBuildable = boardsBuildable(c, rows)
+	}
+	if len(r.Candidates) == 0 {
+		if closest != nil {
+			r.Closest = assemble(closest, r.Designs[closest.design], lists[closest.design], rows, res, caps, o)
+			r.Closest.BoardsBuildable = boardsBuildable(r.Closest, rows)
+		}
+		r.Limits = explain(r, diags, rows, o)
+	}
+	return r, nil
+}
+
+// sectionCeiling is the largest section error (dB) a shortlist keeps: a
+// section further off than this cannot be part of a useful design.
+const sectionCeiling = 6.0
+
+func checkOptions(o *Options) error {
+	switch {
+	case o.Combine != 1 && o.Combine != 2:
+		return fault.Invalidf("--combine must be 1 (single parts) or 2 (pairs too), not %d", o.Combine)
+	case o.Boards < 1:
+		return fault.Invalidf("--boards must be at least 1, not %d", o.Boards)
+	case o.Top < 1:
+		return fault.Invalidf("--top must be at least 1, not %d", o.Top)
+	case !(o.GoodEnough >= 0) || math.IsInf(o.GoodEnough, 0):
+		return fault.Invalidf("--good-enough must be a non-negative number of dB")
+	case !(o.RMin > 0 && o.RMin < o.RMax) || math.IsInf(o.RMax, 0):
+		return fault.Invalidf("the resistor range must satisfy 0 < min < max")
+	case !(o.CMin > 0 && o.CMin < o.CMax) || math.IsInf(o.CMax, 0):
+		return fault.Invalidf("the capacitor range must satisfy 0 < min < max")
+	case o.MaxOrder < 0 || o.MaxOrder > synth.MaxOrder:
+		return fault.Invalidf("--max-order must be between 1 and %d", synth.MaxOrder)
+	}
+	if o.Shortlist <= 0 {
+		o.Shortlist = 10
+	}
+	if o.Workers <= 0 {
+		o.Workers = runtime.GOMAXPROCS(0)
+	}
+	if o.NodeBudget == 0 {
+		o.NodeBudget = 20_000_000
+	}
+	return nil
+}
+
+// usableRows turns stock items into search rows, dropping what the filters
+// exclude, and says why in a phrase for the error when nothing is left.
+func usableRows(items []stock.Item, o Options) ([]Row, string) {
+	allowed := map[string]bool{}
+	for _, d := range o.AllowDielectric {
+		allowed[stock.NormalizeDielectric(d)] = true
+	}
+	var rows []Row
+	var short, diel, rng int
+	for _, it := range items {
+		k := synth.Resistor
+		lo, hi := o.RMin, o.RMax
+		if it.Kind == stock.Capacitor {
+			k = synth.Capacitor
+			lo, hi = o.CMin, o.CMax
+			if !stock.IsPrecisionDielectric(it.Dielectric) && !allowed[stock.NormalizeDielectric(it.Dielectric)] {
+				diel++
+				continue
+			}
+		}
+		if it.Quantity < o.Boards {
+			short++
+			continue
+		}
+		if it.Value < lo*(1-1e-12) || it.Value > hi*(1+1e-12) {
+			rng++
+			continue
+		}
+		rows = append(rows, Row{Kind: k, Quantity: it.Quantity, Part: Part{StockID: it.ID, Value: it.Value,
+			Tolerance: it.Tolerance, Location: it.Location, Dielectric: it.Dielectric, Package: it.Package}})
+	}
+	var why []string
+	if rng > 0 {
+		why = append(why, fmt.Sprintf("%d rows outside the value range", rng))
+	}
+	if diel > 0 {
+		why = append(why, fmt.Sprintf("%d capacitor rows of a dielectric not allowed (see --allow-dielectric)", diel))
+	}
+	if short > 0 {
+		why = append(why, fmt.Sprintf("%d rows with fewer than %d parts", short, o.Boards))
+	}
+	if len(why) == 0 {
+		return rows, ""
+	}
+	return rows, " (excluded: " + strings.Join(why, "; ") + ")"
+}
+
+func ordersFor(spec synth.Spec, want int, o Options) ([]int, error) {
+	if want > 0 {
+		return []int{want}, nil
+	}
+	minN, err := synth.MinOrder(spec)
+	if err != nil {
+		return nil, err
+	}
+	maxN := o.MaxOrder
+	if maxN == 0 {
+		maxN = min(minN+1, synth.MaxOrder)
+	}
+	if maxN < minN {
+		return nil, fault.Invalidf("--max-order %d is below the minimum order %d that meets the specification", maxN, minN)
+	}
+	var out []int
+	for n := minN; n <= maxN; n++ {
+		out = append(out, n)
+	}
+	return out, nil
+}
+
+func indexOf(f []float64, x float64) int {
+	best := 0
+	for i, v := range f {
+		if math.Abs(v-x) < math.Abs(f[best]-x) {
+			best = i
+		}
+	}
+	return best
+}
+
+func sortForRank(l []sectionCand, r Rank) {
+	sort.SliceStable(l, func(a, b int) bool {
+		if r != RankError && l[a].parts != l[b].parts {
+			return l[a].parts < l[b].parts
+		}
+		return l[a].less(&l[b])
+	})
+}
+
+func arrangementName(d *synth.Design) string {
+	if d.Order%2 == 0 || d.Order == 1 {
+		return fmt.Sprintf("%d × 2-pole", d.Order/2) + map[bool]string{true: " + 1-pole", false: ""}[d.Order%2 == 1]
+	}
+	if d.Odd == synth.OddThreePole {
+		if d.Order == 3 {
+			return "3-pole"
+		}
+		return fmt.Sprintf("3-pole + %d × 2-pole", (d.Order-3)/2)
+	}
+	return fmt.Sprintf("1-pole + %d × 2-pole", d.Order/2)
+}
+
+// Arrangement names a candidate's section arrangement, e.g. "1-pole + 2 × 2-pole".
+func (c *Candidate) Arrangement() string { return arrangementName(c.Design) }
+
+// assemble turns a combo into a Candidate with designators, parts and the
+// analysed figures.
+func assemble(cb *combo, d *synth.Design, lists [][]sectionCand, rows []Row, res, caps *valueSet, o Options) *Candidate {
+	c := &Candidate{Design: d, ResponseError: cb.err, PassAtten: cb.passAtten, StopAtten: cb.stopAtten,
+		MeetsSpec: cb.meets, PartCount: cb.parts, UniqueParts: cb.unique}
+	nr, nc := 0, 0
+	use := map[int64]int{}
+	for s, pick := range cb.picks {
+		sc := &lists[s][pick]
+		sec := d.Sections[s]
+		sf := SectionFit{Target: sec}
+		for i, el := range sec.Topology.Elements {
+			vs := res
+			ref := ""
+			if el.Kind == synth.Capacitor {
+				vs = caps
+				nc++
+				ref = fmt.Sprintf("C%d", nc)
+			} else {
+				nr++
+				ref = fmt.Sprintf("R%d", nr)
+			}
+			re := vs.reals[sc.reals[i]]
+			comp := Component{Ref: ref, Symbol: el.Symbol, Kind: el.Kind, Value: re.value, Arrangement: re.arr}
+			for j := 0; j < int(re.n); j++ {
+				row := rows[re.rows[j]]
+				comp.Parts = append(comp.Parts, row.Part)
+				use[row.StockID]++
+			}
+			sf.Components = append(sf.Components, comp)
+		}
+		sf.F0, sf.Q, sf.RealF0 = realised(sec.Topology, sf.Values())
+		c.Sections = append(c.Sections, sf)
+	}
+	for id, n := range use {
+		c.StockUse = append(c.StockUse, StockUse{StockID: id, PerBoard: n})
+	}
+	sort.Slice(c.StockUse, func(a, b int) bool { return c.StockUse[a].StockID < c.StockUse[b].StockID })
+	return c
+}
+
+// realised returns the natural frequency (Hz) and Q of a section's complex
+// pair, or its real pole, from the element values.
+func realised(t *synth.Topology, v []float64) (f0, q, realF0 float64) {
+	_, den := t.Coeffs(v)
+	switch t.Poles {
+	case 1:
+		return 1 / (2 * math.Pi * den[1]), 0, 0
+	case 2:
+		w0 := 1 / math.Sqrt(den[2])
+		return w0 / (2 * math.Pi), 1 / (w0 * den[1]), 0
+	}
+	// Cubic a3 s³ + a2 s² + a1 s + 1: one real root and a pair.
+	p, pr := cubicRoots(den)
+	w0, qq := synth.PairF0Q(p)
+	return w0 / (2 * math.Pi), qq, math.Abs(pr) / (2 * math.Pi)
+}
+
+// cubicRoots returns one complex root of the pair and the real root of
+// 1 + a1 s + a2 s² + a3 s³ (Newton on the real root, then deflation).
+func cubicRoots(d synth.Poly) (complex128, float64) {
+	a0, a1, a2, a3 := d[0], d[1], d[2], d[3]
+	f := func(x float64) float64 { return ((a3*x+a2)*x+a1)*x + a0 }
+	// The real root is negative; bracket it.
+	lo, hi := -1.0, 0.0
+	for f(lo) > 0 {
+		lo *= 2
+	}
+	for i := 0; i < 200; i++ {
+		m := 0.5 * (lo + hi)
+		if f(m) > 0 {
+			hi = m
+		} else {
+			lo = m
+		}
+	}
+	r := 0.5 * (lo + hi)
+	// Deflate: a3 s³ + a2 s² + a1 s + a0 = (s - r)(b2 s² + b1 s + b0).
+	b2 := a3
+	b1 := a2 + r*b2
+	b0 := a1 + r*b1
+	disc := b1*b1 - 4*b2*b0
+	if disc >= 0 {
+		return complex((-b1+math.Sqrt(disc))/(2*b2), 0), r
+	}
+	return complex(-b1/(2*b2), math.Sqrt(-disc)/(2*b2)), r
+}
+
+// markPareto marks candidates that no other listed candidate dominates in
+// (response error, part count, unique parts).
+func markPareto(cs []*Candidate) {
+	for _, a := range cs {
+		a.Pareto = true
+		for _, b := range cs {
+			if a == b {
+				continue
+			}
+			if b.ResponseError <= a.ResponseError && b.PartCount <= a.PartCount && b.UniqueParts <= a.UniqueParts &&
+				(b.ResponseError < a.ResponseError || b.PartCount < a.PartCount || b.UniqueParts < a.UniqueParts) {
+				a.Pareto = false
+				break
+			}
+		}
+	}
+}
+
+func boardsBuildable(c *Candidate, rows []Row) int {
+	qty := map[int64]int{}
+	for _, r := range rows {
+		qty[r.StockID] = r.Quantity
+	}
+	best := math.MaxInt32
+	for _, u := range c.StockUse {
+		best = min(best, qty[u.StockID]/u.PerBoard)
+	}
+	if best == math.MaxInt32 {
+		return 0
+	}
+	return best
+}
+
+// explain says what limited a fit that found nothing meeting the spec.
+func explain(r *Result, diags [][]sectionDiag, rows []Row, o Options) []string {
+	var out []string
+	for di, ds := range diags {
+		d := r.Designs[di]
+		for si, sd := range ds {
+			sec := d.Sections[si]
+			where := fmt.Sprintf("order %d (%s), section %d (%s, f0 %.4g Hz, Q %.3f)", d.Order, arrangementName(d), si+1, sec.Topology.Name, sec.F0, sec.Q)
+			switch {
+			case sd.ratioOK == 0 && sec.Topology == &synth.SallenKeyLowPass:
+				out = append(out, fmt.Sprintf("%s: no capacitor pair with the needed ratio Cf/Cg >= 4Q² = %.2f and resistors within %s–%s",
+					where, 4*sec.Q*sec.Q, fmtOhm(o.RMin), fmtOhm(o.RMax)))
+			case sd.ratioOK == 0:
+				out = append(out, fmt.Sprintf("%s: no capacitor choice puts the resistors within %s–%s", where, fmtOhm(o.RMin), fmtOhm(o.RMax)))
+			case sd.inRange == 0:
+				out = append(out, fmt.Sprintf("%s: the resistors it needs are outside %s–%s or missing from stock", where, fmtOhm(o.RMin), fmtOhm(o.RMax)))
+			case sd.accepted == 0 && sd.quantityFail > 0:
+				out = append(out, fmt.Sprintf("%s: every close match needs more parts of a row than %d boards allow", where, o.Boards))
+			case sd.accepted == 0:
+				out = append(out, fmt.Sprintf("%s: nothing in stock comes within %.0f dB of the target", where, sectionCeiling))
+			}
+		}
+	}
+	if r.Closest != nil {
+		out = append(out, fmt.Sprintf("closest miss: order %d (%s) with response error %.3f dB, attenuation %.2f dB at fp (limit %.2f)%s",
+			r.Closest.Order(), r.Closest.Arrangement(), r.Closest.ResponseError, r.Closest.PassAtten, r.Spec.PassAtten, stopText(r)))
+	}
+	if len(out) == 0 {
+		out = append(out, "the sections can be built one by one, but no combination of them meets the specification with the quantities on hand")
+	}
+	return out
+}
+
+func stopText(r *Result) string {
+	if r.Spec.Stop <= 0 || r.Closest == nil {
+		return ""
+	}
+	return fmt.Sprintf(" and %.2f dB at fs (needs %.2f)", r.Closest.StopAtten, r.Spec.StopAtten)
+}
+
+func fmtOhm(v float64) string { return stock.FormatValue(v, stock.Resistor) }

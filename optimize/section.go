@@ -1,0 +1,562 @@
+package optimize
+
+import (
+	"math"
+	"sort"
+	"sync"
+
+	"drawerfit/synth"
+)
+
+// maxElems is the largest element count of any topology (the 3-pole sections).
+const maxElems = 6
+
+// sectionCand is one way to build one section.
+type sectionCand struct {
+	err   float64
+	parts int8
+	reals [maxElems]int32 // per element: index into the value set of its kind
+	vals  [maxElems]float64
+	dev   []float64 // signed deviation from the target on the grid (filled for shortlisted ones)
+	rows  []rowCount
+}
+
+// rowCount is how many parts of one stock row a section (or design) uses.
+type rowCount struct {
+	row   int32
+	count int32
+}
+
+// less is the total order inside a shortlist class: error, then the
+// realisations, so that the kept set never depends on the order of search.
+func (a *sectionCand) less(b *sectionCand) bool {
+	if a.err != b.err {
+		return a.err < b.err
+	}
+	for i := range a.reals {
+		if a.reals[i] != b.reals[i] {
+			return a.reals[i] < b.reals[i]
+		}
+	}
+	return false
+}
+
+// shortlist keeps, for every part count, the k best candidates of a section.
+type shortlist struct {
+	k       int
+	classes [16][]sectionCand // index: part count
+}
+
+// limit is the error a new candidate with p parts must not exceed to enter.
+func (s *shortlist) limit(p int8, ceiling float64) float64 {
+	c := s.classes[p]
+	if len(c) < s.k {
+		return ceiling
+	}
+	return c[len(c)-1].err
+}
+
+func (s *shortlist) add(c sectionCand) {
+	cl := s.classes[c.parts]
+	if len(cl) == s.k && !c.less(&cl[len(cl)-1]) {
+		return
+	}
+	at := sort.Search(len(cl), func(i int) bool { return c.less(&cl[i]) })
+	if len(cl) < s.k {
+		cl = append(cl, sectionCand{})
+	}
+	copy(cl[at+1:], cl[at:])
+	cl[at] = c
+	s.classes[c.parts] = cl
+}
+
+func (s *shortlist) merge(o *shortlist) {
+	for _, cl := range o.classes {
+		for _, c := range cl {
+			s.add(c)
+		}
+	}
+}
+
+func (s *shortlist) all() []sectionCand {
+	var out []sectionCand
+	for _, cl := range s.classes {
+		out = append(out, cl...)
+	}
+	return out
+}
+
+// sectionDiag counts what limited a section's search, for the explanation
+// of an infeasible fit.
+type sectionDiag struct {
+	capSets      int // capacitor assignments tried
+	ratioOK      int // of which admit an exact resistor solution
+	inRange      int // of which had resistors in the allowed range near the solution
+	quantityFail int // candidates rejected because a row lacks parts for the boards
+	accepted     int
+}
+
+func (d *sectionDiag) addFrom(o *sectionDiag) {
+	d.capSets += o.capSets
+	d.ratioOK += o.ratioOK
+	d.inRange += o.inRange
+	d.quantityFail += o.quantityFail
+	d.accepted += o.accepted
+}
+
+// sectionSearch searches one section's realisations.
+type sectionSearch struct {
+	t        *target
+	res, cap *valueSet
+	rows     []Row
+	boards   int
+	k        int
+	ceiling  float64 // the largest section error worth keeping
+	rmin     float64
+	rmax     float64
+	threeCap bool // 3-pole sections: allow paired capacitors
+}
+
+// worker holds one goroutine's state.
+type worker struct {
+	s    *sectionSearch
+	list shortlist
+	diag sectionDiag
+	v    [maxElems]float64
+	r    [maxElems]int32
+	sols [][]float64
+
+	boxes map[int]box // this worker's copy of the target's boxes
+}
+
+// box returns the (ln w0, ln Q) box for error level e.
+func (w *worker) box(e float64) box {
+	k := levelOf(e)
+	if b, ok := w.boxes[k]; ok {
+		return b
+	}
+	if w.boxes == nil {
+		w.boxes = map[int]box{}
+	}
+	b := w.s.t.boxAt(k)
+	w.boxes[k] = b
+	return b
+}
+
+// run searches the section on the given number of goroutines and returns
+// its shortlist with deviation vectors filled in.
+func (s *sectionSearch) run(workers int) ([]sectionCand, sectionDiag) {
+	if workers < 1 {
+		workers = 1
+	}
+	ws := make([]*worker, workers)
+	var wg sync.WaitGroup
+	for i := range ws {
+		ws[i] = &worker{s: s, list: shortlist{k: s.k}}
+		wg.Add(1)
+		go func(w *worker, part int) {
+			defer wg.Done()
+			w.search(part, workers)
+		}(ws[i], i)
+	}
+	wg.Wait()
+	final := shortlist{k: s.k}
+	var diag sectionDiag
+	for _, w := range ws {
+		final.merge(&w.list)
+		diag.addFrom(&w.diag)
+	}
+	out := final.all()
+	for i := range out {
+		c := &out[i]
+		c.dev = make([]float64, len(s.t.grid.w))
+		num, den := s.t.topo.Coeffs(c.vals[:len(s.t.topo.Elements)])
+		c.err = s.t.fullErr(num, den, c.dev)
+	}
+	return out, diag
+}
+
+// maxLimit is the largest entry threshold over the part counts a section
+// with capacitor parts cp can reach (resistors add one or two parts each).
+func (w *worker) maxLimit(cp int8, nres int) float64 {
+	var m float64
+	for p := cp + int8(nres); p <= cp+int8(2*nres); p++ {
+		if l := w.list.limit(p, w.s.ceiling); l > m {
+			m = l
+		}
+	}
+	return m
+}
+
+// offer scores the element assignment in w.v/w.r and keeps it if good.
+func (w *worker) offer() {
+	s := w.s
+	n := len(s.t.topo.Elements)
+	var parts int8
+	for i := 0; i < n; i++ {
+		parts += w.realOf(i).n
+	}
+	lim := w.list.limit(parts, s.ceiling)
+	e, ok := s.t.errFor(w.v[:n], lim)
+	if !ok {
+		return
+	}
+	rows, qok := w.rowUse(n)
+	if !qok {
+		w.diag.quantityFail++
+		return
+	}
+	c := sectionCand{err: e, parts: parts, reals: w.r, vals: w.v, rows: rows}
+	w.list.add(c)
+	w.diag.accepted++
+}
+
+func (w *worker) realOf(i int) *real {
+	if w.s.t.topo.Elements[i].Kind == synth.Capacitor {
+		return &w.s.cap.reals[w.r[i]]
+	}
+	return &w.s.res.reals[w.r[i]]
+}
+
+// rowUse counts the parts each row gives to this section and checks the
+// counts against the quantity for the asked boards.
+func (w *worker) rowUse(n int) ([]rowCount, bool) {
+	var tmp [2 * maxElems]rowCount
+	m := 0
+	for i := 0; i < n; i++ {
+		re := w.realOf(i)
+		for j := 0; j < int(re.n); j++ {
+			row := re.rows[j]
+			found := false
+			for k := 0; k < m; k++ {
+				if tmp[k].row == row {
+					tmp[k].count++
+					found = true
+				}
+			}
+			if !found {
+				tmp[m] = rowCount{row: row, count: 1}
+				m++
+			}
+		}
+	}
+	for k := 0; k < m; k++ {
+		if int(tmp[k].count)*w.s.boards > w.s.rows[tmp[k].row].Quantity {
+			return nil, false
+		}
+	}
+	out := make([]rowCount, m)
+	copy(out, tmp[:m])
+	sort.Slice(out, func(a, b int) bool { return out[a].row < out[b].row })
+	return out, true
+}
+
+func (w *worker) search(part, of int) {
+	switch w.s.t.topo {
+	case &synth.FirstOrderLowPass, &synth.FirstOrderHighPass:
+		w.searchFirstOrder(part, of)
+	case &synth.SallenKeyLowPass:
+		w.searchSallenKeyLowPass(part, of)
+	case &synth.SallenKeyHighPass:
+		w.searchSallenKeyHighPass(part, of)
+	default:
+		w.searchThreePole(part, of)
+	}
+}
+
+// searchFirstOrder: w0 = 1/(RC); for each capacitor the resistors whose w0
+// lies in the box of the current error level, single parts and pairs
+// searched separately so that each has its own entry threshold.
+func (w *worker) searchFirstOrder(part, of int) {
+	s := w.s
+	t := s.t
+	ri, ci := 0, 1
+	if t.topo.Elements[0].Kind == synth.Capacitor {
+		ri, ci = 1, 0
+	}
+	for c := part; c < len(s.cap.reals); c += of {
+		cr := &s.cap.reals[c]
+		w.diag.capSets++
+		w.diag.ratioOK++
+		C := cr.value
+		for n := 1; n <= 2; n++ {
+			rs := s.res.sub[n]
+			b := w.box(w.list.limit(cr.n+int8(n), s.ceiling))
+			lo := math.Exp(-b.xhi) / (t.w0 * C)
+			hi := math.Exp(-b.xlo) / (t.w0 * C)
+			i0, i1 := rs.span(lo, hi)
+			if i0 < i1 {
+				w.diag.inRange++
+			}
+			for r := i0; r < i1; r++ {
+				w.r[ri], w.r[ci] = rs.global[r], int32(c)
+				w.v[ri], w.v[ci] = rs.vals[r], C
+				w.offer()
+			}
+		}
+	}
+}
+
+// searchSallenKeyLowPass: for capacitors Cf, Cg the response depends on
+// P = R1·R2 and S = R1+R2 only (w0² = 1/(P Cf Cg), Q = √(P Cf Cg)/(Cg S)),
+// and is symmetric in R1, R2, so R1 takes the larger value. The box in
+// (ln w0, ln Q) of the current error level bounds P and S, hence R1 and,
+// for each R1, R2. Single parts and pairs are searched as separate classes
+// with their own thresholds; R1 is visited outward from the exact solution
+// so that thresholds fall quickly, and the box is re-read after every R1.
+func (w *worker) searchSallenKeyLowPass(part, of int) {
+	s := w.s
+	t := s.t
+	w0t, qt := t.w0, t.q
+	for g := part; g < len(s.cap.reals); g += of {
+		cgR := &s.cap.reals[g]
+		Cg := cgR.value
+		b := w.box(w.maxLimit(cgR.n+1, 2))
+		// Cf/Cg >= 4 Q² e^{2(ylo + xlo - xhi)} for real resistors, and
+		// Rmin² <= P <= Rmax².
+		cfMin := Cg * 4 * qt * qt * math.Exp(2*(b.ylo+b.xlo-b.xhi))
+		cfMin = math.Max(cfMin, math.Exp(-2*b.xhi)/(w0t*w0t*s.rmax*s.rmax*Cg))
+		cfMax := math.Exp(-2*b.xlo) / (w0t * w0t * s.rmin * s.rmin * Cg)
+		f0, f1 := s.cap.span(cfMin, cfMax)
+		w.diag.capSets += len(s.cap.reals)
+		w.diag.ratioOK += f1 - f0
+		for f := f0; f < f1; f++ {
+			cfR := &s.cap.reals[f]
+			Cf := cfR.value
+			w.v[2], w.v[3] = Cf, Cg
+			w.r[2], w.r[3] = int32(f), int32(g)
+			centre := 0.0
+			if sol, exact := s.t.topo.SolveAppend(w.v[:4], t.sec.Den, w.sols[:0]); exact {
+				centre = sol[0][0]
+			}
+			k := Cf * Cg * w0t * w0t
+			any := false
+			for big := 1; big <= 2; big++ {
+				for small := 1; small <= 2; small++ {
+					parts := cgR.n + cfR.n + int8(big+small)
+					if w.skLowPassClass(k, Cf, Cg, centre, s.res.sub[big], s.res.sub[small], big == small, parts) {
+						any = true
+					}
+				}
+			}
+			if any {
+				w.diag.inRange++
+			}
+		}
+	}
+}
+
+// skLowPassClass walks one class of resistor pairs: R1 from big (the larger
+// value), R2 from small. It reports whether any R1 lay in range.
+func (w *worker) skLowPassClass(k, Cf, Cg, centre float64, big, small *valueSet, same bool, parts int8) bool {
+	s := w.s
+	t := s.t
+	w0t, qt := t.w0, t.q
+	bounds := func() (b box, pLo, pHi, sLo, sHi, r1Lo, r1Hi float64, ok bool) {
+		b = w.box(w.list.limit(parts, s.ceiling))
+		pLo, pHi = math.Exp(-2*b.xhi)/k, math.Exp(-2*b.xlo)/k
+		sLo = math.Sqrt(pLo*Cf*Cg) / (Cg * qt * math.Exp(b.yhi))
+		sHi = math.Sqrt(pHi*Cf*Cg) / (Cg * qt * math.Exp(b.ylo))
+		if sHi*sHi < 4*pLo {
+			return b, 0, 0, 0, 0, 0, 0, false
+		}
+		r1Lo = math.Sqrt(pLo)
+		if d := sLo*sLo - 4*pHi; d > 0 {
+			r1Lo = math.Max(r1Lo, (sLo+math.Sqrt(d))/2)
+		}
+		r1Hi = (sHi + math.Sqrt(sHi*sHi-4*pLo)) / 2
+		return b, pLo, pHi, sLo, sHi, r1Lo, r1Hi, true
+	}
+	_, _, _, _, _, r1Lo, r1Hi, ok := bounds()
+	if !ok {
+		return false
+	}
+	i0, i1 := big.span(r1Lo, r1Hi)
+	if i0 >= i1 {
+		return false
+	}
+	c := centre
+	if c < r1Lo || c > r1Hi {
+		c = math.Sqrt(r1Lo * r1Hi)
+	}
+	start := sort.SearchFloat64s(big.vals, c)
+	for dir := -1; dir <= 1; dir += 2 {
+		r1 := start
+		if dir < 0 {
+			r1 = start - 1
+		}
+		for ; r1 >= 0 && r1 < len(big.vals); r1 += dir {
+			b, pLo, pHi, sLo, sHi, r1Lo, r1Hi, ok := bounds()
+			R1 := big.vals[r1]
+			if !ok || (dir < 0 && R1 < r1Lo) || (dir > 0 && R1 > r1Hi) {
+				break
+			}
+			if R1 < r1Lo || R1 > r1Hi {
+				continue
+			}
+			lo := math.Max(pLo/R1, sLo-R1)
+			hi := math.Min(math.Min(pHi/R1, sHi-R1), R1)
+			j0, j1 := small.span(lo, hi)
+			if same && j1 > r1+1 {
+				j1 = r1 + 1 // one class: R2 <= R1 in the sorted order
+			}
+			for r2 := j0; r2 < j1; r2++ {
+				R2 := small.vals[r2]
+				P, S := R1*R2, R1+R2
+				x := math.Log(1 / (math.Sqrt(P*Cf*Cg) * w0t))
+				y := math.Log(math.Sqrt(P*Cf*Cg) / (Cg * S) / qt)
+				if x < b.xlo || x > b.xhi || y < b.ylo || y > b.yhi {
+					continue
+				}
+				w.v[0], w.v[1] = R1, R2
+				w.r[0], w.r[1] = big.global[r1], small.global[r2]
+				w.offer()
+			}
+		}
+	}
+	return true
+}
+
+// searchSallenKeyHighPass: the response depends on C1+C2 and C1·C2 (so
+// C1 >= C2), w0² = 1/(Rf Rg C1 C2) and Q² = Rg C1 C2 / (Rf (C1+C2)²); the
+// box bounds the product Rf·Rg and the ratio Rg/Rf. Each class of
+// resistor realisations (single or pair, per position) has its own box.
+func (w *worker) searchSallenKeyHighPass(part, of int) {
+	s := w.s
+	t := s.t
+	w0t, qt := t.w0, t.q
+	for c1 := part; c1 < len(s.cap.reals); c1 += of {
+		c1R := &s.cap.reals[c1]
+		C1 := c1R.value
+		b := w.box(w.maxLimit(c1R.n+1, 2))
+		// Rmin² <= Rf·Rg <= Rmax² bounds C1·C2.
+		c2Lo := math.Exp(-2*b.xhi) / (w0t * w0t * s.rmax * s.rmax * C1)
+		c2Hi := math.Min(C1, math.Exp(-2*b.xlo)/(w0t*w0t*s.rmin*s.rmin*C1))
+		g0, g1 := s.cap.span(c2Lo, c2Hi)
+		if g1 > c1+1 {
+			g1 = c1 + 1
+		}
+		w.diag.capSets += len(s.cap.reals)
+		w.diag.ratioOK += g1 - g0
+		for c2 := g0; c2 < g1; c2++ {
+			c2R := &s.cap.reals[c2]
+			C2 := c2R.value
+			w.v[0], w.v[1] = C1, C2
+			w.r[0], w.r[1] = int32(c1), int32(c2)
+			k := C1 * C2 * w0t * w0t
+			sum2 := (C1 + C2) * (C1 + C2) / (C1 * C2)
+			any := false
+			for nf := 1; nf <= 2; nf++ {
+				for ng := 1; ng <= 2; ng++ {
+					fs, gs := s.res.sub[nf], s.res.sub[ng]
+					parts := c1R.n + c2R.n + int8(nf+ng)
+					b := w.box(w.list.limit(parts, s.ceiling))
+					pLo, pHi := math.Exp(-2*b.xhi)/k, math.Exp(-2*b.xlo)/k
+					rhoLo := qt * qt * math.Exp(2*b.ylo) * sum2
+					rhoHi := qt * qt * math.Exp(2*b.yhi) * sum2
+					i0, i1 := fs.span(math.Sqrt(pLo/rhoHi), math.Sqrt(pHi/rhoLo))
+					if i0 < i1 {
+						any = true
+					}
+					for rf := i0; rf < i1; rf++ {
+						Rf := fs.vals[rf]
+						j0, j1 := gs.span(math.Max(pLo/Rf, rhoLo*Rf), math.Min(pHi/Rf, rhoHi*Rf))
+						for rg := j0; rg < j1; rg++ {
+							Rg := gs.vals[rg]
+							P := Rf * Rg
+							x := math.Log(1 / (math.Sqrt(P*C1*C2) * w0t))
+							y := math.Log(math.Sqrt(Rg*C1*C2/Rf) / (C1 + C2) / qt)
+							if x < b.xlo || x > b.xhi || y < b.ylo || y > b.yhi {
+								continue
+							}
+							w.v[2], w.v[3] = Rf, Rg
+							w.r[2], w.r[3] = fs.global[rf], gs.global[rg]
+							w.offer()
+						}
+						// The box may have shrunk after an offer.
+						b = w.box(w.list.limit(parts, s.ceiling))
+					}
+				}
+			}
+			if any {
+				w.diag.inRange++
+			}
+		}
+	}
+}
+
+// threePoleWindow is how many neighbouring resistor values on each side of
+// the exact solution a 3-pole section tries.
+const threePoleWindow = 2
+
+// searchThreePole: every triple of capacitors (single parts unless
+// threeCap), the resistors solved exactly (Topology.Solve), then the
+// realisable resistors nearest each solved value.
+func (w *worker) searchThreePole(part, of int) {
+	s := w.s
+	t := s.t
+	topo := t.topo
+	ci := topo.Indices(synth.Capacitor)
+	ri := topo.Indices(synth.Resistor)
+	den := t.sec.Den
+	var capIdx []int
+	for i, r := range s.cap.reals {
+		if r.n == 1 || s.threeCap {
+			capIdx = append(capIdx, i)
+		}
+	}
+	// a3 = (product of the capacitors)·(product of the resistors).
+	prodLo := den[3] / (s.rmax * s.rmax * s.rmax)
+	prodHi := den[3] / (s.rmin * s.rmin * s.rmin)
+	for x := part; x < len(capIdx); x += of {
+		a := capIdx[x]
+		for _, bb := range capIdx {
+			for _, c := range capIdx {
+				ca, cb, cc := s.cap.reals[a].value, s.cap.reals[bb].value, s.cap.reals[c].value
+				p := ca * cb * cc
+				w.diag.capSets++
+				if p < prodLo || p > prodHi {
+					continue
+				}
+				w.v[ci[0]], w.v[ci[1]], w.v[ci[2]] = ca, cb, cc
+				w.r[ci[0]], w.r[ci[1]], w.r[ci[2]] = int32(a), int32(bb), int32(c)
+				var ok bool
+				w.sols, ok = topo.SolveAppend(w.v[:6], den, w.sols[:0])
+				if !ok {
+					continue
+				}
+				w.diag.ratioOK++
+				for _, sol := range w.sols {
+					w.tryResistorWindow(sol, ri)
+				}
+			}
+		}
+	}
+}
+
+func (w *worker) tryResistorWindow(sol []float64, ri []int) {
+	s := w.s
+	var lo, hi [3]int
+	for k, i := range ri {
+		v := sol[i]
+		if v < s.rmin || v > s.rmax {
+			return
+		}
+		at := sort.SearchFloat64s(s.res.vals, v)
+		lo[k] = max(0, at-threePoleWindow)
+		hi[k] = min(len(s.res.vals), at+threePoleWindow)
+		if lo[k] >= hi[k] {
+			return
+		}
+	}
+	w.diag.inRange++
+	for a := lo[0]; a < hi[0]; a++ {
+		for b := lo[1]; b < hi[1]; b++ {
+			for c := lo[2]; c < hi[2]; c++ {
+				w.v[ri[0]], w.v[ri[1]], w.v[ri[2]] = s.res.vals[a], s.res.vals[b], s.res.vals[c]
+				w.r[ri[0]], w.r[ri[1]], w.r[ri[2]] = int32(a), int32(b), int32(c)
+				w.offer()
+			}
+		}
+	}
+}
