@@ -77,6 +77,27 @@ func BenchmarkSectionGain2(b *testing.B) {
 	}
 }
 
+// BenchmarkSolve measures Topology.Solve, the fit's step from chosen
+// capacitors to exact resistors, for each topology.
+func BenchmarkSolve(b *testing.B) {
+	for _, k := range []Kind{LowPass, HighPass} {
+		d, err := NewDesign(Spec{Kind: k, Approx: Chebyshev, Ripple: 1, Pass: 1000, Order: 5, Odd: OddThreePole}, 0, 0)
+		if err != nil {
+			b.Fatal(err)
+		}
+		st, _ := d.Scale(Scaling{})
+		for i, sec := range d.Sections {
+			caps := st[i].Values()
+			b.Run(sec.Topology.ID, func(b *testing.B) {
+				var dst [][]float64
+				for b.Loop() {
+					dst, _ = sec.Topology.SolveAppend(caps, sec.Den, dst[:0])
+				}
+			})
+		}
+	}
+}
+
 // BenchmarkAnalyzeNetlist measures the nodal analysis of a 5th-order
 // cascade netlist (parsing included), per frequency point.
 func BenchmarkAnalyzeNetlist(b *testing.B) {

@@ -160,9 +160,8 @@ func (d *Design) Scale(sc Scaling) ([]Stage, error) {
 			return nil, err
 		}
 		t := d.Sections[i].Topology
-		var kz float64
+		var kz, cmax float64
 		if sc.Anchor > 0 {
-			cmax := 0.0
 			for j, e := range t.Elements {
 				if e.Kind == Capacitor {
 					cmax = math.Max(cmax, v[j])
@@ -180,9 +179,14 @@ func (d *Design) Scale(sc Scaling) ([]Stage, error) {
 		}
 		out := make([]float64, len(v))
 		for j, e := range t.Elements {
-			if e.Kind == Resistor {
+			switch {
+			case e.Kind == Resistor:
 				out[j] = v[j] * kz
-			} else {
+			case sc.Anchor > 0:
+				// The same as C/(kf·kz), written so that the anchored
+				// capacitor gets the anchor value exactly.
+				out[j] = sc.Anchor * (v[j] / cmax)
+			default:
 				out[j] = v[j] / (kf * kz)
 			}
 		}

@@ -3,6 +3,10 @@ package synth
 import (
 	"math"
 	"math/cmplx"
+	"sort"
+
+	"gonum.org/v1/gonum/lapack"
+	lapackgonum "gonum.org/v1/gonum/lapack/gonum"
 )
 
 // PartKind is the kind of a passive element in a section.
@@ -258,6 +262,11 @@ var SallenKeyLowPass = Topology{
 		p := den[2] / (cf * cg) // R1·R2
 		s := den[1] / cg        // R1+R2
 		disc := s*s - 4*p
+		// Equal resistors put the discriminant exactly at zero, which
+		// rounding can push just below: treat that as the double root.
+		if disc < 0 && disc > -1e-12*s*s {
+			disc = 0
+		}
 		if disc < 0 {
 			r := math.Sqrt(p)
 			return append(dst, []float64{r, r, cf, cg}), false
@@ -339,10 +348,18 @@ var ThreePoleLowPass = Topology{
 			return r2, r3, r2*r3 - p, u > 0 && r2 > 0 && r3 > 0
 		}
 		hi := a1 / (ca + cb)
-		sols, ok := scanRoots(hi, split, func(r1, r2, r3 float64) []float64 {
+		// g·cb·K²·R1⁴ (K = Ca Cb Cf) is the sextic U·N3·K·R1² - cb·N3² -
+		// a3·cb·K·R1³ with U = a1 - (Ca+Cb)R1 and
+		// N3 = -a3 + Ca a2 R1 - Ca² a1 R1² + Ca²(Ca+Cb) R1³.
+		k := ca * cb * cf
+		u := []float64{a1, -(ca + cb)}
+		n3 := []float64{-a3, ca * a2, -ca * ca * a1, ca * ca * (ca + cb)}
+		poly := polyAdd(polyScale(polyMul(polyMul(u, n3), []float64{0, 0, k}), 1),
+			polyScale(polyMul(n3, n3), -cb))
+		poly = polyAdd(poly, []float64{0, 0, 0, -a3 * cb * k})
+		return polyRoots(hi, poly, split, func(r1, r2, r3 float64) []float64 {
 			return []float64{r1, r2, r3, ca, cf, cb}
 		}, dst)
-		return sols, ok
 	},
 	normalised: func(den Poly) ([]float64, bool) {
 		a1, a2, a3 := den[1], den[2], den[3]
@@ -354,7 +371,10 @@ var ThreePoleLowPass = Topology{
 			cf = a2/(2*x) - ca
 			return ca, cf, ca*x*cf - a3, ca > 0 && cf > 0
 		}
-		sols, ok := scanRoots(a1/3, split, func(x, ca, cf float64) []float64 {
+		// Times 2: (a2 - 2x(a1-3x))(a1-3x) - 2 a3, a cubic in x.
+		y := []float64{a1, -3}
+		poly := polyAdd(polyMul(polyAdd([]float64{a2}, polyMul([]float64{0, -2}, y)), y), []float64{-2 * a3})
+		sols, ok := polyRoots(a1/3, poly, split, func(x, ca, cf float64) []float64 {
 			return []float64{1, 1, 1, ca, cf, x}
 		}, nil)
 		if !ok {
@@ -405,9 +425,153 @@ func threePoleHighPassSolve(c1, c2, c3 float64, den Poly, dst [][]float64) ([][]
 		rb = a3 / (c1 * c2 * c3 * ra * rf)
 		return rf, rb, ra*rf*k + c2*c3*rb*rf - a2, rf > 0 && rb > 0
 	}
-	return scanRoots(a1/(c1+c2), split, func(ra, rf, rb float64) []float64 {
+	// Times Ra: Ra² Rf k + a3/C1 - a2 Ra with Rf linear in Ra, a cubic.
+	rfp := []float64{a1 / (c2 + c3), -(c1 + c2) / (c2 + c3)}
+	poly := polyAdd(polyMul([]float64{0, 0, k}, rfp), []float64{a3 / c1, -a2})
+	return polyRoots(a1/(c1+c2), poly, split, func(ra, rf, rb float64) []float64 {
 		return []float64{c1, c2, c3, ra, rf, rb}
 	}, dst)
+}
+
+// polyRoots appends build(x, ...) for every admissible real root x in
+// (0, hi) of the polynomial poly (ascending powers), which must vanish
+// exactly where split's residual does. The roots come from the eigenvalues
+// of the companion matrix in the variable t = x/hi, polished by Newton steps
+// on the residual's polynomial. A grid scan cannot be trusted here: for
+// high-Q sections the admissible interval can be narrower than any
+// affordable grid step. When no admissible root exists it falls back to
+// scanRoots, which reports the nearest realisable point.
+func polyRoots(hi float64, poly []float64, split func(x float64) (y1, y2, g float64, ok bool),
+	build func(x, y1, y2 float64) []float64, dst [][]float64) ([][]float64, bool) {
+	found := false
+	for _, x := range realRootsIn(poly, hi) {
+		y1, y2, _, ok := split(x)
+		if ok {
+			dst = append(dst, build(x, y1, y2))
+			found = true
+		}
+	}
+	if found {
+		return dst, true
+	}
+	return scanRoots(hi, split, build, dst)
+}
+
+// maxRootDegree is the highest polynomial degree realRootsIn handles (the
+// 3-pole low-pass residual is a sextic).
+const maxRootDegree = 6
+
+// realRootsIn returns the real roots in (0, hi) of the polynomial c
+// (ascending powers), in ascending order.
+func realRootsIn(c []float64, hi float64) []float64 {
+	// Substitute x = hi·t so that the roots of interest lie in (0, 1).
+	t := make([]float64, len(c))
+	scale := 1.0
+	for i, v := range c {
+		t[i] = v * scale
+		scale *= hi
+	}
+	big := 0.0
+	for _, v := range t {
+		big = math.Max(big, math.Abs(v))
+	}
+	n := len(t) - 1
+	for n > 0 && math.Abs(t[n]) <= 1e-14*big {
+		n--
+	}
+	if n == 0 || big == 0 {
+		return nil
+	}
+	if n > maxRootDegree {
+		panic("synth: polynomial degree above maxRootDegree")
+	}
+	// Eigenvalues of the companion matrix, which is upper Hessenberg: a
+	// diagonal balancing keeps that shape, and LAPACK's Dhseqr (gonum's
+	// implementation) finds them without the allocations of mat.Eigen,
+	// which matters in the fit's inner loop.
+	var hbuf [maxRootDegree * maxRootDegree]float64
+	var wr, wi, scl, work [maxRootDegree]float64
+	h := hbuf[:n*n]
+	for j := 0; j < n; j++ {
+		h[j] = -t[n-1-j] / t[n]
+	}
+	for i := 1; i < n; i++ {
+		h[i*n+i-1] = 1
+	}
+	var impl lapackgonum.Implementation
+	ilo, ihi := impl.Dgebal(lapack.Scale, n, h, n, scl[:n])
+	if impl.Dhseqr(lapack.EigenvaluesOnly, lapack.SchurNone, n, ilo, ihi, h, n, wr[:n], wi[:n], nil, 1, work[:n], n) > 0 {
+		return nil
+	}
+	var out []float64
+	for i := 0; i < n; i++ {
+		z := complex(wr[i], wi[i])
+		// A real double root (the edge of realisability) can come out as
+		// a pair with a tiny imaginary part.
+		if math.Abs(imag(z)) > 1e-7 || real(z) <= 0 || real(z) >= 1 {
+			continue
+		}
+		r := polishReal(t[:n+1], real(z))
+		if r > 0 && r < 1 {
+			out = append(out, r*hi)
+		}
+	}
+	sort.Float64s(out)
+	return out
+}
+
+// polishReal improves a real root x of c by Newton steps while they help.
+func polishReal(c []float64, x float64) float64 {
+	eval := func(x float64) (p, dp float64) {
+		for i := len(c) - 1; i >= 0; i-- {
+			dp = dp*x + p
+			p = p*x + c[i]
+		}
+		return p, dp
+	}
+	p, _ := eval(x)
+	for it := 0; it < 6 && p != 0; it++ {
+		_, dp := eval(x)
+		if dp == 0 {
+			break
+		}
+		nx := x - p/dp
+		np, _ := eval(nx)
+		if math.Abs(np) >= math.Abs(p) {
+			break
+		}
+		x, p = nx, np
+	}
+	return x
+}
+
+func polyMul(a, b []float64) []float64 {
+	out := make([]float64, len(a)+len(b)-1)
+	for i, x := range a {
+		for j, y := range b {
+			out[i+j] += x * y
+		}
+	}
+	return out
+}
+
+func polyAdd(a, b []float64) []float64 {
+	if len(a) < len(b) {
+		a, b = b, a
+	}
+	out := append([]float64(nil), a...)
+	for i, y := range b {
+		out[i] += y
+	}
+	return out
+}
+
+func polyScale(a []float64, k float64) []float64 {
+	out := make([]float64, len(a))
+	for i, x := range a {
+		out[i] = x * k
+	}
+	return out
 }
 
 // scanRoots finds the roots in (0, hi) of the residual g(x) returned by split,
