@@ -167,7 +167,13 @@ func (t *target) errFor(v []float64, limit float64) (float64, bool) {
 // box is a rectangle in (x, y) = (ln(w0/w0t), ln(Q/Qt)) that contains every
 // 2-pole response whose error is below a level; for a 1-pole section only x
 // is used.
-type box struct{ xlo, xhi, ylo, yhi float64 }
+type box struct {
+	xlo, xhi, ylo, yhi float64
+	// Precomputed exponentials used by the searches.
+	e2xhi, e2xlo float64 // e^{-2 xhi}, e^{-2 xlo}
+	eyhi, eylo   float64 // e^{yhi}, e^{ylo}
+	exhi, exlo   float64 // e^{-xhi}, e^{-xlo}
+}
 
 // levelOf returns the smallest box level whose error bound is >= e. Levels
 // are 1e-7 dB · √2^k.
@@ -269,10 +275,13 @@ func (t *target) boxAt(k int) box {
 		b.ylo, b.yhi = math.Min(b.ylo, y), math.Max(b.yhi, y)
 	}
 	const widen, margin = 1.2, 1e-9
-	b = box{b.xlo*widen - margin, b.xhi*widen + margin, b.ylo*widen - margin, b.yhi*widen + margin}
+	b = box{xlo: b.xlo*widen - margin, xhi: b.xhi*widen + margin, ylo: b.ylo*widen - margin, yhi: b.yhi*widen + margin}
 	if t.topo.Poles == 1 {
 		b.ylo, b.yhi = math.Inf(-1), math.Inf(1)
 	}
+	b.e2xhi, b.e2xlo = math.Exp(-2*b.xhi), math.Exp(-2*b.xlo)
+	b.eyhi, b.eylo = math.Exp(b.yhi), math.Exp(b.ylo)
+	b.exhi, b.exlo = math.Exp(-b.xhi), math.Exp(-b.xlo)
 	t.boxes[k] = b
 	return b
 }

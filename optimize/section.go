@@ -45,15 +45,47 @@ func (a *sectionCand) less(b *sectionCand) bool {
 type shortlist struct {
 	k       int
 	classes [16][]sectionCand // index: part count
+	cum     [16]float64       // entry limit per part count (see limit)
 }
 
-// limit is the error a new candidate with p parts must not exceed to enter.
-func (s *shortlist) limit(p int8, ceiling float64) float64 {
-	c := s.classes[p]
-	if len(c) < s.k {
-		return ceiling
+func newShortlist(k int, ceiling float64) shortlist {
+	s := shortlist{k: k}
+	for i := range s.cum {
+		s.cum[i] = ceiling
 	}
-	return c[len(c)-1].err
+	return s
+}
+
+// limit is the error a new candidate with p parts must not exceed to enter:
+// it must be among the k best of its own part count and among the k best of
+// all candidates with at most p parts (a candidate with more parts and a
+// larger error than k others is of no use to any ranking).
+func (s *shortlist) limit(p int8, ceiling float64) float64 {
+	return s.cum[p]
+}
+
+// refresh recomputes the entry limits after class p changed.
+func (s *shortlist) refresh(ceiling float64) {
+	// The k smallest errors over classes <= p, merged incrementally.
+	var best []float64
+	for p := range s.classes {
+		own := ceiling
+		if c := s.classes[p]; len(c) == s.k {
+			own = c[len(c)-1].err
+		}
+		for _, c := range s.classes[p] {
+			best = append(best, c.err)
+		}
+		sort.Float64s(best)
+		if len(best) > s.k {
+			best = best[:s.k]
+		}
+		cum := ceiling
+		if len(best) == s.k {
+			cum = best[s.k-1]
+		}
+		s.cum[p] = math.Min(own, cum)
+	}
 }
 
 func (s *shortlist) add(c sectionCand) {
@@ -70,12 +102,13 @@ func (s *shortlist) add(c sectionCand) {
 	s.classes[c.parts] = cl
 }
 
-func (s *shortlist) merge(o *shortlist) {
+func (s *shortlist) merge(o *shortlist, ceiling float64) {
 	for _, cl := range o.classes {
 		for _, c := range cl {
 			s.add(c)
 		}
 	}
+	s.refresh(ceiling)
 }
 
 func (s *shortlist) all() []sectionCand {
@@ -126,7 +159,21 @@ type worker struct {
 	r    [maxElems]int32
 	sols [][]float64
 
-	boxes map[int]box // this worker's copy of the target's boxes
+	boxes    map[int]box // this worker's copy of the target's boxes
+	cacheLim [16]float64
+	cacheBox [16]*box
+}
+
+// classBox returns the box for the entry limit of part count p, cached
+// until that limit changes.
+func (w *worker) classBox(p int8) *box {
+	lim := w.list.cum[p]
+	if w.cacheBox[p] != nil && w.cacheLim[p] == lim {
+		return w.cacheBox[p]
+	}
+	b := w.box(lim)
+	w.cacheLim[p], w.cacheBox[p] = lim, &b
+	return &b
 }
 
 // box returns the (ln w0, ln Q) box for error level e.
@@ -152,7 +199,7 @@ func (s *sectionSearch) run(workers int) ([]sectionCand, sectionDiag) {
 	ws := make([]*worker, workers)
 	var wg sync.WaitGroup
 	for i := range ws {
-		ws[i] = &worker{s: s, list: shortlist{k: s.k}}
+		ws[i] = &worker{s: s, list: newShortlist(s.k, s.ceiling)}
 		wg.Add(1)
 		go func(w *worker, part int) {
 			defer wg.Done()
@@ -160,10 +207,10 @@ func (s *sectionSearch) run(workers int) ([]sectionCand, sectionDiag) {
 		}(ws[i], i)
 	}
 	wg.Wait()
-	final := shortlist{k: s.k}
+	final := newShortlist(s.k, s.ceiling)
 	var diag sectionDiag
 	for _, w := range ws {
-		final.merge(&w.list)
+		final.merge(&w.list, s.ceiling)
 		diag.addFrom(&w.diag)
 	}
 	out := final.all()
@@ -208,6 +255,7 @@ func (w *worker) offer() {
 	}
 	c := sectionCand{err: e, parts: parts, reals: w.r, vals: w.v, rows: rows}
 	w.list.add(c)
+	w.list.refresh(s.ceiling)
 	w.diag.accepted++
 }
 
@@ -252,6 +300,9 @@ func (w *worker) rowUse(n int) ([]rowCount, bool) {
 }
 
 func (w *worker) search(part, of int) {
+	if w.s.t.topo.Poles <= 2 {
+		w.seed(part, of)
+	}
 	switch w.s.t.topo {
 	case &synth.FirstOrderLowPass, &synth.FirstOrderHighPass:
 		w.searchFirstOrder(part, of)
@@ -261,6 +312,73 @@ func (w *worker) search(part, of int) {
 		w.searchSallenKeyHighPass(part, of)
 	default:
 		w.searchThreePole(part, of)
+	}
+}
+
+// seed offers, for every assignment of single-part capacitors, the
+// realisable resistors nearest the exact solution in each class. It only
+// lowers the entry thresholds early, so that the full search that follows
+// walks small boxes; it decides nothing by itself.
+func (w *worker) seed(part, of int) {
+	s := w.s
+	topo := s.t.topo
+	ci := topo.Indices(synth.Capacitor)
+	ri := topo.Indices(synth.Resistor)
+	single := s.cap.sub[1]
+	var capSets [][]int32
+	if len(ci) == 1 {
+		for a := range single.reals {
+			capSets = append(capSets, []int32{single.global[a]})
+		}
+	} else {
+		for a := range single.reals {
+			for b := range single.reals {
+				capSets = append(capSets, []int32{single.global[a], single.global[b]})
+			}
+		}
+	}
+	for x := part; x < len(capSets); x += of {
+		cs := capSets[x]
+		for j, i := range ci {
+			w.r[i] = cs[j]
+			w.v[i] = s.cap.vals[cs[j]]
+		}
+		sols, _ := topo.SolveAppend(w.v[:len(topo.Elements)], s.t.sec.Den, w.sols[:0])
+		w.sols = sols
+		if len(sols) == 0 {
+			continue
+		}
+		sol := sols[0]
+		// Neighbours per resistor position and class.
+		var near [2][4]int32
+		var cnt [2]int
+		for k, i := range ri {
+			for n := 1; n <= 2; n++ {
+				sub := s.res.sub[n]
+				at := sort.SearchFloat64s(sub.vals, sol[i])
+				for _, j := range []int{at - 1, at} {
+					if j >= 0 && j < len(sub.vals) {
+						near[k][cnt[k]] = sub.global[j]
+						cnt[k]++
+					}
+				}
+			}
+		}
+		if len(ri) == 1 {
+			for a := 0; a < cnt[0]; a++ {
+				w.r[ri[0]] = near[0][a]
+				w.v[ri[0]] = s.res.vals[near[0][a]]
+				w.offer()
+			}
+			continue
+		}
+		for a := 0; a < cnt[0]; a++ {
+			for b := 0; b < cnt[1]; b++ {
+				w.r[ri[0]], w.r[ri[1]] = near[0][a], near[1][b]
+				w.v[ri[0]], w.v[ri[1]] = s.res.vals[near[0][a]], s.res.vals[near[1][b]]
+				w.offer()
+			}
+		}
 	}
 }
 
@@ -352,11 +470,11 @@ func (w *worker) skLowPassClass(k, Cf, Cg, centre float64, big, small *valueSet,
 	s := w.s
 	t := s.t
 	w0t, qt := t.w0, t.q
-	bounds := func() (b box, pLo, pHi, sLo, sHi, r1Lo, r1Hi float64, ok bool) {
-		b = w.box(w.list.limit(parts, s.ceiling))
-		pLo, pHi = math.Exp(-2*b.xhi)/k, math.Exp(-2*b.xlo)/k
-		sLo = math.Sqrt(pLo*Cf*Cg) / (Cg * qt * math.Exp(b.yhi))
-		sHi = math.Sqrt(pHi*Cf*Cg) / (Cg * qt * math.Exp(b.ylo))
+	bounds := func() (b *box, pLo, pHi, sLo, sHi, r1Lo, r1Hi float64, ok bool) {
+		b = w.classBox(parts)
+		pLo, pHi = b.e2xhi/k, b.e2xlo/k
+		sLo = math.Sqrt(pLo*Cf*Cg) / (Cg * qt * b.eyhi)
+		sHi = math.Sqrt(pHi*Cf*Cg) / (Cg * qt * b.eylo)
 		if sHi*sHi < 4*pLo {
 			return b, 0, 0, 0, 0, 0, 0, false
 		}
