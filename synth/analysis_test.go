@@ -1,7 +1,6 @@
 package synth
 
 import (
-	"fmt"
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
@@ -95,5 +94,3 @@ func TestSolveReproducesSection(t *testing.T) {
 		})
 	}
 }
-
-var _ = fmt.Sprint
