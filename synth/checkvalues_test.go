@@ -513,3 +513,34 @@ func TestWorkedExamples(t *testing.T) {
 		}
 	})
 }
+
+// TestThreePoleHighestQUnrealisable checks the remark of CHECK-VALUES.md
+// that pairing the real pole with the highest-Q pair is unrealisable for
+// Chebyshev n=5 (0.5 dB: real pole 0.36232, pair w0 1.01773, Q 4.54496,
+// computed), while the lowest-Q pair (w0 0.69048, Q 1.17781) works. Both
+// the normalised values and the Solve of the high-pass dual agree.
+func TestThreePoleHighestQUnrealisable(t *testing.T) {
+	cases := []struct {
+		name   string
+		w0, q  float64
+		wantOK bool
+	}{
+		{"highest-q", 1.01773, 4.54496, false},
+		{"lowest-q", 0.69048, 1.17781, true},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			_, d1 := firstOrderPoly(LowPass, 0.36232)
+			_, d2 := pairPoly(LowPass, c.w0, c.q)
+			den := mulPoly(d1, d2)
+			if _, ok := ThreePoleLowPass.Normalised(den); ok != c.wantOK {
+				t.Errorf("low-pass realisable: %v, want %v", ok, c.wantOK)
+			}
+			_, hd1 := firstOrderPoly(HighPass, 1/0.36232)
+			_, hd2 := pairPoly(HighPass, 1/c.w0, c.q)
+			if _, ok := ThreePoleHighPass.Normalised(mulPoly(hd1, hd2)); ok != c.wantOK {
+				t.Errorf("high-pass realisable: %v, want %v", ok, c.wantOK)
+			}
+		})
+	}
+}
