@@ -18,6 +18,7 @@ const (
 	HighPass
 )
 
+// String returns "lowpass" or "highpass".
 func (k Kind) String() string {
 	if k == HighPass {
 		return "highpass"
@@ -49,6 +50,7 @@ const (
 	Bessel
 )
 
+// String returns "butterworth", "chebyshev" or "bessel".
 func (a Approx) String() string {
 	switch a {
 	case Chebyshev:
@@ -89,6 +91,7 @@ const (
 	OddThreePole
 )
 
+// String returns "1pole", "3pole" or "default".
 func (o Odd) String() string {
 	switch o {
 	case OddOnePole:
@@ -122,6 +125,7 @@ const (
 	BesselDelay
 )
 
+// String returns "mag" or "delay".
 func (b BesselNorm) String() string {
 	if b == BesselDelay {
 		return "delay"
@@ -251,8 +255,8 @@ func (s *Spec) Normalize() error {
 	return nil
 }
 
-// mirror maps a frequency of the specification onto the low-pass prototype's
-// axis: for a high-pass, fs' = fp²/fs, so that fs'/fp = fp/fs.
+// stopRatio returns fs/fp on the low-pass prototype's axis: fs/fp for a
+// low-pass, fp/fs for a high-pass (s -> 1/s mirrors frequencies about fp).
 func (s *Spec) stopRatio() float64 {
 	if s.Kind == HighPass {
 		return s.Pass / s.Stop
