@@ -8,6 +8,7 @@ import (
 	"strings"
 
 	"github.com/spf13/cobra"
+	"github.com/spf13/pflag"
 
 	"drawerfit/fault"
 	"drawerfit/stock"
@@ -87,6 +88,15 @@ and simulates in any SPICE-compatible program: input node in, output out.`,
 		},
 	}
 	f := cmd.Flags()
+	bindSpecFlags(f, o)
+	f.StringVar(&o.anchor, "anchor", "", "value of each section's largest capacitor, e.g. 10n (default: resistors mid-range)")
+	f.BoolVar(&o.json, "json", false, "print one JSON object")
+	f.StringVar(&o.netlist, "netlist", "", "write the SPICE netlist to this file")
+	return cmd
+}
+
+// bindSpecFlags binds the specification flags that plan and fit share.
+func bindSpecFlags(f *pflag.FlagSet, o *planOptions) {
 	f.StringVar(&o.pass, "pass", "", "passband edge frequency fp (required), e.g. 1k or 1.5kHz")
 	f.Float64Var(&o.passAtten, "pass-atten", 0, "most attenuation allowed at fp, dB (default 3.01 for Butterworth and Bessel; the ripple for Chebyshev)")
 	f.StringVar(&o.stop, "stop", "", "stopband edge frequency fs")
@@ -96,10 +106,6 @@ and simulates in any SPICE-compatible program: input node in, output out.`,
 	f.IntVar(&o.order, "order", 0, "filter order 1..12 (default: the minimum that meets --stop/--atten)")
 	f.StringVar(&o.odd, "odd", "1pole", "odd-order real pole: 1pole (own RC section) or 3pole (with the lowest-Q pair)")
 	f.StringVar(&o.besselNorm, "bessel-norm", "mag", "Bessel normalisation: mag (-3 dB at fp) or delay (unit delay scaled to fp)")
-	f.StringVar(&o.anchor, "anchor", "", "value of each section's largest capacitor, e.g. 10n (default: resistors mid-range)")
-	f.BoolVar(&o.json, "json", false, "print one JSON object")
-	f.StringVar(&o.netlist, "netlist", "", "write the SPICE netlist to this file")
-	return cmd
 }
 
 // planSpec turns the options into a specification; every mistake is a

@@ -1,0 +1,531 @@
+package cli
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"sort"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"drawerfit/fault"
+	"drawerfit/optimize"
+	"drawerfit/report"
+	"drawerfit/stock"
+	"drawerfit/synth"
+)
+
+func init() { register("fit", newFitCmd) }
+
+// fitOptions are the flags of `drawerfit fit`.
+type fitOptions struct {
+	spec planOptions // the specification flags, shared with plan
+
+	combine     int
+	boards      int
+	maxOrder    int
+	rank        string
+	top         int
+	goodEnough  float64
+	rMin, rMax  string
+	cMin, cMax  string
+	allowDiel   []string
+	showFailing bool
+	stockCSV    string
+	netlist     string
+	json        bool
+	oddSet      bool
+}
+
+func newFitCmd(env *Env) *cobra.Command {
+	o := &fitOptions{}
+	cmd := &cobra.Command{
+		Use:   "fit lowpass|highpass --pass FREQ [--stop FREQ --atten DB | --order N]",
+		Short: "Search the stock for the best buildable designs of a filter",
+		Long: `fit designs the filter from its specification (as plan does) and then
+searches the parts on hand: every usable resistor and capacitor alone and,
+with --combine 2 (the default), every pair in series or parallel; every
+capacitor choice for every section (no fixed anchor, no equal-value
+restriction); the minimum order and the next (--max-order), and both
+arrangements of an odd order (a 1-pole RC section, or a 3-pole section).
+
+Each candidate is scored by its response error: the largest difference, in
+dB, between its magnitude response (nominal values, ideal op-amps) and the
+ideal response of the same approximation and order, on a logarithmic grid of
+100 points per decade from fp/10 to fs (high-pass: fs to 10·fp). It meets the
+specification when its own attenuation is at most Ap at fp and at least As at
+fs. Parts counts physical parts per board; unique counts distinct stock rows.
+
+Ranking (--rank balanced, the default): candidates whose error is within
+--good-enough come first, fewest parts first, then fewest unique parts, then
+error; the rest follow by error. --rank error|parts|unique sorts by one
+objective. A '*' in the pareto column marks candidates that no other listed
+candidate beats in error, parts and unique parts at once.
+
+The stock is the database (--db), or a CSV file read into memory (--stock)
+without importing it. Only C0G/NP0 and film capacitors are used unless
+--allow-dielectric widens the choice. With --boards N every stock row used
+must cover N boards (a row used three times needs 3·N parts).
+
+Results are small-signal designs with ideal op-amps: verify on the bench
+before production, choose capacitor voltage ratings to suit the circuit, and
+have safety-relevant, medical or mains-connected uses reviewed by a qualified
+person under the applicable local rules.`,
+		Example: `  # A weather station's wind-noise low-pass on the sample drawer: flat to 1 kHz,
+  # 40 dB down by 3 kHz, straight from the CSV file
+  drawerfit fit lowpass --pass 1k --stop 3k --atten 40 --stock sample-stock.csv
+
+  # A turntable preamp's rumble high-pass, 4th-order Bessel at 20 Hz, for 25 boards,
+  # single parts only, fewest distinct parts first
+  drawerfit fit highpass --pass 20 --order 4 --response bessel --boards 25 --combine 1 --rank unique
+
+  # The same fit for a script
+  drawerfit fit lowpass --pass 1k --stop 3k --atten 40 --stock sample-stock.csv --json`,
+		Args: func(cmd *cobra.Command, args []string) error {
+			if len(args) != 1 {
+				return usageError{fmt.Errorf("fit needs one response type, lowpass or highpass (got %d arguments)", len(args))}
+			}
+			return nil
+		},
+		RunE: func(cmd *cobra.Command, args []string) error {
+			o.spec.kind = args[0]
+			f := cmd.Flags()
+			o.spec.passAttenSet = f.Changed("pass-atten")
+			o.spec.attenSet = f.Changed("atten")
+			o.spec.rippleSet = f.Changed("ripple")
+			o.spec.orderSet = f.Changed("order")
+			o.spec.besselNormSet = f.Changed("bessel-norm")
+			o.oddSet = f.Changed("odd")
+			return runFit(env, o)
+		},
+	}
+	f := cmd.Flags()
+	bindSpecFlags(f, &o.spec)
+	f.IntVar(&o.combine, "combine", 2, "parts per position: 1 (single parts) or 2 (also pairs in series or parallel)")
+	f.IntVar(&o.boards, "boards", 1, "every stock row used must cover this many boards")
+	f.IntVar(&o.maxOrder, "max-order", 0, "highest order to try (default: the minimum order + 1)")
+	f.StringVar(&o.rank, "rank", "balanced", "ordering: balanced, error, parts or unique")
+	f.IntVar(&o.top, "top", 10, "how many candidates to list")
+	f.Float64Var(&o.goodEnough, "good-enough", 0.05, "response error, dB, that the balanced ranking treats as good enough")
+	f.StringVar(&o.rMin, "r-min", "1k", "smallest resistor or combination to use")
+	f.StringVar(&o.rMax, "r-max", "1M", "largest resistor or combination to use")
+	f.StringVar(&o.cMin, "c-min", "100p", "smallest capacitor or combination to use")
+	f.StringVar(&o.cMax, "c-max", "10u", "largest capacitor or combination to use")
+	f.StringSliceVar(&o.allowDiel, "allow-dielectric", nil, "also use capacitors of these dielectrics, e.g. X7R,X5R (default: C0G/NP0 and film only)")
+	f.BoolVar(&o.showFailing, "show-failing", false, "also list candidates that miss the specification")
+	f.StringVar(&o.stockCSV, "stock", "", "fit against this stock CSV file instead of the database")
+	f.StringVar(&o.netlist, "netlist", "", "write the best candidate's SPICE netlist to this file")
+	f.BoolVar(&o.json, "json", false, "print one JSON object")
+	return cmd
+}
+
+// fitRun is everything a fit produced, for the printers and for --save.
+type fitRun struct {
+	spec    synth.Spec
+	opts    optimize.Options
+	result  *optimize.Result
+	source  string // where the stock came from
+	elapsed time.Duration
+}
+
+func (o *fitOptions) optimizeOptions() (optimize.Options, error) {
+	opt := optimize.DefaultOptions()
+	opt.Combine, opt.Boards, opt.MaxOrder, opt.Top = o.combine, o.boards, o.maxOrder, o.top
+	opt.GoodEnough, opt.ShowFailing, opt.AllowDielectric = o.goodEnough, o.showFailing, o.allowDiel
+	switch strings.ToLower(o.rank) {
+	case "balanced":
+		opt.Rank = optimize.RankBalanced
+	case "error":
+		opt.Rank = optimize.RankError
+	case "parts":
+		opt.Rank = optimize.RankParts
+	case "unique":
+		opt.Rank = optimize.RankUnique
+	default:
+		return opt, fault.Invalidf("--rank must be balanced, error, parts or unique, not %q", o.rank)
+	}
+	var err error
+	parse := func(flag, s string, k stock.Kind, dst *float64) {
+		if err != nil {
+			return
+		}
+		v, e := stock.ParseValue(s, k)
+		if e != nil {
+			err = fault.Invalidf("--%s: %v", flag, e)
+			return
+		}
+		*dst = v
+	}
+	parse("r-min", o.rMin, stock.Resistor, &opt.RMin)
+	parse("r-max", o.rMax, stock.Resistor, &opt.RMax)
+	parse("c-min", o.cMin, stock.Capacitor, &opt.CMin)
+	parse("c-max", o.cMax, stock.Capacitor, &opt.CMax)
+	if err != nil {
+		return opt, err
+	}
+	if o.oddSet {
+		odd, err := synth.ParseOdd(o.spec.odd)
+		if err != nil {
+			return opt, err
+		}
+		opt.Odd = &odd
+	}
+	return opt, nil
+}
+
+// doFit parses the options, loads the stock and runs the search.
+func doFit(env *Env, o *fitOptions) (*fitRun, error) {
+	spec, err := planSpec(&o.spec)
+	if err != nil {
+		return nil, err
+	}
+	opt, err := o.optimizeOptions()
+	if err != nil {
+		return nil, err
+	}
+	items, err := env.stockItems(env.Ctx, o.stockCSV, stock.Filter{})
+	if err != nil {
+		return nil, err
+	}
+	source := o.stockCSV
+	if source == "" {
+		source, _ = env.DefaultDBPath()
+	}
+	if len(items) == 0 {
+		return nil, fault.Infeasiblef("the stock (%s) is empty: import a CSV with `drawerfit stock import FILE`, or fit against one with --stock FILE", source)
+	}
+	start := env.Now()
+	prog := newProgress(env, "fitting")
+	opt.Progress = prog.update
+	res, err := optimize.Fit(items, spec, opt)
+	prog.done()
+	if err != nil {
+		return nil, err
+	}
+	return &fitRun{spec: res.Spec, opts: opt, result: res, source: source, elapsed: env.Now().Sub(start)}, nil
+}
+
+func runFit(env *Env, o *fitOptions) error {
+	run, err := doFit(env, o)
+	if err != nil {
+		return err
+	}
+	res := run.result
+	if o.netlist != "" && len(res.Candidates) > 0 {
+		if err := writeFileAtomic(o.netlist, func(w io.Writer) error { _, err := io.WriteString(w, candidateNetlist(res.Candidates[0])); return err }); err != nil {
+			return fmt.Errorf("write netlist: %w", err)
+		}
+	}
+	if o.json {
+		if err := writeJSON(env.Out, fitJSON(run)); err != nil {
+			return err
+		}
+	} else {
+		printFit(env, env.Out, run)
+	}
+	if !hasPassing(res) {
+		return exitError{code: 1}
+	}
+	return nil
+}
+
+func hasPassing(r *optimize.Result) bool {
+	for _, c := range r.Candidates {
+		if c.MeetsSpec {
+			return true
+		}
+	}
+	return false
+}
+
+// candidateNetlist is the SPICE netlist of a candidate, one element per
+// physical part, with the same designators as the tables.
+func candidateNetlist(c *optimize.Candidate) string {
+	lo, hi := c.Design.Band()
+	return synth.Netlist(c.Stages(), synth.NetlistOptions{
+		Title: "drawerfit " + report.SpecLine(c.Design), FStart: lo, FStop: hi, PointsPerDecade: 100,
+		Refs: report.PartRefs(c)})
+}
+
+// printFit writes the candidate table and the detail of the best one.
+func printFit(env *Env, w io.Writer, run *fitRun) {
+	res := run.result
+	fmt.Fprintf(w, "%s\n", report.SpecLine(res.Designs[0]))
+	fmt.Fprintf(w, "Stock: %s — %d resistor and %d capacitor values searched (%s), %d board(s)\n",
+		run.source, res.Resistors, res.Capacitors, combineText(run.opts.Combine), run.opts.Boards)
+	fmt.Fprintf(w, "Searched: %s in %s\n\n", searchedText(res), run.elapsed.Round(time.Millisecond))
+	if len(res.Candidates) == 0 {
+		fmt.Fprintln(w, "Nothing in stock meets the specification.")
+		for _, l := range res.Limits {
+			fmt.Fprintln(w, "  - "+l)
+		}
+		fmt.Fprintln(w, "\nTry --allow-dielectric, a wider --r-min/--r-max or --c-min/--c-max, --combine 2, fewer --boards, or --show-failing to see the misses.")
+		return
+	}
+	g := newGrid("#", "order", "sections", "error dB", "at fp dB", "at fs dB", "parts", "unique", "boards", "pareto")
+	g.right(0, 1, 3, 4, 5, 6, 7, 8)
+	for i, c := range res.Candidates {
+		mark := ""
+		if c.Pareto {
+			mark = "*"
+		}
+		if !c.MeetsSpec {
+			mark += " fails spec"
+		}
+		g.add(strconv.Itoa(i+1), strconv.Itoa(c.Order()), c.Arrangement(), fmtErr(c.ResponseError),
+			formatDB(c.PassAtten, 3), stopCell(c.StopAtten), strconv.Itoa(c.PartCount), strconv.Itoa(c.UniqueParts),
+			strconv.Itoa(c.BoardsBuildable), strings.TrimSpace(mark))
+	}
+	g.render(env, w)
+	fmt.Fprintf(w, "\nRanked %s; error = largest deviation from the ideal %s response; '*' = on the Pareto front of error, parts and unique parts.\n",
+		rankText(run.opts), res.Spec.Approx)
+	printCandidateDetail(env, w, res.Candidates[0], 1)
+	for _, n := range res.Notes {
+		fmt.Fprintln(w, "Note: "+n)
+	}
+	fmt.Fprintln(w, "\nVerify on the bench before production; capacitor voltage ratings must suit the circuit; safety-relevant, medical or mains-connected uses need qualified review under local rules.")
+}
+
+// printCandidateDetail writes one candidate's sections and parts.
+func printCandidateDetail(env *Env, w io.Writer, c *optimize.Candidate, rank int) {
+	fmt.Fprintf(w, "\nCandidate #%d: order %d, %s, response error %s dB, %d parts from %d stock rows, %d op-amp(s)\n",
+		rank, c.Order(), c.Arrangement(), fmtErr(c.ResponseError), c.PartCount, c.UniqueParts, len(c.Sections))
+	for i, s := range c.Sections {
+		t := s.Target
+		head := fmt.Sprintf("Section %d, %s: target f0 %s", i+1, t.Topology.Name, formatHz(t.F0))
+		if t.Topology.Poles >= 2 {
+			head += fmt.Sprintf(" Q %.4f", t.Q)
+		}
+		head += fmt.Sprintf("; built f0 %s", formatHz(s.F0))
+		if t.Topology.Poles >= 2 {
+			head += fmt.Sprintf(" Q %.4f", s.Q)
+		}
+		if t.Topology.Poles == 3 {
+			head += fmt.Sprintf("; real pole %s (target %s)", formatHz(s.RealF0), formatHz(t.RealF0))
+		}
+		fmt.Fprintln(w, head)
+		g := newGrid("ref", "role", "value", "made of", "bins", "tolerance")
+		for _, comp := range s.Components {
+			var bins []string
+			for _, p := range comp.Parts {
+				bins = append(bins, orDash(p.Location))
+			}
+			g.add(comp.Ref, comp.Symbol, formatPart(comp.Value, comp.Kind), report.MadeOf(comp),
+				strings.Join(bins, ", "), stock.FormatTolerance(comp.Tolerance()))
+		}
+		g.render(env, w)
+	}
+	for _, n := range c.Design.Notes {
+		fmt.Fprintln(w, "Design note: "+n)
+	}
+}
+
+func orDash(s string) string {
+	if s == "" {
+		return "-"
+	}
+	return s
+}
+
+func fmtErr(e float64) string {
+	switch {
+	case e < 0.0005:
+		return strconv.FormatFloat(e, 'e', 1, 64)
+	case e < 10:
+		return strconv.FormatFloat(e, 'f', 3, 64)
+	}
+	return strconv.FormatFloat(e, 'f', 1, 64)
+}
+
+func stopCell(v float64) string {
+	if math.IsNaN(v) {
+		return "-"
+	}
+	return formatDB(v, 2)
+}
+
+func combineText(n int) string {
+	if n == 1 {
+		return "single parts"
+	}
+	return "single parts and pairs"
+}
+
+func rankText(o optimize.Options) string {
+	if o.Rank == optimize.RankBalanced {
+		return fmt.Sprintf("balanced (error within %g dB first, by parts, unique parts, error; then the rest by error)", o.GoodEnough)
+	}
+	return "by " + o.Rank.String()
+}
+
+func searchedText(r *optimize.Result) string {
+	var parts []string
+	for _, d := range r.Designs {
+		c := optimize.Candidate{Design: d}
+		parts = append(parts, fmt.Sprintf("order %d (%s)", d.Order, c.Arrangement()))
+	}
+	return strings.Join(parts, ", ")
+}
+
+// progress prints a one-line progress indicator on stderr when it is a
+// terminal and the work has taken more than a second.
+type progress struct {
+	env   *Env
+	label string
+	start time.Time
+	shown bool
+	tty   bool
+}
+
+func newProgress(env *Env, label string) *progress {
+	return &progress{env: env, label: label, start: time.Now(), tty: isTerminal(env.Err)}
+}
+
+func (p *progress) update(done, total int) {
+	if !p.tty || time.Since(p.start) < time.Second {
+		return
+	}
+	p.shown = true
+	width := 24
+	fill := width * done / max(total, 1)
+	fmt.Fprintf(p.env.Err, "\r%s [%s%s] %d/%d designs", p.label, strings.Repeat("#", fill), strings.Repeat(".", width-fill), done, total)
+}
+
+func (p *progress) done() {
+	if p.shown {
+		fmt.Fprint(p.env.Err, "\r\033[K")
+	}
+}
+
+// JSON shapes (stable keys).
+
+type jsonPartUse struct {
+	StockID  int64   `json:"stock_id"`
+	Value    float64 `json:"value"`
+	Location string  `json:"location"`
+}
+
+type jsonComponent struct {
+	Ref         string        `json:"ref"`
+	Symbol      string        `json:"symbol"`
+	Value       float64       `json:"value"`
+	Arrangement string        `json:"arrangement"`
+	Tolerance   float64       `json:"tolerance"`
+	Parts       []jsonPartUse `json:"parts"`
+}
+
+type jsonSection struct {
+	Topology   string          `json:"topology"`
+	TargetF0   float64         `json:"target_f0_hz"`
+	TargetQ    float64         `json:"target_q"`
+	F0         float64         `json:"f0_hz"`
+	Q          float64         `json:"q"`
+	Components []jsonComponent `json:"components"`
+}
+
+type jsonAtten struct {
+	Pass float64  `json:"pass"`
+	Stop *float64 `json:"stop"`
+}
+
+type jsonStockUse struct {
+	StockID  int64 `json:"stock_id"`
+	PerBoard int   `json:"per_board"`
+}
+
+type jsonCandidate struct {
+	ID              string         `json:"id,omitempty"`
+	Rank            int            `json:"rank"`
+	Order           int            `json:"order"`
+	Arrangement     string         `json:"arrangement"`
+	ResponseError   float64        `json:"response_error_db"`
+	MeetsSpec       bool           `json:"meets_spec"`
+	Attenuation     jsonAtten      `json:"attenuation_db"`
+	PartCount       int            `json:"part_count"`
+	UniqueParts     int            `json:"unique_parts"`
+	BoardsBuildable int            `json:"boards_buildable"`
+	Pareto          bool           `json:"pareto"`
+	Sections        []jsonSection  `json:"sections"`
+	StockUse        []jsonStockUse `json:"stock_use"`
+	Netlist         string         `json:"netlist"`
+}
+
+type jsonSpec struct {
+	Kind      string   `json:"kind"`
+	Response  string   `json:"response"`
+	PassHz    float64  `json:"pass_hz"`
+	PassAtten float64  `json:"pass_atten_db"`
+	StopHz    *float64 `json:"stop_hz"`
+	StopAtten *float64 `json:"stop_atten_db"`
+	Ripple    *float64 `json:"ripple_db"`
+	Order     *int     `json:"order"`
+}
+
+type jsonFit struct {
+	Spec       jsonSpec        `json:"spec"`
+	Candidates []jsonCandidate `json:"candidates"`
+	Closest    *jsonCandidate  `json:"closest_miss,omitempty"`
+	Limits     []string        `json:"limits,omitempty"`
+	Notes      []string        `json:"notes,omitempty"`
+}
+
+func specJSON(s synth.Spec, order int) jsonSpec {
+	js := jsonSpec{Kind: s.Kind.String(), Response: s.Approx.String(), PassHz: s.Pass, PassAtten: s.PassAtten}
+	if s.Stop > 0 {
+		fs, as := s.Stop, s.StopAtten
+		js.StopHz, js.StopAtten = &fs, &as
+	}
+	if s.Approx == synth.Chebyshev {
+		r := s.Ripple
+		js.Ripple = &r
+	}
+	if order > 0 {
+		js.Order = &order
+	}
+	return js
+}
+
+func candidateJSON(c *optimize.Candidate, rank int) jsonCandidate {
+	jc := jsonCandidate{Rank: rank, Order: c.Order(), Arrangement: c.Arrangement(), ResponseError: c.ResponseError,
+		MeetsSpec: c.MeetsSpec, Attenuation: jsonAtten{Pass: c.PassAtten}, PartCount: c.PartCount,
+		UniqueParts: c.UniqueParts, BoardsBuildable: c.BoardsBuildable, Pareto: c.Pareto, Netlist: candidateNetlist(c)}
+	if !math.IsNaN(c.StopAtten) {
+		v := c.StopAtten
+		jc.Attenuation.Stop = &v
+	}
+	for _, s := range c.Sections {
+		js := jsonSection{Topology: s.Target.Topology.ID, TargetF0: s.Target.F0, TargetQ: s.Target.Q, F0: s.F0, Q: s.Q}
+		for _, comp := range s.Components {
+			jcmp := jsonComponent{Ref: comp.Ref, Symbol: comp.Symbol, Value: comp.Value, Arrangement: comp.Arrangement.String(),
+				Tolerance: comp.Tolerance()}
+			for _, p := range comp.Parts {
+				jcmp.Parts = append(jcmp.Parts, jsonPartUse{StockID: p.StockID, Value: p.Value, Location: p.Location})
+			}
+			js.Components = append(js.Components, jcmp)
+		}
+		jc.Sections = append(jc.Sections, js)
+	}
+	uses := append([]optimize.StockUse(nil), c.StockUse...)
+	sort.Slice(uses, func(a, b int) bool { return uses[a].StockID < uses[b].StockID })
+	jc.StockUse = []jsonStockUse{}
+	for _, u := range uses {
+		jc.StockUse = append(jc.StockUse, jsonStockUse{StockID: u.StockID, PerBoard: u.PerBoard})
+	}
+	return jc
+}
+
+func fitJSON(run *fitRun) jsonFit {
+	res := run.result
+	out := jsonFit{Spec: specJSON(res.Spec, run.spec.Order), Candidates: []jsonCandidate{}, Limits: res.Limits, Notes: res.Notes}
+	for i, c := range res.Candidates {
+		out.Candidates = append(out.Candidates, candidateJSON(c, i+1))
+	}
+	if res.Closest != nil {
+		jc := candidateJSON(res.Closest, 0)
+		out.Closest = &jc
+	}
+	return out
+}
