@@ -114,8 +114,8 @@ type combiner struct {
 	rank       Rank
 	goodEnough float64
 	design     int
-	passIdx    int     // grid index of fp
-	stopIdx    int     // grid index of fs, or -1
+	passIdx    int // grid index of fp
+	stopIdx    int // grid index of fs, or -1
 	tdbTotal   []float64
 	ap, as     float64 // specification limits, dB
 	keepFail   bool

@@ -38,6 +38,12 @@ type fitOptions struct {
 	netlist     string
 	json        bool
 	oddSet      bool
+
+	// Production (fit_production.go): keep the listed candidates, fit a
+	// board plan file, suggest purchases.
+	save    bool
+	plan    string
+	suggest bool
 }
 
 func newFitCmd(env *Env) *cobra.Command {
@@ -119,6 +125,9 @@ person under the applicable local rules.`,
 	f.StringVar(&o.stockCSV, "stock", "", "fit against this stock CSV file instead of the database")
 	f.StringVar(&o.netlist, "netlist", "", "write the best candidate's SPICE netlist to this file")
 	f.BoolVar(&o.json, "json", false, "print one JSON object")
+	f.BoolVar(&o.save, "save", false, "keep the listed candidates in the database as saved designs (ids in the table)")
+	f.StringVar(&o.plan, "plan", "", "fit every filter of this board plan file jointly (see README)")
+	f.BoolVar(&o.suggest, "suggest", false, "also list the few stock additions that would most improve the result")
 	return cmd
 }
 
@@ -129,6 +138,7 @@ type fitRun struct {
 	result  *optimize.Result
 	source  string // where the stock came from
 	elapsed time.Duration
+	ids     []string // saved design ids, parallel to result.Candidates (with --save)
 }
 
 func (o *fitOptions) optimizeOptions() (optimize.Options, error) {
@@ -209,11 +219,19 @@ func doFit(env *Env, o *fitOptions) (*fitRun, error) {
 }
 
 func runFit(env *Env, o *fitOptions) error {
+	if o.plan != "" {
+		return runPlanFit(env, o)
+	}
 	run, err := doFit(env, o)
 	if err != nil {
 		return err
 	}
 	res := run.result
+	if o.save && len(res.Candidates) > 0 {
+		if run.ids, err = saveFitCandidates(env, o, run); err != nil {
+			return err
+		}
+	}
 	if o.netlist != "" && len(res.Candidates) > 0 {
 		if err := writeFileAtomic(o.netlist, func(w io.Writer) error { _, err := io.WriteString(w, candidateNetlist(res.Candidates[0])); return err }); err != nil {
 			return fmt.Errorf("write netlist: %w", err)
@@ -225,6 +243,11 @@ func runFit(env *Env, o *fitOptions) error {
 		}
 	} else {
 		printFit(env, env.Out, run)
+	}
+	if o.suggest {
+		if err := suggestForFit(env, o, run); err != nil {
+			return err
+		}
 	}
 	if !hasPassing(res) {
 		return exitError{code: 1}
