@@ -63,11 +63,16 @@ type combo struct {
 	passAtten float64
 	stopAtten float64
 	meets     bool
+	tol       float64 // sum of effective tolerances: among equal keys, tighter parts first
+	sig       string  // the element values of every section: equal signatures are the same circuit
 }
 
 func (a *combo) less(b *combo) bool {
 	if a.key != b.key {
 		return a.key.less(b.key)
+	}
+	if a.tol != b.tol {
+		return a.tol < b.tol
 	}
 	if a.design != b.design {
 		return a.design < b.design
@@ -93,9 +98,22 @@ func (t *topList) worst() (rankKey, bool) {
 	return t.list[len(t.list)-1].key, true
 }
 
+// add inserts c unless the list is full of better combos. A combo with the
+// same element values as one listed (the same circuit from other bins or
+// rows) replaces it only when it is better, so the list shows distinct
+// circuits.
 func (t *topList) add(c *combo) {
 	if len(t.list) == t.k && !c.less(t.list[len(t.list)-1]) {
 		return
+	}
+	for i, o := range t.list {
+		if o.sig == c.sig {
+			if !c.less(o) {
+				return
+			}
+			t.list = append(t.list[:i], t.list[i+1:]...)
+			break
+		}
 	}
 	at := sort.Search(len(t.list), func(i int) bool { return c.less(t.list[i]) })
 	if len(t.list) < t.k {
@@ -263,6 +281,21 @@ func (c *combiner) promising(s, parts int) bool {
 	return !worst.less(k)
 }
 
+// signature encodes the element values of the current picks.
+func (c *combiner) signature() string {
+	var b []byte
+	b = append(b, byte(c.design))
+	for s, p := range c.picks {
+		for _, v := range c.lists[s][p].vals {
+			u := math.Float64bits(v)
+			for k := 0; k < 8; k++ {
+				b = append(b, byte(u>>(8*k)))
+			}
+		}
+	}
+	return string(b)
+}
+
 func (c *combiner) leaf(parts int) {
 	sum := c.partial[len(c.lists)]
 	var e float64
@@ -276,11 +309,21 @@ func (c *combiner) leaf(parts int) {
 		sa = -(c.tdbTotal[c.stopIdx] + sum[c.stopIdx])
 		meets = meets && sa >= c.as-1e-9
 	}
+	var tol float64
+	for s, p := range c.picks {
+		tol += c.lists[s][p].tol
+	}
 	cb := &combo{
 		key: makeKey(c.rank, c.goodEnough, e, parts, c.unique), design: c.design,
-		picks: append([]int(nil), c.picks...), err: e, parts: parts, unique: c.unique,
-		passAtten: pa, stopAtten: sa, meets: meets,
+		err: e, parts: parts, unique: c.unique, passAtten: pa, stopAtten: sa, meets: meets, tol: tol,
 	}
+	if meets || c.keepFail {
+		if worst, full := c.out.worst(); full && worst.less(cb.key) {
+			return
+		}
+	}
+	cb.picks = append([]int(nil), c.picks...)
+	cb.sig = c.signature()
 	if !meets {
 		if c.closest == nil || e < c.closest.err {
 			c.closest = cb

@@ -19,6 +19,7 @@ type sectionCand struct {
 	vals  [maxElems]float64
 	dev   []float64 // signed deviation from the target on the grid (filled for shortlisted ones)
 	rows  []rowCount
+	tol   float64 // sum of the positions' effective tolerances (a tie-break: tighter parts first)
 }
 
 // rowCount is how many parts of one stock row a section (or design) uses.
@@ -162,6 +163,9 @@ type worker struct {
 	boxes    map[int]box // this worker's copy of the target's boxes
 	cacheLim [16]float64
 	cacheBox [16]*box
+	lastE    float64
+	lastBox  box
+	lastOK   bool
 }
 
 // classBox returns the box for the entry limit of part count p, cached
@@ -178,6 +182,15 @@ func (w *worker) classBox(p int8) *box {
 
 // box returns the (ln w0, ln Q) box for error level e.
 func (w *worker) box(e float64) box {
+	if e == w.lastE && w.lastOK {
+		return w.lastBox
+	}
+	b := w.boxLevel(e)
+	w.lastE, w.lastBox, w.lastOK = e, b, true
+	return b
+}
+
+func (w *worker) boxLevel(e float64) box {
 	k := levelOf(e)
 	if b, ok := w.boxes[k]; ok {
 		return b
@@ -219,6 +232,19 @@ func (s *sectionSearch) run(workers int) ([]sectionCand, sectionDiag) {
 		c.dev = make([]float64, len(s.t.grid.w))
 		num, den := s.t.topo.Coeffs(c.vals[:len(s.t.topo.Elements)])
 		c.err = s.t.fullErr(num, den, c.dev)
+		c.tol = 0
+		for i, el := range s.t.topo.Elements {
+			vs := s.res
+			if el.Kind == synth.Capacitor {
+				vs = s.cap
+			}
+			re := vs.reals[c.reals[i]]
+			comp := Component{Kind: el.Kind, Value: re.value, Arrangement: re.arr}
+			for j := 0; j < int(re.n); j++ {
+				comp.Parts = append(comp.Parts, s.rows[re.rows[j]].Part)
+			}
+			c.tol += comp.Tolerance()
+		}
 	}
 	return out, diag
 }
@@ -441,13 +467,35 @@ func (w *worker) searchSallenKeyLowPass(part, of int) {
 		for f := f0; f < f1; f++ {
 			cfR := &s.cap.reals[f]
 			Cf := cfR.value
+			k := Cf * Cg * w0t * w0t
+			// Fast reject: the R1 interval of the loosest class box must
+			// hold at least one realisable value.
+			{
+				bb := w.box(w.maxLimit(cgR.n+cfR.n, 2))
+				pLo, pHi := bb.e2xhi/k, bb.e2xlo/k
+				sHi := math.Sqrt(pHi*Cf*Cg) / (Cg * qt * bb.eylo)
+				if sHi*sHi < 4*pLo {
+					continue
+				}
+				r1Lo := math.Sqrt(pLo)
+				sLo := math.Sqrt(pLo*Cf*Cg) / (Cg * qt * bb.eyhi)
+				if d := sLo*sLo - 4*pHi; d > 0 {
+					r1Lo = math.Max(r1Lo, (sLo+math.Sqrt(d))/2)
+				}
+				r1Hi := (sHi + math.Sqrt(sHi*sHi-4*pLo)) / 2
+				i := sort.SearchFloat64s(s.res.vals, r1Lo)
+				if i == len(s.res.vals) || s.res.vals[i] > r1Hi {
+					continue
+				}
+			}
 			w.v[2], w.v[3] = Cf, Cg
 			w.r[2], w.r[3] = int32(f), int32(g)
+			// The exact solution (DOMAIN.md: R1, R2 are the roots of
+			// x² - S x + P) is the centre of the walk.
 			centre := 0.0
-			if sol, exact := s.t.topo.SolveAppend(w.v[:4], t.sec.Den, w.sols[:0]); exact {
-				centre = sol[0][0]
+			if S, P := t.sec.Den[1]/Cg, t.sec.Den[2]/(Cf*Cg); S*S >= 4*P {
+				centre = (S + math.Sqrt(S*S-4*P)) / 2
 			}
-			k := Cf * Cg * w0t * w0t
 			any := false
 			for big := 1; big <= 2; big++ {
 				for small := 1; small <= 2; small++ {

@@ -337,13 +337,22 @@ func printCandidateDetail(env *Env, w io.Writer, c *optimize.Candidate, rank int
 				bins = append(bins, orDash(p.Location))
 			}
 			g.add(comp.Ref, comp.Symbol, formatPart(comp.Value, comp.Kind), report.MadeOf(comp),
-				strings.Join(bins, ", "), stock.FormatTolerance(comp.Tolerance()))
+				strings.Join(bins, ", "), fmtTol(comp.Tolerance()))
 		}
 		g.render(env, w)
 	}
 	for _, n := range c.Design.Notes {
 		fmt.Fprintln(w, "Design note: "+n)
 	}
+}
+
+// fmtTol writes a relative tolerance as a percentage with two significant
+// digits at most ("1%", "4.1%", "0.25%"), or "?" when unknown.
+func fmtTol(t float64) string {
+	if t <= 0 {
+		return "?"
+	}
+	return strconv.FormatFloat(100*t, 'g', 2, 64) + "%"
 }
 
 func orDash(s string) string {
