@@ -686,6 +686,11 @@ func (w *worker) searchThreePole(part, of int) {
 				}
 				w.v[ci[0]], w.v[ci[1]], w.v[ci[2]] = ca, cb, cc
 				w.r[ci[0]], w.r[ci[1]], w.r[ci[2]] = int32(a), int32(bb), int32(c)
+				if len(s.res.vals) <= threePoleFull {
+					w.diag.ratioOK++
+					w.tryAllResistors(ri)
+					continue
+				}
 				var ok bool
 				w.sols, ok = topo.SolveAppend(w.v[:6], den, w.sols[:0])
 				if !ok {
@@ -695,6 +700,26 @@ func (w *worker) searchThreePole(part, of int) {
 				for _, sol := range w.sols {
 					w.tryResistorWindow(sol, ri)
 				}
+			}
+		}
+	}
+}
+
+// threePoleFull is the largest number of realisable resistor values for
+// which a 3-pole section tries every resistor triple for every capacitor
+// triple (an exact search); above it, the neighbours of the exact solution.
+const threePoleFull = 40
+
+// tryAllResistors offers every triple of realisable resistors.
+func (w *worker) tryAllResistors(ri []int) {
+	s := w.s
+	w.diag.inRange++
+	for a := range s.res.vals {
+		for b := range s.res.vals {
+			for c := range s.res.vals {
+				w.v[ri[0]], w.v[ri[1]], w.v[ri[2]] = s.res.vals[a], s.res.vals[b], s.res.vals[c]
+				w.r[ri[0]], w.r[ri[1]], w.r[ri[2]] = int32(a), int32(b), int32(c)
+				w.offer()
 			}
 		}
 	}
