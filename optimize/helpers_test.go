@@ -2,6 +2,9 @@ package optimize
 
 import (
 	"math"
+	"strconv"
+	"strings"
+	"testing"
 
 	"drawerfit/stock"
 )
@@ -43,4 +46,15 @@ func fullSeriesStock() []stock.Item {
 func round3(v float64) float64 {
 	p := math.Pow(10, math.Floor(math.Log10(v))-2)
 	return math.Round(v/p) * p
+}
+
+func ftoa(x float64) string { return strconv.FormatFloat(x, 'g', 12, 64) }
+
+func parseF(t *testing.T, s string) float64 {
+	t.Helper()
+	v, err := strconv.ParseFloat(strings.TrimSuffix(s, ","), 64)
+	if err != nil {
+		t.Fatalf("parse %q: %v", s, err)
+	}
+	return v
 }
