@@ -681,7 +681,7 @@ func (w *worker) searchThreePole(part, of int) {
 				ca, cb, cc := s.cap.reals[a].value, s.cap.reals[bb].value, s.cap.reals[c].value
 				p := ca * cb * cc
 				w.diag.capSets++
-				if p < prodLo || p > prodHi {
+				if p < prodLo || p > prodHi || !threePoleAdmits(topo, ca, cb, cc, den, s.rmin, s.rmax) {
 					continue
 				}
 				w.v[ci[0]], w.v[ci[1]], w.v[ci[2]] = ca, cb, cc
@@ -691,9 +691,8 @@ func (w *worker) searchThreePole(part, of int) {
 					w.tryAllResistors(ri)
 					continue
 				}
-				var ok bool
-				w.sols, ok = topo.SolveAppend(w.v[:6], den, w.sols[:0])
-				if !ok {
+				w.sols = topo.SolveExactAppend(w.v[:6], den, w.sols[:0])
+				if len(w.sols) == 0 {
 					continue
 				}
 				w.diag.ratioOK++
@@ -703,6 +702,27 @@ func (w *worker) searchThreePole(part, of int) {
 			}
 		}
 	}
+}
+
+// threePoleAdmits applies necessary conditions for resistors in
+// [rmin, rmax] to exist: each coefficient of D(s) is a sum of products of
+// resistors with fixed capacitor factors, so it lies between those factors
+// times the smallest and the largest resistor products. Capacitors are in
+// Elements order (a, b, c).
+func threePoleAdmits(t *synth.Topology, a, b, c float64, den synth.Poly, rmin, rmax float64) bool {
+	var k1, k2 float64
+	if t.Response == synth.LowPass {
+		// Elements Ca, Cf, Cb: a1 = Ca R1 + Cb(R1+R2+R3),
+		// a2 = Ca Cb R1(R2+R3) + Cb Cf R3(R1+R2).
+		ca, cf, cb := a, b, c
+		k1 = ca + 3*cb
+		k2 = 2*ca*cb + 2*cb*cf
+	} else {
+		// a1 = (C1+C2)Ra + (C2+C3)Rf, a2 = Ra Rf (C1C2+C1C3+C2C3) + C2 C3 Rb Rf.
+		k1 = a + 2*b + c
+		k2 = a*b + a*c + b*c + b*c
+	}
+	return den[1] >= k1*rmin && den[1] <= k1*rmax && den[2] >= k2*rmin*rmin && den[2] <= k2*rmax*rmax
 }
 
 // threePoleFull is the largest number of realisable resistor values for

@@ -107,7 +107,7 @@ type Topology struct {
 	// solve fills the resistors of v, given its capacitors, so that D(s)
 	// equals den. It appends every positive solution to dst; when none
 	// exists it appends the nearest realisable point and reports false.
-	solve func(v []float64, den Poly, dst [][]float64) ([][]float64, bool)
+	solve func(v []float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool)
 	// normalised returns the textbook normalised values for den: unit
 	// resistors for a low-pass, unit capacitors for a high-pass.
 	normalised func(den Poly) ([]float64, bool)
@@ -130,12 +130,20 @@ func (t *Topology) Coeffs(v []float64) (num, den Poly) {
 // point the capacitors allow (for the Sallen-Key low-pass: equal resistors,
 // which gives the highest Q those capacitors can reach).
 func (t *Topology) Solve(caps []float64, den Poly) (sols [][]float64, ok bool) {
-	return t.solve(caps, den, nil)
+	return t.solve(caps, den, nil, true)
 }
 
 // SolveAppend is Solve appending to dst, for allocation-free loops.
 func (t *Topology) SolveAppend(caps []float64, den Poly, dst [][]float64) ([][]float64, bool) {
-	return t.solve(caps, den, dst)
+	return t.solve(caps, den, dst, true)
+}
+
+// SolveExactAppend is SolveAppend without the nearest point: it appends
+// only exact positive solutions, and nothing when there is none. It is the
+// fast path for searches that skip capacitor choices without a solution.
+func (t *Topology) SolveExactAppend(caps []float64, den Poly, dst [][]float64) [][]float64 {
+	dst, _ = t.solve(caps, den, dst, false)
+	return dst
 }
 
 // Normalised returns the classical normalised element values realising den:
@@ -218,7 +226,7 @@ var FirstOrderLowPass = Topology{
 	coeffs: func(v []float64) (num, den Poly) {
 		return Poly{1}, Poly{1, v[0] * v[1]}
 	},
-	solve: func(v []float64, den Poly, dst [][]float64) ([][]float64, bool) {
+	solve: func(v []float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool) {
 		return append(dst, []float64{den[1] / v[1], v[1]}), true
 	},
 	normalised: func(den Poly) ([]float64, bool) { return []float64{1, den[1]}, den[1] > 0 },
@@ -235,7 +243,7 @@ var FirstOrderHighPass = Topology{
 		rc := v[0] * v[1]
 		return Poly{0, rc}, Poly{1, rc}
 	},
-	solve: func(v []float64, den Poly, dst [][]float64) ([][]float64, bool) {
+	solve: func(v []float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool) {
 		return append(dst, []float64{v[0], den[1] / v[0]}), true
 	},
 	normalised: func(den Poly) ([]float64, bool) { return []float64{1, den[1]}, den[1] > 0 },
@@ -257,7 +265,7 @@ var SallenKeyLowPass = Topology{
 		r1, r2, cf, cg := v[0], v[1], v[2], v[3]
 		return Poly{1}, Poly{1, cg * (r1 + r2), r1 * r2 * cf * cg}
 	},
-	solve: func(v []float64, den Poly, dst [][]float64) ([][]float64, bool) {
+	solve: func(v []float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool) {
 		cf, cg := v[2], v[3]
 		p := den[2] / (cf * cg) // R1·R2
 		s := den[1] / cg        // R1+R2
@@ -268,6 +276,9 @@ var SallenKeyLowPass = Topology{
 			disc = 0
 		}
 		if disc < 0 {
+			if !nearest {
+				return dst, false
+			}
 			r := math.Sqrt(p)
 			return append(dst, []float64{r, r, cf, cg}), false
 		}
@@ -300,7 +311,7 @@ var SallenKeyHighPass = Topology{
 		a2 := rf * rg * c1 * c2
 		return Poly{0, 0, a2}, Poly{1, rf * (c1 + c2), a2}
 	},
-	solve: func(v []float64, den Poly, dst [][]float64) ([][]float64, bool) {
+	solve: func(v []float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool) {
 		c1, c2 := v[0], v[1]
 		rf := den[1] / (c1 + c2)
 		rg := den[2] / (rf * c1 * c2)
@@ -335,7 +346,7 @@ var ThreePoleLowPass = Topology{
 			ca*cb*r1*(r2+r3) + cb*cf*r3*(r1+r2),
 			ca * cb * cf * r1 * r2 * r3}
 	},
-	solve: func(v []float64, den Poly, dst [][]float64) ([][]float64, bool) {
+	solve: func(v []float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool) {
 		ca, cf, cb := v[3], v[4], v[5]
 		a1, a2, a3 := den[1], den[2], den[3]
 		// Given R1: R2+R3 = u from a1, R2·R3 = p from a3, and a2 then fixes
@@ -359,7 +370,7 @@ var ThreePoleLowPass = Topology{
 		poly = polyAdd(poly, []float64{0, 0, 0, -a3 * cb * k})
 		return polyRoots(hi, poly, split, func(r1, r2, r3 float64) []float64 {
 			return []float64{r1, r2, r3, ca, cf, cb}
-		}, dst)
+		}, dst, nearest)
 	},
 	normalised: func(den Poly) ([]float64, bool) {
 		a1, a2, a3 := den[1], den[2], den[3]
@@ -376,7 +387,7 @@ var ThreePoleLowPass = Topology{
 		poly := polyAdd(polyMul(polyAdd([]float64{a2}, polyMul([]float64{0, -2}, y)), y), []float64{-2 * a3})
 		sols, ok := polyRoots(a1/3, poly, split, func(x, ca, cf float64) []float64 {
 			return []float64{1, 1, 1, ca, cf, x}
-		}, nil)
+		}, nil, true)
 		if !ok {
 			return sols[0], false
 		}
@@ -407,16 +418,16 @@ var ThreePoleHighPass = Topology{
 			ra*rf*(c1*c2+c1*c3+c2*c3) + c2*c3*rb*rf,
 			a3}
 	},
-	solve: func(v []float64, den Poly, dst [][]float64) ([][]float64, bool) {
-		return threePoleHighPassSolve(v[0], v[1], v[2], den, dst)
+	solve: func(v []float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool) {
+		return threePoleHighPassSolve(v[0], v[1], v[2], den, dst, nearest)
 	},
 	normalised: func(den Poly) ([]float64, bool) {
-		sols, ok := threePoleHighPassSolve(1, 1, 1, den, nil)
+		sols, ok := threePoleHighPassSolve(1, 1, 1, den, nil, true)
 		return sols[0], ok
 	},
 }
 
-func threePoleHighPassSolve(c1, c2, c3 float64, den Poly, dst [][]float64) ([][]float64, bool) {
+func threePoleHighPassSolve(c1, c2, c3 float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool) {
 	a1, a2, a3 := den[1], den[2], den[3]
 	k := c1*c2 + c1*c3 + c2*c3
 	// Given Ra: Rf from a1, Rb from a3, residual from a2.
@@ -430,7 +441,7 @@ func threePoleHighPassSolve(c1, c2, c3 float64, den Poly, dst [][]float64) ([][]
 	poly := polyAdd(polyMul([]float64{0, 0, k}, rfp), []float64{a3 / c1, -a2})
 	return polyRoots(a1/(c1+c2), poly, split, func(ra, rf, rb float64) []float64 {
 		return []float64{c1, c2, c3, ra, rf, rb}
-	}, dst)
+	}, dst, nearest)
 }
 
 // polyRoots appends build(x, ...) for every admissible real root x in
@@ -442,7 +453,7 @@ func threePoleHighPassSolve(c1, c2, c3 float64, den Poly, dst [][]float64) ([][]
 // affordable grid step. When no admissible root exists it falls back to
 // scanRoots, which reports the nearest realisable point.
 func polyRoots(hi float64, poly []float64, split func(x float64) (y1, y2, g float64, ok bool),
-	build func(x, y1, y2 float64) []float64, dst [][]float64) ([][]float64, bool) {
+	build func(x, y1, y2 float64) []float64, dst [][]float64, nearest bool) ([][]float64, bool) {
 	found := false
 	for _, x := range realRootsIn(poly, hi) {
 		y1, y2, _, ok := split(x)
@@ -451,8 +462,8 @@ func polyRoots(hi float64, poly []float64, split func(x float64) (y1, y2, g floa
 			found = true
 		}
 	}
-	if found {
-		return dst, true
+	if found || !nearest {
+		return dst, found
 	}
 	return scanRoots(hi, split, build, dst)
 }
@@ -484,6 +495,9 @@ func realRootsIn(c []float64, hi float64) []float64 {
 	}
 	if n > maxRootDegree {
 		panic("synth: polynomial degree above maxRootDegree")
+	}
+	if !mayHaveRootIn01(t[:n+1]) {
+		return nil
 	}
 	// Eigenvalues of the companion matrix, which is upper Hessenberg: a
 	// diagonal balancing keeps that shape, and LAPACK's Dhseqr (gonum's
@@ -518,6 +532,45 @@ func realRootsIn(c []float64, hi float64) []float64 {
 	}
 	sort.Float64s(out)
 	return out
+}
+
+// mayHaveRootIn01 applies Descartes' rule of signs after the substitution
+// t = u/(1+u), which maps (0, 1) onto (0, ∞): the polynomial
+// q(u) = (1+u)^n p(u/(1+u)) = Σ c_i u^i (1+u)^(n-i) has as many positive
+// roots as p has in (0, 1), at most its number of coefficient sign changes.
+// No sign change proves there is no root; it is a cheap filter before the
+// eigenvalue computation.
+func mayHaveRootIn01(c []float64) bool {
+	n := len(c) - 1
+	var q [maxRootDegree + 1]float64
+	for i, ci := range c {
+		// ci · u^i · (1+u)^(n-i): binomial coefficients of (1+u)^(n-i).
+		b := 1.0
+		m := n - i
+		for j := 0; j <= m; j++ {
+			q[i+j] += ci * b
+			b = b * float64(m-j) / float64(j+1)
+		}
+	}
+	big := 0.0
+	for _, v := range q[:n+1] {
+		big = math.Max(big, math.Abs(v))
+	}
+	sign := 0
+	for _, v := range q[:n+1] {
+		if v == 0 || big == 0 {
+			continue
+		}
+		sv := 1
+		if v < 0 {
+			sv = -1
+		}
+		if sign != 0 && sv != sign {
+			return true
+		}
+		sign = sv
+	}
+	return false
 }
 
 // polishReal improves a real root x of c by Newton steps while they help.
