@@ -79,6 +79,7 @@ type target struct {
 	topo  *synth.Topology
 	grid  *scoreGrid
 	tdb   []float64 // target gain in dB at each grid point
+	tg2   []float64 // target |H|² at each grid point
 	probe []int     // grid indices tried first: a cheap lower bound
 	w0    float64   // rad/s
 	q     float64
@@ -91,8 +92,10 @@ func newTarget(sec *synth.Section, g *scoreGrid) *target {
 	t := &target{sec: sec, topo: sec.Topology, grid: g, tdb: make([]float64, len(g.w)),
 		w0: 2 * math.Pi * sec.F0, q: sec.Q, boxes: map[int]box{}}
 	n := sec.Topology.Poles
+	t.tg2 = make([]float64, len(g.w))
 	for i, w := range g.w {
-		t.tdb[i] = 10 * math.Log10(synth.Gain2(sec.Num, sec.Den, n, w))
+		t.tg2[i] = synth.Gain2(sec.Num, sec.Den, n, w)
+		t.tdb[i] = 10 * math.Log10(t.tg2[i])
 	}
 	// Probes: both grid ends, the point nearest the section's natural
 	// frequency, and a few spread points; any subset of the grid gives a
@@ -121,34 +124,34 @@ func uniqueInts(xs ...int) []int {
 }
 
 // probeErr returns the largest |deviation| in dB at the probe points.
+// Gains are compared as ratios so that only one logarithm is taken.
 func (t *target) probeErr(num, den synth.Poly) float64 {
 	n := t.topo.Poles
-	var e float64
+	hi, lo := 1.0, 1.0
 	for _, i := range t.probe {
-		d := math.Abs(10*math.Log10(synth.Gain2(num, den, n, t.grid.w[i])) - t.tdb[i])
-		if d > e {
-			e = d
-		}
+		r := synth.Gain2(num, den, n, t.grid.w[i]) / t.tg2[i]
+		hi, lo = math.Max(hi, r), math.Min(lo, r)
 	}
-	return e
+	return 10 * math.Log10(math.Max(hi, 1/lo))
 }
 
 // fullErr returns the largest |deviation| over the grid and, when dev is
 // not nil, writes the signed deviation (candidate - target, dB) into it.
 func (t *target) fullErr(num, den synth.Poly, dev []float64) float64 {
 	n := t.topo.Poles
+	if dev == nil {
+		hi, lo := 1.0, 1.0
+		for i, w := range t.grid.w {
+			r := synth.Gain2(num, den, n, w) / t.tg2[i]
+			hi, lo = math.Max(hi, r), math.Min(lo, r)
+		}
+		return 10 * math.Log10(math.Max(hi, 1/lo))
+	}
 	var e float64
 	for i, w := range t.grid.w {
 		d := 10*math.Log10(synth.Gain2(num, den, n, w)) - t.tdb[i]
-		if dev != nil {
-			dev[i] = d
-		}
-		if d < 0 {
-			d = -d
-		}
-		if d > e {
-			e = d
-		}
+		dev[i] = d
+		e = math.Max(e, math.Abs(d))
 	}
 	return e
 }
@@ -230,7 +233,31 @@ func (t *target) shapeErr(x, y float64, coarse []int) float64 {
 func (t *target) boxAt(k int) box {
 	t.mu.Lock()
 	defer t.mu.Unlock()
+	return t.boxAtLocked(k)
+}
+
+// linearLevel is the box level (about 1e-3 dB) below which boxes are the
+// linearLevel box scaled in proportion to the error level, with a 10 %
+// margin. Near the target E(x, y) is a norm of (x, y) to first order; the
+// second-order terms at these deviations (|x|, |y| below about 1e-4) change
+// the boundary by far less than the margin.
+const linearLevel = 27
+
+func (t *target) boxAtLocked(k int) box {
 	if b, ok := t.boxes[k]; ok {
+		return b
+	}
+	if k < linearLevel {
+		base := t.boxAtLocked(linearLevel)
+		f := 1.1 * levelValue(k) / levelValue(linearLevel)
+		b := box{xlo: base.xlo * f, xhi: base.xhi * f, ylo: base.ylo * f, yhi: base.yhi * f}
+		if t.topo.Poles == 1 {
+			b.ylo, b.yhi = math.Inf(-1), math.Inf(1)
+		}
+		b.e2xhi, b.e2xlo = math.Exp(-2*b.xhi), math.Exp(-2*b.xlo)
+		b.eyhi, b.eylo = math.Exp(b.yhi), math.Exp(b.ylo)
+		b.exhi, b.exlo = math.Exp(-b.xhi), math.Exp(-b.xlo)
+		t.boxes[k] = b
 		return b
 	}
 	B := levelValue(k)

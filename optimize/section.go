@@ -22,6 +22,16 @@ type sectionCand struct {
 	tol   float64 // sum of the positions' effective tolerances (a tie-break: tighter parts first)
 }
 
+// realTolerance is the effective relative tolerance of one realisation
+// (Component.Tolerance of its parts).
+func realTolerance(k synth.PartKind, re *real, rows []Row) float64 {
+	comp := Component{Kind: k, Value: re.value, Arrangement: re.arr}
+	for j := 0; j < int(re.n); j++ {
+		comp.Parts = append(comp.Parts, rows[re.rows[j]].Part)
+	}
+	return comp.Tolerance()
+}
+
 // rowCount is how many parts of one stock row a section (or design) uses.
 type rowCount struct {
 	row   int32
@@ -33,6 +43,9 @@ type rowCount struct {
 func (a *sectionCand) less(b *sectionCand) bool {
 	if a.err != b.err {
 		return a.err < b.err
+	}
+	if a.tol != b.tol {
+		return a.tol < b.tol
 	}
 	for i := range a.reals {
 		if a.reals[i] != b.reals[i] {
@@ -89,10 +102,29 @@ func (s *shortlist) refresh(ceiling float64) {
 	}
 }
 
+// maxSameValues is how many candidates with identical element values (the
+// same circuit from different stock rows) a class keeps: one, and one
+// alternative in case quantities or shared rows rule the first out. More
+// copies would crowd distinct circuits out of the shortlist.
+const maxSameValues = 2
+
 func (s *shortlist) add(c sectionCand) {
 	cl := s.classes[c.parts]
 	if len(cl) == s.k && !c.less(&cl[len(cl)-1]) {
 		return
+	}
+	same, worst := 0, -1
+	for i := range cl {
+		if cl[i].vals == c.vals {
+			same++
+			worst = i // cl is sorted, so the last match is the worst
+		}
+	}
+	if same >= maxSameValues {
+		if !c.less(&cl[worst]) {
+			return
+		}
+		cl = append(cl[:worst], cl[worst+1:]...)
 	}
 	at := sort.Search(len(cl), func(i int) bool { return c.less(&cl[i]) })
 	if len(cl) < s.k {
@@ -232,19 +264,6 @@ func (s *sectionSearch) run(workers int) ([]sectionCand, sectionDiag) {
 		c.dev = make([]float64, len(s.t.grid.w))
 		num, den := s.t.topo.Coeffs(c.vals[:len(s.t.topo.Elements)])
 		c.err = s.t.fullErr(num, den, c.dev)
-		c.tol = 0
-		for i, el := range s.t.topo.Elements {
-			vs := s.res
-			if el.Kind == synth.Capacitor {
-				vs = s.cap
-			}
-			re := vs.reals[c.reals[i]]
-			comp := Component{Kind: el.Kind, Value: re.value, Arrangement: re.arr}
-			for j := 0; j < int(re.n); j++ {
-				comp.Parts = append(comp.Parts, s.rows[re.rows[j]].Part)
-			}
-			c.tol += comp.Tolerance()
-		}
 	}
 	return out, diag
 }
@@ -279,7 +298,12 @@ func (w *worker) offer() {
 		w.diag.quantityFail++
 		return
 	}
-	c := sectionCand{err: e, parts: parts, reals: w.r, vals: w.v, rows: rows}
+	var tol float64
+	for i := 0; i < n; i++ {
+		re := w.realOf(i)
+		tol += realTolerance(s.t.topo.Elements[i].Kind, re, s.rows)
+	}
+	c := sectionCand{err: e, parts: parts, reals: w.r, vals: w.v, rows: rows, tol: tol}
 	w.list.add(c)
 	w.list.refresh(s.ceiling)
 	w.diag.accepted++
@@ -441,146 +465,100 @@ func (w *worker) searchFirstOrder(part, of int) {
 	}
 }
 
-// searchSallenKeyLowPass: for capacitors Cf, Cg the response depends on
-// P = R1·R2 and S = R1+R2 only (w0² = 1/(P Cf Cg), Q = √(P Cf Cg)/(Cg S)),
-// and is symmetric in R1, R2, so R1 takes the larger value. The box in
-// (ln w0, ln Q) of the current error level bounds P and S, hence R1 and,
-// for each R1, R2. Single parts and pairs are searched as separate classes
-// with their own thresholds; R1 is visited outward from the exact solution
-// so that thresholds fall quickly, and the box is re-read after every R1.
+// searchSallenKeyLowPass: the response depends on w0² = 1/(R1 R2 Cf Cg) and
+// Q = √(R1 R2 Cf Cg)/(Cg (R1+R2)), and is symmetric in R1, R2, so R1 takes
+// the larger value. For a given Cg the sum S = R1+R2 = 1/(w0 Q Cg) depends
+// on w0·Q only, so the box in (ln w0, ln Q) of the current error level
+// bounds S without looking at Cf; then, for each R1, R2 lies in a window of
+// S, and for each (R1, R2) the box bounds Cf through w0 and through Q. The
+// resistors are walked with R1 descending so that both window edges only
+// move forward (two pointers), and the capacitors found by binary search.
+// Single parts and pairs of resistors are separate classes, each with the
+// box of its own entry threshold (the loosest over the Cf classes).
 func (w *worker) searchSallenKeyLowPass(part, of int) {
 	s := w.s
-	t := s.t
-	w0t, qt := t.w0, t.q
 	for g := part; g < len(s.cap.reals); g += of {
 		cgR := &s.cap.reals[g]
-		Cg := cgR.value
-		b := w.box(w.maxLimit(cgR.n+1, 2))
-		// Cf/Cg >= 4 Q² e^{2(ylo + xlo - xhi)} for real resistors, and
-		// Rmin² <= P <= Rmax².
-		cfMin := Cg * 4 * qt * qt * math.Exp(2*(b.ylo+b.xlo-b.xhi))
-		cfMin = math.Max(cfMin, math.Exp(-2*b.xhi)/(w0t*w0t*s.rmax*s.rmax*Cg))
-		cfMax := math.Exp(-2*b.xlo) / (w0t * w0t * s.rmin * s.rmin * Cg)
-		f0, f1 := s.cap.span(cfMin, cfMax)
 		w.diag.capSets += len(s.cap.reals)
-		w.diag.ratioOK += f1 - f0
-		for f := f0; f < f1; f++ {
-			cfR := &s.cap.reals[f]
-			Cf := cfR.value
-			k := Cf * Cg * w0t * w0t
-			// Fast reject: the R1 interval of the loosest class box must
-			// hold at least one realisable value.
-			{
-				bb := w.box(w.maxLimit(cgR.n+cfR.n, 2))
-				pLo, pHi := bb.e2xhi/k, bb.e2xlo/k
-				sHi := math.Sqrt(pHi*Cf*Cg) / (Cg * qt * bb.eylo)
-				if sHi*sHi < 4*pLo {
-					continue
-				}
-				r1Lo := math.Sqrt(pLo)
-				sLo := math.Sqrt(pLo*Cf*Cg) / (Cg * qt * bb.eyhi)
-				if d := sLo*sLo - 4*pHi; d > 0 {
-					r1Lo = math.Max(r1Lo, (sLo+math.Sqrt(d))/2)
-				}
-				r1Hi := (sHi + math.Sqrt(sHi*sHi-4*pLo)) / 2
-				i := sort.SearchFloat64s(s.res.vals, r1Lo)
-				if i == len(s.res.vals) || s.res.vals[i] > r1Hi {
-					continue
+		any := false
+		for big := 1; big <= 2; big++ {
+			for small := 1; small <= 2; small++ {
+				if w.skLowPassClass(g, cgR, s.res.sub[big], s.res.sub[small], big == small, int8(big+small)) {
+					any = true
 				}
 			}
-			w.v[2], w.v[3] = Cf, Cg
-			w.r[2], w.r[3] = int32(f), int32(g)
-			// The exact solution (DOMAIN.md: R1, R2 are the roots of
-			// x² - S x + P) is the centre of the walk.
-			centre := 0.0
-			if S, P := t.sec.Den[1]/Cg, t.sec.Den[2]/(Cf*Cg); S*S >= 4*P {
-				centre = (S + math.Sqrt(S*S-4*P)) / 2
-			}
-			any := false
-			for big := 1; big <= 2; big++ {
-				for small := 1; small <= 2; small++ {
-					parts := cgR.n + cfR.n + int8(big+small)
-					if w.skLowPassClass(k, Cf, Cg, centre, s.res.sub[big], s.res.sub[small], big == small, parts) {
-						any = true
-					}
-				}
-			}
-			if any {
-				w.diag.inRange++
-			}
+		}
+		if any {
+			w.diag.ratioOK++
+			w.diag.inRange++
 		}
 	}
 }
 
-// skLowPassClass walks one class of resistor pairs: R1 from big (the larger
-// value), R2 from small. It reports whether any R1 lay in range.
-func (w *worker) skLowPassClass(k, Cf, Cg, centre float64, big, small *valueSet, same bool, parts int8) bool {
+// skLowPassClass searches one class of resistor pairs for capacitor Cg:
+// R1 from big (the larger value), R2 from small. It reports whether any
+// resistor pair had a capacitor Cf in range.
+func (w *worker) skLowPassClass(g int, cgR *real, big, small *valueSet, same bool, rparts int8) bool {
 	s := w.s
 	t := s.t
 	w0t, qt := t.w0, t.q
-	bounds := func() (b *box, pLo, pHi, sLo, sHi, r1Lo, r1Hi float64, ok bool) {
-		b = w.classBox(parts)
-		pLo, pHi = b.e2xhi/k, b.e2xlo/k
-		sLo = math.Sqrt(pLo*Cf*Cg) / (Cg * qt * b.eyhi)
-		sHi = math.Sqrt(pHi*Cf*Cg) / (Cg * qt * b.eylo)
-		if sHi*sHi < 4*pLo {
-			return b, 0, 0, 0, 0, 0, 0, false
+	Cg := cgR.value
+	b := w.box(math.Max(w.list.limit(cgR.n+1+rparts, s.ceiling), w.list.limit(cgR.n+2+rparts, s.ceiling)))
+	s0 := 1 / (w0t * qt * Cg)
+	sLo := s0 * math.Exp(-(b.xhi + b.yhi))
+	sHi := s0 * math.Exp(-(b.xlo + b.ylo))
+	found := false
+	// R1 from the top of its range down to S/2.
+	top := sort.Search(len(big.vals), func(i int) bool { return big.vals[i] > sHi })
+	jl, jh := 0, 0
+	ns := len(small.vals)
+	for r1 := top - 1; r1 >= 0; r1-- {
+		R1 := big.vals[r1]
+		if 2*R1 < sLo {
+			break
 		}
-		r1Lo = math.Sqrt(pLo)
-		if d := sLo*sLo - 4*pHi; d > 0 {
-			r1Lo = math.Max(r1Lo, (sLo+math.Sqrt(d))/2)
+		for jl < ns && small.vals[jl] < sLo-R1 {
+			jl++
 		}
-		r1Hi = (sHi + math.Sqrt(sHi*sHi-4*pLo)) / 2
-		return b, pLo, pHi, sLo, sHi, r1Lo, r1Hi, true
-	}
-	_, _, _, _, _, r1Lo, r1Hi, ok := bounds()
-	if !ok {
-		return false
-	}
-	i0, i1 := big.span(r1Lo, r1Hi)
-	if i0 >= i1 {
-		return false
-	}
-	c := centre
-	if c < r1Lo || c > r1Hi {
-		c = math.Sqrt(r1Lo * r1Hi)
-	}
-	start := sort.SearchFloat64s(big.vals, c)
-	for dir := -1; dir <= 1; dir += 2 {
-		r1 := start
-		if dir < 0 {
-			r1 = start - 1
+		for jh < ns && small.vals[jh] <= sHi-R1 {
+			jh++
 		}
-		for ; r1 >= 0 && r1 < len(big.vals); r1 += dir {
-			b, pLo, pHi, sLo, sHi, r1Lo, r1Hi, ok := bounds()
-			R1 := big.vals[r1]
-			if !ok || (dir < 0 && R1 < r1Lo) || (dir > 0 && R1 > r1Hi) {
+		for r2 := jl; r2 < jh; r2++ {
+			R2 := small.vals[r2]
+			if R2 > R1 || (same && r2 > r1) {
 				break
 			}
-			if R1 < r1Lo || R1 > r1Hi {
+			P, S := R1*R2, R1+R2
+			// Cf from w0 (x) and from Q (y): w0² = 1/(P Cf Cg),
+			// Q² = P Cf / (Cg S²).
+			k := P * Cg * w0t * w0t
+			lo := b.e2xhi / k
+			hi := b.e2xlo / k
+			q2 := Cg * S * S / P
+			lo = math.Max(lo, qt*qt*b.eylo*b.eylo*q2)
+			hi = math.Min(hi, qt*qt*b.eyhi*b.eyhi*q2)
+			f0, f1 := s.cap.span(lo, hi)
+			if f0 >= f1 {
 				continue
 			}
-			lo := math.Max(pLo/R1, sLo-R1)
-			hi := math.Min(math.Min(pHi/R1, sHi-R1), R1)
-			j0, j1 := small.span(lo, hi)
-			if same && j1 > r1+1 {
-				j1 = r1 + 1 // one class: R2 <= R1 in the sorted order
-			}
-			for r2 := j0; r2 < j1; r2++ {
-				R2 := small.vals[r2]
-				P, S := R1*R2, R1+R2
+			found = true
+			w.v[0], w.v[1], w.v[3] = R1, R2, Cg
+			w.r[0], w.r[1], w.r[3] = big.global[r1], small.global[r2], int32(g)
+			for f := f0; f < f1; f++ {
+				cfR := &s.cap.reals[f]
+				Cf := cfR.value
+				cb := w.classBox(cgR.n + cfR.n + rparts)
 				x := math.Log(1 / (math.Sqrt(P*Cf*Cg) * w0t))
 				y := math.Log(math.Sqrt(P*Cf*Cg) / (Cg * S) / qt)
-				if x < b.xlo || x > b.xhi || y < b.ylo || y > b.yhi {
+				if x < cb.xlo || x > cb.xhi || y < cb.ylo || y > cb.yhi {
 					continue
 				}
-				w.v[0], w.v[1] = R1, R2
-				w.r[0], w.r[1] = big.global[r1], small.global[r2]
+				w.v[2], w.r[2] = Cf, int32(f)
 				w.offer()
 			}
 		}
 	}
-	return true
+	return found
 }
 
 // searchSallenKeyHighPass: the response depends on C1+C2 and C1·C2 (so
@@ -654,6 +632,11 @@ func (w *worker) searchSallenKeyHighPass(part, of int) {
 // threePoleWindow is how many neighbouring resistor values on each side of
 // the exact solution a 3-pole section tries.
 const threePoleWindow = 2
+
+// threePoleDense is the number of realisable resistor values (pairs make
+// thousands) above which the 3-pole window narrows to the nearest value on
+// each side: neighbours are then a fraction of a percent apart.
+const threePoleDense = 1000
 
 // searchThreePole: every triple of capacitors (single parts unless
 // threeCap), the resistors solved exactly (Topology.Solve), then the
@@ -754,8 +737,12 @@ func (w *worker) tryResistorWindow(sol []float64, ri []int) {
 			return
 		}
 		at := sort.SearchFloat64s(s.res.vals, v)
-		lo[k] = max(0, at-threePoleWindow)
-		hi[k] = min(len(s.res.vals), at+threePoleWindow)
+		win := threePoleWindow
+		if len(s.res.vals) >= threePoleDense {
+			win = 1
+		}
+		lo[k] = max(0, at-win)
+		hi[k] = min(len(s.res.vals), at+win)
 		if lo[k] >= hi[k] {
 			return
 		}
