@@ -52,7 +52,24 @@ var seeds = map[int]string{
 	        VALUES (1, 50, 50, 'import', '2029-05-01T10:00:00.000000000Z'),
 	               (1, -2, 48, 'used', '2029-05-02T10:00:00.000000000Z'),
 	               (2, 20, 20, 'import', '2029-05-01T10:00:00.000000000Z');`,
+	// A saved first-order low-pass of the two seed rows, built once.
+	2: `INSERT INTO design (id, name, summary, filters, boards, worst_error, part_count, unique_parts, meets_spec, document, created_at)
+	        VALUES ('seed2a', '', 'Butterworth low-pass, fp 15.39 kHz, order 1', 1, 2, 0.001, 2, 2, 1, '` + seedDesignDoc + `',
+	                '2029-05-03T10:00:00.000000000Z');
+	    INSERT INTO design_stock (design_id, stock_id, per_board) VALUES ('seed2a', 1, 1), ('seed2a', 2, 1);
+	    INSERT INTO build (design_id, boards, built_at) VALUES ('seed2a', 2, '2029-05-04T10:00:00.000000000Z');
+	    INSERT INTO build_movement (build_id, movement_id, undo) VALUES (1, 2, 0);`,
 }
+
+// seedDesignDoc is a design document of format 1 (production.EncodeDesign)
+// for the version-2 seed: R1 from row 1, C1 from row 2.
+const seedDesignDoc = `{"format":1,"name":"","boards":2,"rank":1,"settings":{"combine":2,"boards":2,"max_order":0,"rank":"balanced","top":10,"good_enough_db":0.05,"r_min":1000,"r_max":1000000,"c_min":1e-10,"c_max":1e-05,"allow_dielectric":null,"odd":""},` +
+	`"filters":[{"label":"","spec":{"kind":"lowpass","response":"butterworth","pass_hz":15392.0,"pass_atten_db":3.0103,"stop_hz":0,"stop_atten_db":0,"ripple_db":0,"order":1,"odd":"1pole","bessel_norm":"mag"},` +
+	`"candidate":{"order":1,"odd":"1pole","response_error_db":0.001,"pass_atten_db":3.01,"stop_atten_db":null,"meets_spec":true,"part_count":2,"unique_parts":2,"boards_buildable":20,"pareto":true,` +
+	`"sections":[{"topology":"rc-lowpass","f0_hz":15392.0,"q":0,"real_f0_hz":0,"components":[` +
+	`{"ref":"R1","symbol":"R","kind":"resistor","value":4700,"arrangement":"single","parts":[{"stock_id":1,"value":4700,"tolerance":0.01,"location":"A1","dielectric":"","package":"0805"}]},` +
+	`{"ref":"C1","symbol":"C","kind":"capacitor","value":2.2e-9,"arrangement":"single","parts":[{"stock_id":2,"value":2.2e-9,"tolerance":0.05,"location":"C1","dielectric":"C0G","package":"0805"}]}]}],` +
+	`"stock_use":[{"stock_id":1,"per_board":1},{"stock_id":2,"per_board":1}]}}]}`
 
 // TestMigrationsFromEveryVersion opens a database at each earlier schema
 // version (and a brand-new file) and checks that Open brings it to the
