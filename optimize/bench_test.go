@@ -2,6 +2,7 @@ package optimize
 
 import (
 	"os"
+	"runtime"
 	"testing"
 	"time"
 
@@ -33,7 +34,11 @@ func benchFit(b *testing.B, items []stock.Item, order int) {
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: order}
 	o := DefaultOptions()
 	var times []time.Duration
+	var values, sections int
+	var m0, m1 runtime.MemStats
+	b.ReportAllocs()
 	b.ResetTimer()
+	runtime.ReadMemStats(&m0)
 	for i := 0; i < b.N; i++ {
 		t0 := time.Now()
 		r, err := Fit(items, spec, o)
@@ -44,8 +49,18 @@ func benchFit(b *testing.B, items []stock.Item, order int) {
 			b.Fatal("no candidate")
 		}
 		times = append(times, time.Since(t0))
+		values = r.Resistors + r.Capacitors
+		sections = 0
+		for _, d := range r.Designs {
+			sections += len(d.Sections)
+		}
 	}
+	runtime.ReadMemStats(&m1)
 	b.ReportMetric(median(times).Seconds(), "s/fit-median")
+	// Memory allocated per realisable value and searched section: the
+	// issue's bound is that memory grows no faster than their product.
+	perOp := float64(m1.TotalAlloc-m0.TotalAlloc) / float64(b.N)
+	b.ReportMetric(perOp/float64(values*sections), "B/value-section")
 }
 
 func median(d []time.Duration) time.Duration {
