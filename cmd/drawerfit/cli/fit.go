@@ -44,6 +44,10 @@ type fitOptions struct {
 	save    bool
 	plan    string
 	suggest bool
+
+	// Checks and the build sheet (fit_checks.go): --yield, --gbw,
+	// --bias-resistor, --report, --png.
+	checks fitCheckOptions
 }
 
 func newFitCmd(env *Env) *cobra.Command {
@@ -105,6 +109,9 @@ person under the applicable local rules.`,
 			o.spec.orderSet = f.Changed("order")
 			o.spec.besselNormSet = f.Changed("bessel-norm")
 			o.oddSet = f.Changed("odd")
+			if err := prepareFitChecks(f, o); err != nil {
+				return err
+			}
 			return runFit(env, o)
 		},
 	}
@@ -113,7 +120,7 @@ person under the applicable local rules.`,
 	f.IntVar(&o.combine, "combine", 2, "parts per position: 1 (single parts) or 2 (also pairs in series or parallel)")
 	f.IntVar(&o.boards, "boards", 1, "every stock row used must cover this many boards")
 	f.IntVar(&o.maxOrder, "max-order", 0, "highest order to try (default: the minimum order + 1)")
-	f.StringVar(&o.rank, "rank", "balanced", "ordering: balanced, error, parts or unique")
+	f.StringVar(&o.rank, "rank", "balanced", "ordering: balanced, error, parts, unique, or yield (implies --yield)")
 	f.IntVar(&o.top, "top", 10, "how many candidates to list")
 	f.Float64Var(&o.goodEnough, "good-enough", 0.05, "response error, dB, that the balanced ranking treats as good enough")
 	f.StringVar(&o.rMin, "r-min", "1k", "smallest resistor or combination to use")
@@ -128,6 +135,7 @@ person under the applicable local rules.`,
 	f.BoolVar(&o.save, "save", false, "keep the listed candidates in the database as saved designs (ids in the table)")
 	f.StringVar(&o.plan, "plan", "", "fit every filter of this board plan file jointly (see README)")
 	f.BoolVar(&o.suggest, "suggest", false, "also list the few stock additions that would most improve the result")
+	addFitCheckFlags(cmd, &o.checks)
 	return cmd
 }
 
@@ -138,7 +146,9 @@ type fitRun struct {
 	result  *optimize.Result
 	source  string // where the stock came from
 	elapsed time.Duration
-	ids     []string // saved design ids, parallel to result.Candidates (with --save)
+	ids     []string     // saved design ids, parallel to result.Candidates (with --save)
+	items   []stock.Item // the stock searched (for the checks' refit and bias resistors)
+	checks  *fitChecks   // results of the checks (fit_checks.go)
 }
 
 func (o *fitOptions) optimizeOptions() (optimize.Options, error) {
@@ -146,7 +156,7 @@ func (o *fitOptions) optimizeOptions() (optimize.Options, error) {
 	opt.Combine, opt.Boards, opt.MaxOrder, opt.Top = o.combine, o.boards, o.maxOrder, o.top
 	opt.GoodEnough, opt.ShowFailing, opt.AllowDielectric = o.goodEnough, o.showFailing, o.allowDiel
 	switch strings.ToLower(o.rank) {
-	case "balanced":
+	case "balanced", "yield": // yield: balanced search, then listed by yield (fit_checks.go)
 		opt.Rank = optimize.RankBalanced
 	case "error":
 		opt.Rank = optimize.RankError
@@ -155,7 +165,7 @@ func (o *fitOptions) optimizeOptions() (optimize.Options, error) {
 	case "unique":
 		opt.Rank = optimize.RankUnique
 	default:
-		return opt, fault.Invalidf("--rank must be balanced, error, parts or unique, not %q", o.rank)
+		return opt, fault.Invalidf("--rank must be balanced, error, parts, unique or yield, not %q", o.rank)
 	}
 	var err error
 	parse := func(flag, s string, k stock.Kind, dst *float64) {
@@ -215,7 +225,7 @@ func doFit(env *Env, o *fitOptions) (*fitRun, error) {
 	if err != nil {
 		return nil, err
 	}
-	return &fitRun{spec: res.Spec, opts: opt, result: res, source: source, elapsed: env.Now().Sub(start)}, nil
+	return &fitRun{spec: res.Spec, opts: opt, result: res, source: source, elapsed: env.Now().Sub(start), items: items}, nil
 }
 
 func runFit(env *Env, o *fitOptions) error {
@@ -224,6 +234,9 @@ func runFit(env *Env, o *fitOptions) error {
 	}
 	run, err := doFit(env, o)
 	if err != nil {
+		return err
+	}
+	if err := runFitChecks(env, o, run); err != nil {
 		return err
 	}
 	res := run.result
@@ -302,10 +315,11 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 			formatDB(c.PassAtten, 3), stopCell(c.StopAtten), strconv.Itoa(c.PartCount), strconv.Itoa(c.UniqueParts),
 			strconv.Itoa(c.BoardsBuildable), strings.TrimSpace(mark))
 	}
-	g.render(env, w)
+	run.checks.printTable(env, w, g, res.Candidates)
 	fmt.Fprintf(w, "\nRanked %s; error = largest deviation from the ideal %s response; '*' = on the Pareto front of error, parts and unique parts.\n",
 		rankText(run.opts), res.Spec.Approx)
 	printCandidateDetail(env, w, res.Candidates[0], 1)
+	printFitChecks(env, w, run, res.Candidates[0])
 	for _, n := range res.Notes {
 		fmt.Fprintln(w, "Note: "+n)
 	}
@@ -483,6 +497,11 @@ type jsonCandidate struct {
 	Sections        []jsonSection  `json:"sections"`
 	StockUse        []jsonStockUse `json:"stock_use"`
 	Netlist         string         `json:"netlist"`
+	// With the checks (fit_checks.go).
+	Yield         *jsonYield `json:"yield,omitempty"`
+	OpAmp         *jsonOpAmp `json:"opamp,omitempty"`
+	BiasResistors []jsonBias `json:"bias_resistors,omitempty"`
+	Warnings      []string   `json:"warnings,omitempty"`
 }
 
 type jsonSpec struct {
@@ -553,7 +572,9 @@ func fitJSON(run *fitRun) jsonFit {
 	res := run.result
 	out := jsonFit{Spec: specJSON(res.Spec, run.spec.Order), Candidates: []jsonCandidate{}, Limits: res.Limits, Notes: res.Notes}
 	for i, c := range res.Candidates {
-		out.Candidates = append(out.Candidates, candidateJSON(c, i+1))
+		jc := candidateJSON(c, i+1)
+		run.checks.fillJSON(&jc, c)
+		out.Candidates = append(out.Candidates, jc)
 	}
 	if res.Closest != nil {
 		jc := candidateJSON(res.Closest, 0)

@@ -52,26 +52,36 @@ type yieldOptions struct {
 	refit tolerance.RefitFunc
 }
 
-// addYieldFlags binds the tolerance flags to f; fit --yield uses the same.
-func addYieldFlags(f interface {
+// flagBinder is the part of a flag set the yield flags need.
+type flagBinder interface {
 	IntVar(*int, string, int, string)
 	Uint64Var(*uint64, string, uint64, string)
 	StringVar(*string, string, string, string)
 	Float64Var(*float64, string, float64, string)
 	BoolVar(*bool, string, bool, string)
-}, o *yieldOptions) {
+}
+
+// addYieldFlags binds the flags of `drawerfit yield` to f: the tolerance
+// flags (addToleranceFlags) and --boards, --sensitivity and --json.
+func addYieldFlags(f flagBinder, o *yieldOptions) {
+	addToleranceFlags(f, o)
+	f.IntVar(&o.boards, "boards", 0, "forecast how many of this many built boards pass")
+	f.BoolVar(&o.sensitivity, "sensitivity", false, "print each component's f0 and Q sensitivity")
+	f.BoolVar(&o.json, "json", false, "print one JSON object")
+}
+
+// addToleranceFlags binds the tolerance and op-amp flags that yield and
+// fit share (fit has its own --boards and --json).
+func addToleranceFlags(f flagBinder, o *yieldOptions) {
 	f.IntVar(&o.trials, "trials", tolerance.DefaultTrials, "number of simulated boards")
 	f.Uint64Var(&o.seed, "seed", 1, "random seed: the same seed gives the same result")
 	f.StringVar(&o.dist, "dist", "uniform", "part values within their tolerance: uniform, or normal (tolerance = 3 sigma)")
 	f.Float64Var(&o.passMargin, "pass-margin", 0, "accept this many dB beyond the passband limit")
 	f.Float64Var(&o.stopMargin, "stop-margin", 0, "accept this many dB short of the stopband attenuation")
 	f.StringVar(&o.targetYield, "target-yield", "95%", "yield the advice aims for, e.g. 95% or 0.95")
-	f.IntVar(&o.boards, "boards", 0, "forecast how many of this many built boards pass")
 	f.StringVar(&o.gbw, "gbw", "", "check an op-amp of this gain-bandwidth, e.g. 1M or 10MHz")
 	f.Float64Var(&o.dcGain, "dc-gain", 100, "the op-amp's open-loop DC gain, dB (with --gbw)")
 	f.BoolVar(&o.biasResistor, "bias-resistor", false, "list the bias-current compensation resistor of each follower (bipolar-input op-amps)")
-	f.BoolVar(&o.sensitivity, "sensitivity", false, "print each component's f0 and Q sensitivity")
-	f.BoolVar(&o.json, "json", false, "print one JSON object")
 }
 
 // newYieldCmdWith returns the constructor of `drawerfit yield` reading

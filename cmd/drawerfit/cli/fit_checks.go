@@ -1,0 +1,758 @@
+package cli
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"sort"
+	"strconv"
+	"strings"
+
+	"github.com/spf13/cobra"
+	"github.com/spf13/pflag"
+
+	"drawerfit/fault"
+	"drawerfit/optimize"
+	"drawerfit/report"
+	"drawerfit/respplot"
+	"drawerfit/stock"
+	"drawerfit/synth"
+	"drawerfit/tolerance"
+)
+
+// The checks fit runs on its listed candidates: the Monte Carlo yield
+// (--yield, --rank yield), the op-amp model (--gbw, --dc-gain), the
+// bias-current compensation resistors fitted from stock (--bias-resistor),
+// the practical warnings (always), and the build sheet of the best
+// candidate (--report, --png).
+
+// fitCheckOptions are fit's flags for the checks and the build sheet.
+type fitCheckOptions struct {
+	yield     bool
+	rankYield bool // --rank yield: list the candidates by simulated yield
+	tol       yieldOptions
+	report    string
+	png       string
+}
+
+// toleranceOnlyFlags are the flags that mean nothing without --yield.
+var toleranceOnlyFlags = []string{"trials", "seed", "dist", "pass-margin", "stop-margin", "target-yield"}
+
+// addFitCheckFlags binds the checks' flags to fit and adds their help.
+func addFitCheckFlags(cmd *cobra.Command, o *fitCheckOptions) {
+	f := cmd.Flags()
+	f.BoolVar(&o.yield, "yield", false, "simulate building every listed candidate from parts drawn within their stock tolerances and show the yield")
+	addToleranceFlags(f, &o.tol)
+	f.StringVar(&o.report, "report", "", "write the best candidate's build sheet to this HTML file")
+	f.StringVar(&o.png, "png", "", "also write the best candidate's plots as PNG files into this directory")
+	if fl := f.Lookup("bias-resistor"); fl != nil {
+		fl.Usage = "fit from stock the bias-current compensation resistor of each follower (bipolar-input op-amps)"
+	}
+	if fl := f.Lookup("trials"); fl != nil {
+		fl.Usage = "simulated boards per candidate (with --yield)"
+	}
+	cmd.Long += `
+
+Checks. --yield simulates building every listed candidate --trials times
+(default 2,000) with every part drawn within its stock row's tolerance
+(uniform; --dist normal takes the tolerance as 3 sigma) and the same random
+draws for every candidate (--seed), judges each simulated board against the
+specification (widened by --pass-margin/--stop-margin), and shows the yield
+with its 95% Wilson interval and each candidate's place by yield; --rank
+yield lists the candidates by yield, highest first (the search still keeps
+them by the balanced ranking). The best candidate also gets the computed
+advice: which part causes the failures, what a tighter part or a wider
+acceptance window would give, and, when its nominal response sits on a
+limit, the same order fitted with its edge moved inside the specification.
+With --boards N it forecasts how many of the N boards pass.
+
+--gbw FREQ (and --dc-gain DB, default 100) analyses every candidate with a
+single-pole op-amp model and shows the response change it adds; a section
+whose gain-bandwidth is below the rule of Op Amps for Everyone, section
+16.8.4 (about 100·f0·Q), gets a warning. --bias-resistor fits, from the same
+stock and within the quantities the candidate leaves for --boards, the
+optional resistor from each follower's output to its - input that equals the
+section's DC source resistance; it cancels the offset of a bipolar-input
+op-amp's bias currents and does not change the response. Practical warnings
+(resistors below 1 kΩ or above 470 kΩ, capacitors below 100 pF, class-2
+ceramics; common practice) are shown for the best candidate and are in the
+JSON of every candidate.
+
+--report FILE.html writes the best candidate's build sheet: one
+self-contained HTML page with the response plots (and the Monte Carlo
+envelope with --yield), a schematic of every section, the parts list, the
+pick list by bin, the warnings and the SPICE netlist. --png DIR also writes
+the plots as PNG files.`
+	cmd.Example += `
+
+  # A greenhouse logger's 10 kHz anti-alias filter: how many of 40 boards pass,
+  # with a 1 MHz op-amp, a bias resistor per stage and a printed build sheet
+  drawerfit fit lowpass --pass 10k --stop 30k --atten 30 --stock sample-stock.csv \
+    --boards 40 --yield --gbw 1M --bias-resistor --report logger-filter.html`
+}
+
+// prepareFitChecks checks the flags before the search starts, so that a
+// mistake costs no fitting time.
+func prepareFitChecks(f *pflag.FlagSet, o *fitOptions) error {
+	c := &o.checks
+	c.tol.dcGainSet = f.Changed("dc-gain")
+	c.rankYield = strings.EqualFold(strings.TrimSpace(o.rank), "yield")
+	if c.rankYield {
+		c.yield = true
+	}
+	if !c.yield {
+		for _, n := range toleranceOnlyFlags {
+			if f.Changed(n) {
+				return fault.Invalidf("--%s sets up the yield analysis: add --yield", n)
+			}
+		}
+	}
+	if o.plan != "" && (c.yield || c.tol.gbw != "" || c.tol.biasResistor || c.report != "" || c.png != "") {
+		return fault.Invalidf("--yield, --gbw, --bias-resistor, --report and --png apply to a single filter, not to --plan")
+	}
+	if c.yield {
+		if c.tol.trials < 1 || c.tol.trials > tolerance.MaxTrials {
+			return fault.Invalidf("--trials must be between 1 and %d, got %d", tolerance.MaxTrials, c.tol.trials)
+		}
+		if _, err := c.tol.tolOptions(); err != nil {
+			return err
+		}
+	}
+	if _, err := c.opAmp(); err != nil {
+		return err
+	}
+	if c.report != "" && strings.TrimSpace(c.report) == "" {
+		return fault.Invalidf("--report needs a file name")
+	}
+	return nil
+}
+
+// opAmp is the op-amp model of --gbw/--dc-gain (nil without --gbw), with a
+// positive, finite gain-bandwidth.
+func (c *fitCheckOptions) opAmp() (*synth.OpAmp, error) {
+	op, err := c.tol.opAmp()
+	if err != nil || op == nil {
+		return op, err
+	}
+	if !(op.GBW > 0) || math.IsInf(op.GBW, 0) {
+		return nil, fault.Invalidf("--gbw must be a positive frequency, got %q", c.tol.gbw)
+	}
+	return op, nil
+}
+
+// fitChecks holds what the checks found, per candidate.
+type fitChecks struct {
+	opts  *fitCheckOptions
+	op    *synth.OpAmp
+	byCan map[*optimize.Candidate]*candidateChecks
+}
+
+// candidateChecks are one candidate's check results.
+type candidateChecks struct {
+	practical   []string
+	opAmp       *tolerance.OpAmpReport
+	yield       *tolerance.Result
+	yieldRank   int // 1 = highest yield among the listed candidates
+	bias        []fittedBias
+	biasProblem string // why bias resistors could not be computed
+}
+
+// fittedBias is a bias-current compensation resistor fitted from stock.
+type fittedBias struct {
+	tolerance.BiasResistor
+	// Part is the stock combination chosen; Parts is empty when the stock
+	// holds nothing usable.
+	Part optimize.Component
+}
+
+// warnings are all of a candidate's warnings: practical, op-amp, yield.
+func (cc *candidateChecks) warnings() []string {
+	var w []string
+	w = append(w, cc.practical...)
+	if cc.opAmp != nil {
+		w = append(w, cc.opAmp.Warnings...)
+	}
+	if cc.yield != nil {
+		w = append(w, cc.yield.Warnings...)
+	}
+	if cc.biasProblem != "" {
+		w = append(w, cc.biasProblem)
+	}
+	return w
+}
+
+func (fc *fitChecks) of(c *optimize.Candidate) *candidateChecks {
+	if fc == nil {
+		return nil
+	}
+	return fc.byCan[c]
+}
+
+// runFitChecks runs the checks on the listed candidates of run, orders them
+// by yield for --rank yield, and writes the build sheet and plots. It is
+// called right after the search.
+func runFitChecks(env *Env, o *fitOptions, run *fitRun) error {
+	co := &o.checks
+	op, err := co.opAmp()
+	if err != nil {
+		return err
+	}
+	fc := &fitChecks{opts: co, op: op, byCan: map[*optimize.Candidate]*candidateChecks{}}
+	run.checks = fc
+	res := run.result
+	var topt tolerance.Options
+	if co.yield {
+		if o.boards > 1 {
+			co.tol.boards = o.boards
+		}
+		if topt, err = co.tol.tolOptions(); err != nil {
+			return err
+		}
+	}
+	for _, c := range res.Candidates {
+		cc := &candidateChecks{}
+		fc.byCan[c] = cc
+		if cc.practical, err = tolerance.Practical(c); err != nil {
+			return fmt.Errorf("practical checks: %w", err)
+		}
+		if op != nil {
+			if cc.opAmp, err = tolerance.CheckOpAmp(c, res.Spec, *op); err != nil {
+				return fmt.Errorf("op-amp check: %w", err)
+			}
+		}
+		if co.tol.biasResistor {
+			cc.bias, cc.biasProblem = fitBiasResistors(c, run)
+		}
+		if co.yield {
+			brief := topt
+			// Brief: only the Monte Carlo and the blame, for ranking.
+			brief.Brief, brief.Refit, brief.Boards = true, nil, 0
+			if cc.yield, err = tolerance.Run(c, res.Spec, brief); err != nil {
+				return fmt.Errorf("yield of candidate: %w", err)
+			}
+		}
+	}
+	if co.yield && len(res.Candidates) > 0 {
+		rankByYield(res.Candidates, fc)
+		if co.rankYield {
+			sort.SliceStable(res.Candidates, func(a, b int) bool {
+				return fc.byCan[res.Candidates[a]].yieldRank < fc.byCan[res.Candidates[b]].yieldRank
+			})
+			res.Notes = append(res.Notes, "--rank yield: the candidates the balanced search kept are listed by simulated yield, highest first; equal yields keep the balanced order. Yields whose intervals overlap are not clearly different.")
+		}
+		// The best candidate gets the full analysis: corners, computed
+		// advice, the forecast for --boards and the refit. The same seed
+		// gives it the same yield as in the ranking.
+		best := res.Candidates[0]
+		full := topt
+		full.Refit = refitFor(run, best)
+		r, err := tolerance.Run(best, res.Spec, full)
+		if err != nil {
+			return fmt.Errorf("yield of the best candidate: %w", err)
+		}
+		fc.byCan[best].yield = r
+	}
+	if co.tol.biasResistor && len(res.Candidates) > 0 {
+		res.Notes = append(res.Notes, "bias-current compensation resistors (--bias-resistor) go from each follower's output to its - input; no signal current flows in them, so they do not change the response.")
+	}
+	if co.report != "" || co.png != "" {
+		return writeFitSheet(env, o, run)
+	}
+	return nil
+}
+
+// rankByYield gives every candidate its place by yield: most passing
+// trials first, ties in list order.
+func rankByYield(cands []*optimize.Candidate, fc *fitChecks) {
+	idx := make([]int, len(cands))
+	for i := range idx {
+		idx[i] = i
+	}
+	sort.SliceStable(idx, func(a, b int) bool {
+		return fc.byCan[cands[idx[a]]].yield.Passed > fc.byCan[cands[idx[b]]].yield.Passed
+	})
+	for place, i := range idx {
+		fc.byCan[cands[i]].yieldRank = place + 1
+	}
+}
+
+// refitFor fits the same order and arrangement as c again for a modified
+// specification, from the same stock and with the same options.
+func refitFor(run *fitRun, c *optimize.Candidate) tolerance.RefitFunc {
+	if run.items == nil {
+		return nil
+	}
+	return func(spec synth.Spec) (*optimize.Candidate, error) {
+		opt := run.opts
+		odd := c.Design.Odd
+		spec.Order, spec.Odd = c.Design.Order, odd
+		opt.Odd, opt.MaxOrder, opt.Top, opt.Progress, opt.ShowFailing = &odd, c.Design.Order, 1, nil, false
+		res, err := optimize.Fit(run.items, spec, opt)
+		if err != nil {
+			return nil, err
+		}
+		for _, nc := range res.Candidates {
+			if nc.Arrangement() == c.Arrangement() {
+				return nc, nil
+			}
+		}
+		return nil, fault.Infeasiblef("the stock has no order-%d %s design for the moved edge", c.Design.Order, c.Arrangement())
+	}
+}
+
+// biasRow is a stock resistor row and how many of its parts are left for
+// the bias resistors after the candidate's own parts for every board.
+type biasRow struct {
+	part optimize.Part
+	left int
+}
+
+// fitBiasResistors computes each section's bias-current compensation
+// resistor and fits it from the resistor rows the search could use (the
+// same value range and stock), single parts or, with --combine 2, pairs in
+// series or parallel, taking only parts the candidate leaves over for the
+// batch. The second result explains a failure.
+func fitBiasResistors(c *optimize.Candidate, run *fitRun) ([]fittedBias, string) {
+	brs, err := tolerance.BiasResistors(c)
+	if err != nil {
+		return nil, fmt.Sprintf("bias-current compensation resistors: %v", err)
+	}
+	boards := max(run.opts.Boards, 1)
+	used := map[int64]int{}
+	for _, u := range c.StockUse {
+		used[u.StockID] += u.PerBoard * boards
+	}
+	var rows []*biasRow
+	for _, it := range run.items {
+		if it.Kind != stock.Resistor || it.Value < run.opts.RMin*(1-1e-12) || it.Value > run.opts.RMax*(1+1e-12) {
+			continue
+		}
+		rows = append(rows, &biasRow{
+			part: optimize.Part{StockID: it.ID, Value: it.Value, Tolerance: it.Tolerance, Location: it.Location, Package: it.Package},
+			left: it.Quantity - used[it.ID]})
+	}
+	sort.SliceStable(rows, func(a, b int) bool { return rows[a].part.Value < rows[b].part.Value })
+	out := make([]fittedBias, 0, len(brs))
+	for _, b := range brs {
+		fb := fittedBias{BiasResistor: b}
+		fb.Part = nearestBias(b.Ohms, rows, boards, run.opts.Combine)
+		fb.Part.Ref = fmt.Sprintf("Rfb%d", b.Section)
+		fb.Part.Symbol = "Rfb"
+		fb.Part.Kind = synth.Resistor
+		for _, p := range fb.Part.Parts {
+			for _, r := range rows {
+				if r.part.StockID == p.StockID {
+					r.left -= boards
+				}
+			}
+		}
+		out = append(out, fb)
+	}
+	return out, ""
+}
+
+// nearestBias returns the realisable value nearest to target (relative
+// error; ties: fewer parts) from rows sorted by value, each part needing
+// boards parts left in its row. It returns an empty component when
+// nothing is available.
+func nearestBias(target float64, rows []*biasRow, boards, combine int) optimize.Component {
+	var avail []*biasRow
+	for _, r := range rows {
+		if r.left >= boards {
+			avail = append(avail, r)
+		}
+	}
+	var best optimize.Component
+	bestErr := math.Inf(1)
+	consider := func(v float64, arr synth.Arrangement, parts ...optimize.Part) {
+		e := math.Abs(v/target - 1)
+		// Ties (within rounding) go to fewer parts.
+		if e < bestErr-1e-12 || (e <= bestErr+1e-12 && len(parts) < len(best.Parts)) {
+			bestErr = e
+			best = optimize.Component{Value: v, Arrangement: arr, Parts: append([]optimize.Part(nil), parts...)}
+		}
+	}
+	for _, r := range avail {
+		consider(r.part.Value, synth.Single, r.part)
+	}
+	if combine < 2 || len(avail) == 0 {
+		return best
+	}
+	vals := make([]float64, len(avail))
+	for i, r := range avail {
+		vals[i] = r.part.Value
+	}
+	// For a fixed first part the pair's value is monotonic in the second,
+	// so the nearest pair has its second part next to the ideal partner.
+	tryPartner := func(i int, ideal float64, arr synth.Arrangement) {
+		if !(ideal > 0) || math.IsInf(ideal, 0) {
+			return
+		}
+		k := sort.SearchFloat64s(vals, ideal)
+		ok := func(j int) bool { return j != i || avail[i].left >= 2*boards }
+		for j := k - 1; j >= 0; j-- {
+			if ok(j) {
+				consider(synth.Resistor.Combine(arr, vals[i], vals[j]), arr, avail[i].part, avail[j].part)
+				break
+			}
+		}
+		for j := k; j < len(vals); j++ {
+			if ok(j) {
+				consider(synth.Resistor.Combine(arr, vals[i], vals[j]), arr, avail[i].part, avail[j].part)
+				break
+			}
+		}
+	}
+	for i, a := range vals {
+		tryPartner(i, target-a, synth.Series)
+		if a > target {
+			tryPartner(i, 1/(1/target-1/a), synth.Parallel)
+		}
+	}
+	return best
+}
+
+// printFitTable adds the checks' columns to the candidate table, renders
+// it and explains the columns.
+func (fc *fitChecks) printTable(env *Env, w io.Writer, g *grid, cands []*optimize.Candidate) {
+	if fc == nil || len(cands) == 0 {
+		g.render(env, w)
+		return
+	}
+	n := len(g.header)
+	if fc.opts.yield {
+		g.header = append(g.header, "yield", "95% interval", "by yield")
+		g.right(n, n+1, n+2)
+		n += 3
+	}
+	if fc.op != nil {
+		g.header = append(g.header, "op-amp dB", "GBW rule")
+		g.right(n)
+	}
+	warned := false
+	for i, c := range cands {
+		if i >= len(g.rows) {
+			break
+		}
+		cc := fc.byCan[c]
+		if cc == nil {
+			continue
+		}
+		if fc.opts.yield && cc.yield != nil {
+			y := yieldPct(cc.yield.Yield)
+			if len(cc.yield.Warnings) > 0 {
+				y += " !"
+				warned = true
+			}
+			g.rows[i] = append(g.rows[i], y, yieldPct(cc.yield.CILow)+" to "+yieldPct(cc.yield.CIHigh), strconv.Itoa(cc.yieldRank))
+		}
+		if fc.op != nil && cc.opAmp != nil {
+			low := 0
+			for _, s := range cc.opAmp.Sections {
+				if !s.OK {
+					low++
+				}
+			}
+			rule := "met"
+			if low > 0 {
+				rule = fmt.Sprintf("%d of %d below", low, len(cc.opAmp.Sections))
+			}
+			g.rows[i] = append(g.rows[i], formatDB(cc.opAmp.BandError, 3), rule)
+		}
+	}
+	g.render(env, w)
+	if fc.opts.yield {
+		r := fc.byCan[cands[0]].yield
+		how := "uniform within"
+		if r.Dist == tolerance.Normal {
+			how = "normal, tolerance = 3 sigma, about"
+		}
+		fmt.Fprintf(w, "\nyield = share of %d simulated boards per candidate that meet the specification (parts %s their stock tolerances, seed %d, the same draws for every candidate); 95%% Wilson interval; 'by yield' = place among the listed candidates.\n",
+			r.Trials, how, r.Seed)
+		if warned {
+			fmt.Fprintln(w, "'!' = the yield analysis warns about this candidate (for #1 the warning is below; all are in --json).")
+		}
+	}
+	if fc.op != nil {
+		fmt.Fprintf(w, "op-amp dB = largest response change a single-pole op-amp of %s gain-bandwidth and %.0f dB DC gain adds; GBW rule = sections whose gain-bandwidth is below the rule of %s.\n",
+			yieldHz(fc.op.GBW), 20*math.Log10(fc.op.DCGain), tolerance.GBWRuleSource)
+	}
+}
+
+// printFitChecks writes the checks of candidate c (the best) below its
+// detail.
+func printFitChecks(env *Env, w io.Writer, run *fitRun, c *optimize.Candidate) {
+	cc := run.checks.of(c)
+	if cc == nil {
+		return
+	}
+	if len(cc.bias) > 0 {
+		fmt.Fprintln(w, "Bias-current compensation (for bipolar-input op-amps): one resistor per follower from its output to its - input, equal to the section's DC source resistance; it does not change the response")
+		g := newGrid("ref", "section", "needs", "from", "value", "made of", "bins", "tolerance", "off by").right(1, 2, 4, 8)
+		for _, b := range cc.bias {
+			if len(b.Part.Parts) == 0 {
+				g.add(b.Part.Ref, strconv.Itoa(b.Section), formatPart(b.Ohms, synth.Resistor), b.Path, "-", "nothing left in stock", "-", "-", "-")
+				continue
+			}
+			var bins []string
+			for _, p := range b.Part.Parts {
+				bins = append(bins, orDash(p.Location))
+			}
+			g.add(b.Part.Ref, strconv.Itoa(b.Section), stock.FormatValuePrec(b.Ohms, stock.Resistor, 4), b.Path,
+				formatPart(b.Part.Value, synth.Resistor), report.MadeOf(b.Part), strings.Join(bins, ", "),
+				fmtTol(b.Part.Tolerance()), offBy(b.Part.Value, b.Ohms))
+		}
+		g.render(env, w)
+	}
+	if op := cc.opAmp; op != nil {
+		fmt.Fprintf(w, "Op-amp: %s gain-bandwidth, %.0f dB DC gain (single-pole model): the response changes by up to %.3f dB (%.3f dB in the passband)\n",
+			yieldHz(op.GBW), 20*math.Log10(op.DCGain), op.BandError, op.PassbandError)
+		g := newGrid("section", "f0", "Q", "needs GBW", "ok", "change").right(0, 1, 2, 3, 5)
+		rules := []string{}
+		seen := map[string]bool{}
+		for _, s := range op.Sections {
+			ok := "yes"
+			if !s.OK {
+				ok = "NO"
+			}
+			q := "-"
+			if s.Q != 0 {
+				q = strconv.FormatFloat(s.Q, 'f', 3, 64)
+			}
+			g.add(strconv.Itoa(s.Section), yieldHz(s.F0), q, yieldHz(s.RequiredGBW), ok, formatDB(s.ErrorDB, 3)+" dB")
+			if !seen[s.Rule] {
+				seen[s.Rule] = true
+				rules = append(rules, s.Rule)
+			}
+		}
+		g.render(env, w)
+		fmt.Fprintf(w, "Rule used (%s): %s\n", op.Rule, strings.Join(rules, "; "))
+	}
+	if r := cc.yield; r != nil {
+		fmt.Fprintf(w, "Yield: %s of %d simulated boards pass (95%% interval %s to %s), seed %d; %d fail at the passband limit, %d at the stopband limit\n",
+			yieldPct(r.Yield), r.Trials, yieldPct(r.CILow), yieldPct(r.CIHigh), r.Seed, r.FailPassband, r.FailStopband)
+		if b := r.Boards; b != nil {
+			fmt.Fprintf(w, "Of %d boards built, expect about %.0f to pass (95%% range %d to %d)\n", b.Built, b.Expected, b.Low, b.High)
+		}
+		var blame []string
+		for _, b := range r.Blame {
+			if b.Share < 0.005 || len(blame) == 3 {
+				break
+			}
+			blame = append(blame, fmt.Sprintf("%s of section %d %s", b.Ref, b.Section, yieldPct(b.Share)))
+		}
+		if len(blame) > 0 {
+			fmt.Fprintln(w, "Failures come mostly from: "+strings.Join(blame, ", "))
+		}
+		for _, a := range r.Advice {
+			fmt.Fprintln(w, a)
+		}
+	}
+	for _, s := range cc.warnings() {
+		fmt.Fprintln(w, "Warning: "+s)
+	}
+}
+
+// offBy writes how far v is from want, in percent.
+func offBy(v, want float64) string {
+	d := 100 * (v/want - 1)
+	s := strconv.FormatFloat(d, 'f', 2, 64)
+	if s == "-0.00" {
+		s = "0.00"
+	}
+	if d > 0 && s != "0.00" {
+		s = "+" + s
+	}
+	return s + "%"
+}
+
+// JSON of the checks, per candidate (omitted when not run).
+
+type jsonYield struct {
+	Yield        float64              `json:"yield"`
+	CILow        float64              `json:"ci_low"`
+	CIHigh       float64              `json:"ci_high"`
+	Trials       int                  `json:"trials"`
+	Passed       int                  `json:"passed"`
+	Seed         uint64               `json:"seed"`
+	Dist         string               `json:"dist"`
+	PassMargin   float64              `json:"pass_margin_db"`
+	StopMargin   float64              `json:"stop_margin_db"`
+	RankByYield  int                  `json:"rank_by_yield"`
+	FailPassband int                  `json:"fail_passband"`
+	FailStopband int                  `json:"fail_stopband"`
+	Blame        []tolerance.Blame    `json:"blame"`
+	Unattributed float64              `json:"unattributed"`
+	Boards       *tolerance.Boards    `json:"boards,omitempty"`
+	Needed       *tolerance.Margins   `json:"needed_margin,omitempty"`
+	WorstCase    *tolerance.WorstCase `json:"worst_case,omitempty"`
+	Refit        *tolerance.Refit     `json:"refit,omitempty"`
+	Advice       []string             `json:"advice,omitempty"`
+}
+
+// jsonOpAmp is the op-amp check of one candidate.
+type jsonOpAmp = tolerance.OpAmpReport
+
+type jsonBias struct {
+	Section     int           `json:"section"`
+	Ref         string        `json:"ref"`
+	TargetOhms  float64       `json:"target_ohms"`
+	Path        string        `json:"path"`
+	Value       float64       `json:"value"`
+	Arrangement string        `json:"arrangement,omitempty"`
+	Tolerance   float64       `json:"tolerance"`
+	Parts       []jsonPartUse `json:"parts"`
+}
+
+// fillJSON adds candidate c's check results to jc.
+func (fc *fitChecks) fillJSON(jc *jsonCandidate, c *optimize.Candidate) {
+	cc := fc.of(c)
+	if cc == nil {
+		return
+	}
+	jc.Warnings = cc.warnings()
+	jc.OpAmp = cc.opAmp
+	if r := cc.yield; r != nil {
+		jy := &jsonYield{Yield: r.Yield, CILow: r.CILow, CIHigh: r.CIHigh, Trials: r.Trials, Passed: r.Passed,
+			Seed: r.Seed, Dist: string(r.Dist), PassMargin: r.PassMargin, StopMargin: r.StopMargin,
+			RankByYield: cc.yieldRank, FailPassband: r.FailPassband, FailStopband: r.FailStopband,
+			Blame: r.Blame, Unattributed: r.Unattributed, Boards: r.Boards, Needed: r.Needed,
+			WorstCase: r.WorstCase, Refit: r.Refit, Advice: r.Advice}
+		if jy.Blame == nil {
+			jy.Blame = []tolerance.Blame{}
+		}
+		jc.Yield = jy
+	}
+	for _, b := range cc.bias {
+		jb := jsonBias{Section: b.Section, Ref: b.Part.Ref, TargetOhms: b.Ohms, Path: b.Path, Value: b.Part.Value,
+			Parts: []jsonPartUse{}}
+		if len(b.Part.Parts) > 0 {
+			jb.Arrangement, jb.Tolerance = b.Part.Arrangement.String(), b.Part.Tolerance()
+		}
+		for _, p := range b.Part.Parts {
+			jb.Parts = append(jb.Parts, jsonPartUse{StockID: p.StockID, Value: p.Value, Location: p.Location})
+		}
+		jc.BiasResistors = append(jc.BiasResistors, jb)
+	}
+}
+
+// fitSheet is the build sheet of run's best candidate.
+func fitSheet(env *Env, o *fitOptions, run *fitRun) *report.Sheet {
+	c := run.result.Candidates[0]
+	cc := run.checks.of(c)
+	s := &report.Sheet{Spec: report.SpecLine(c.Design), Boards: max(o.boards, 1), Date: env.Now(),
+		StockDB: run.source, Candidate: c, Generator: "drawerfit"}
+	if version != "" {
+		s.Generator += " " + version
+	}
+	if cc == nil {
+		return s
+	}
+	s.Warnings = cc.warnings()
+	if op := cc.opAmp; op != nil {
+		s.Notes = append(s.Notes, fmt.Sprintf("Op-amp check: a single-pole op-amp of %s gain-bandwidth and %.0f dB DC gain changes the response by up to %.3f dB (%.3f dB in the passband); gain-bandwidth rule of %s.",
+			yieldHz(op.GBW), 20*math.Log10(op.DCGain), op.BandError, op.PassbandError, op.Rule))
+	}
+	if len(cc.bias) > 0 {
+		s.Picks = report.DerivePicks(c, s.Boards)
+		for _, b := range cc.bias {
+			if len(b.Part.Parts) == 0 {
+				s.Notes = append(s.Notes, fmt.Sprintf("Bias-current compensation, section %d: %s (%s) wanted from the follower's output to its - input; nothing suitable is left in stock.",
+					b.Section, stock.FormatValuePrec(b.Ohms, stock.Resistor, 4), b.Path))
+				continue
+			}
+			s.Notes = append(s.Notes, fmt.Sprintf("Bias-current compensation (optional, for bipolar-input op-amps), section %d: %s = %s (%s, bins %s) from the follower's output to its - input, matching the DC source resistance %s (%s); it does not change the response.",
+				b.Section, b.Part.Ref, report.Value(b.Part), report.MadeOf(b.Part), biasBins(b.Part),
+				stock.FormatValuePrec(b.Ohms, stock.Resistor, 4), b.Path))
+			s.Picks = addBiasPicks(s.Picks, b.Part, s.Boards)
+		}
+	}
+	if r := cc.yield; r != nil {
+		s.Yield = report.YieldFrom(r)
+		s.Yield.Bands = []respplot.Band{report.Envelope(c, report.EnvelopeOptions{Trials: r.Trials, Seed: r.Seed, Normal: r.Dist == tolerance.Normal})}
+	}
+	return s
+}
+
+func biasBins(c optimize.Component) string {
+	var bins []string
+	for _, p := range c.Parts {
+		bins = append(bins, orDash(p.Location))
+	}
+	return strings.Join(bins, ", ")
+}
+
+// addBiasPicks adds the parts of a bias resistor to a pick list, on the
+// line of their stock row when there is one.
+func addBiasPicks(picks []report.PickLine, comp optimize.Component, boards int) []report.PickLine {
+	for k, p := range comp.Parts {
+		ref := comp.Ref
+		if len(comp.Parts) > 1 {
+			ref += string(rune('a' + k))
+		}
+		found := false
+		for i := range picks {
+			if picks[i].StockID == p.StockID && picks[i].Location == p.Location {
+				picks[i].Quantity += boards
+				picks[i].Refs = append(picks[i].Refs, ref)
+				found = true
+				break
+			}
+		}
+		if !found {
+			v := report.PartValue(synth.Resistor, p)
+			if p.Tolerance > 0 {
+				v += " " + strconv.FormatFloat(100*p.Tolerance, 'g', 3, 64) + " %"
+			}
+			if p.Package != "" {
+				v += " " + p.Package
+			}
+			picks = append(picks, report.PickLine{Location: p.Location, StockID: p.StockID, Value: v, Quantity: boards, Refs: []string{ref}})
+		}
+	}
+	sort.SliceStable(picks, func(a, b int) bool {
+		if picks[a].Location != picks[b].Location {
+			return picks[a].Location < picks[b].Location
+		}
+		return picks[a].StockID < picks[b].StockID
+	})
+	return picks
+}
+
+// writeFitSheet writes --report and --png for the best candidate.
+func writeFitSheet(env *Env, o *fitOptions, run *fitRun) error {
+	if len(run.result.Candidates) == 0 {
+		fmt.Fprintln(env.Err, "drawerfit: no candidate to write a build sheet for")
+		return nil
+	}
+	s := fitSheet(env, o, run)
+	return writeSheetFiles(env, s, o.checks.report, o.checks.png, "")
+}
+
+// writeSheetFiles writes the sheet to path (atomically) and its plots as
+// PNG files into pngDir (created if needed); either may be empty.
+func writeSheetFiles(env *Env, s *report.Sheet, path, pngDir, prefix string) error {
+	if path != "" {
+		// Render first, so that a failure leaves no file behind.
+		b, err := report.HTML(s)
+		if err != nil {
+			return fmt.Errorf("build sheet: %w", err)
+		}
+		if err := writeFileAtomic(path, func(w io.Writer) error { _, err := w.Write(b); return err }); err != nil {
+			return err
+		}
+		fmt.Fprintln(env.Err, "drawerfit: build sheet written to "+path)
+	}
+	if pngDir != "" {
+		if err := os.MkdirAll(pngDir, 0o755); err != nil {
+			return fmt.Errorf("plot directory: %w", err)
+		}
+		files, err := report.WritePNGs(s, pngDir, prefix)
+		if err != nil {
+			return fmt.Errorf("plots: %w", err)
+		}
+		fmt.Fprintln(env.Err, "drawerfit: plots written to "+strings.Join(files, ", "))
+	}
+	return nil
+}
