@@ -420,8 +420,11 @@ func markPareto(cs []*Candidate) {
 			if a == b {
 				continue
 			}
-			if b.ResponseError <= a.ResponseError && b.PartCount <= a.PartCount && b.UniqueParts <= a.UniqueParts &&
-				(b.ResponseError < a.ResponseError || b.PartCount < a.PartCount || b.UniqueParts < a.UniqueParts) {
+			// Errors within 1e-9 dB are equal (float noise of equal circuits).
+			le := b.ResponseError <= a.ResponseError+1e-9
+			lt := b.ResponseError < a.ResponseError-1e-9
+			if le && b.PartCount <= a.PartCount && b.UniqueParts <= a.UniqueParts &&
+				(lt || b.PartCount < a.PartCount || b.UniqueParts < a.UniqueParts) {
 				a.Pareto = false
 				break
 			}

@@ -22,6 +22,16 @@ type sectionCand struct {
 	tol   float64 // sum of the positions' effective tolerances (a tie-break: tighter parts first)
 }
 
+// symmetricPair returns the two elements a topology's response does not
+// tell apart (its transfer function depends on their sum and product).
+func symmetricPair(t *synth.Topology) (int, int, bool) {
+	switch t {
+	case &synth.SallenKeyLowPass, &synth.SallenKeyHighPass:
+		return 0, 1, true
+	}
+	return 0, 0, false
+}
+
 // realTolerance is the effective relative tolerance of one realisation
 // (Component.Tolerance of its parts).
 func realTolerance(k synth.PartKind, re *real, rows []Row) float64 {
@@ -115,6 +125,9 @@ func (s *shortlist) add(c sectionCand) {
 	}
 	same, worst := 0, -1
 	for i := range cl {
+		if cl[i].reals == c.reals {
+			return // the same assignment, offered twice (seed and search)
+		}
 		if cl[i].vals == c.vals {
 			same++
 			worst = i // cl is sorted, so the last match is the worst
@@ -284,6 +297,13 @@ func (w *worker) maxLimit(cp int8, nres int) float64 {
 func (w *worker) offer() {
 	s := w.s
 	n := len(s.t.topo.Elements)
+	// The Sallen-Key responses are symmetric in one pair of elements (R1,
+	// R2 of the low-pass; C1, C2 of the high-pass): keep the larger value
+	// first so that one circuit has one form.
+	if i, j, ok := symmetricPair(s.t.topo); ok && (w.v[j] > w.v[i] || (w.v[j] == w.v[i] && w.r[j] > w.r[i])) {
+		w.v[i], w.v[j] = w.v[j], w.v[i]
+		w.r[i], w.r[j] = w.r[j], w.r[i]
+	}
 	var parts int8
 	for i := 0; i < n; i++ {
 		parts += w.realOf(i).n
@@ -562,69 +582,84 @@ func (w *worker) skLowPassClass(g int, cgR *real, big, small *valueSet, same boo
 }
 
 // searchSallenKeyHighPass: the response depends on C1+C2 and C1·C2 (so
-// C1 >= C2), w0² = 1/(Rf Rg C1 C2) and Q² = Rg C1 C2 / (Rf (C1+C2)²); the
-// box bounds the product Rf·Rg and the ratio Rg/Rf. Each class of
-// resistor realisations (single or pair, per position) has its own box.
+// C1 >= C2), with w0² = 1/(Rf Rg C1 C2) and Q = √(Rf Rg C1 C2)/(Rf (C1+C2)).
+// Rf·(C1+C2) = 1/(w0 Q) depends on w0·Q only, so for a given C1 the box in
+// (ln w0, ln Q) bounds Rf, and for each Rf a window of C2; for each
+// (C1, C2, Rf) the box bounds Rg through w0 and through Q. Rf is walked
+// descending so that the C2 window only moves up (two pointers). Resistor
+// classes (single or pair, per position) are searched separately with the
+// loosest box over the classes they can end in.
 func (w *worker) searchSallenKeyHighPass(part, of int) {
 	s := w.s
 	t := s.t
 	w0t, qt := t.w0, t.q
-	for c1 := part; c1 < len(s.cap.reals); c1 += of {
+	caps := s.cap.vals
+	for c1 := part; c1 < len(caps); c1 += of {
 		c1R := &s.cap.reals[c1]
 		C1 := c1R.value
-		b := w.box(w.maxLimit(c1R.n+1, 2))
-		// Rmin² <= Rf·Rg <= Rmax² bounds C1·C2.
-		c2Lo := math.Exp(-2*b.xhi) / (w0t * w0t * s.rmax * s.rmax * C1)
-		c2Hi := math.Min(C1, math.Exp(-2*b.xlo)/(w0t*w0t*s.rmin*s.rmin*C1))
-		g0, g1 := s.cap.span(c2Lo, c2Hi)
-		if g1 > c1+1 {
-			g1 = c1 + 1
-		}
-		w.diag.capSets += len(s.cap.reals)
-		w.diag.ratioOK += g1 - g0
-		for c2 := g0; c2 < g1; c2++ {
-			c2R := &s.cap.reals[c2]
-			C2 := c2R.value
-			w.v[0], w.v[1] = C1, C2
-			w.r[0], w.r[1] = int32(c1), int32(c2)
-			k := C1 * C2 * w0t * w0t
-			sum2 := (C1 + C2) * (C1 + C2) / (C1 * C2)
-			any := false
-			for nf := 1; nf <= 2; nf++ {
-				for ng := 1; ng <= 2; ng++ {
-					fs, gs := s.res.sub[nf], s.res.sub[ng]
-					parts := c1R.n + c2R.n + int8(nf+ng)
-					b := w.box(w.list.limit(parts, s.ceiling))
-					pLo, pHi := math.Exp(-2*b.xhi)/k, math.Exp(-2*b.xlo)/k
-					rhoLo := qt * qt * math.Exp(2*b.ylo) * sum2
-					rhoHi := qt * qt * math.Exp(2*b.yhi) * sum2
-					i0, i1 := fs.span(math.Sqrt(pLo/rhoHi), math.Sqrt(pHi/rhoLo))
-					if i0 < i1 {
-						any = true
+		w.diag.capSets += c1 + 1
+		any := false
+		for nf := 1; nf <= 2; nf++ {
+			fs := s.res.sub[nf]
+			var lim float64
+			for c2n := int8(1); c2n <= 2; c2n++ {
+				for ng := int8(1); ng <= 2; ng++ {
+					lim = math.Max(lim, w.list.limit(c1R.n+c2n+int8(nf)+ng, s.ceiling))
+				}
+			}
+			b := w.box(lim)
+			aLo := math.Exp(-(b.xhi+b.yhi)) / (w0t * qt)
+			aHi := math.Exp(-(b.xlo+b.ylo)) / (w0t * qt)
+			top := sort.Search(len(fs.vals), func(i int) bool { return fs.vals[i] > aHi/C1 })
+			jl, jh := 0, 0
+			for rf := top - 1; rf >= 0; rf-- {
+				Rf := fs.vals[rf]
+				if Rf < aLo/(2*C1) {
+					break
+				}
+				lo, hi := aLo/Rf-C1, aHi/Rf-C1
+				for jl <= c1 && caps[jl] < lo {
+					jl++
+				}
+				for jh <= c1 && caps[jh] <= hi {
+					jh++
+				}
+				for c2 := jl; c2 < jh; c2++ {
+					c2R := &s.cap.reals[c2]
+					C2 := c2R.value
+					sum, prod := C1+C2, C1*C2
+					rgLo := math.Max(b.e2xhi/(w0t*w0t*Rf*prod), qt*qt*b.eylo*b.eylo*Rf*sum*sum/prod)
+					rgHi := math.Min(b.e2xlo/(w0t*w0t*Rf*prod), qt*qt*b.eyhi*b.eyhi*Rf*sum*sum/prod)
+					if rgLo > rgHi {
+						continue
 					}
-					for rf := i0; rf < i1; rf++ {
-						Rf := fs.vals[rf]
-						j0, j1 := gs.span(math.Max(pLo/Rf, rhoLo*Rf), math.Min(pHi/Rf, rhoHi*Rf))
-						for rg := j0; rg < j1; rg++ {
+					for ng := 1; ng <= 2; ng++ {
+						gs := s.res.sub[ng]
+						g0, g1 := gs.span(rgLo, rgHi)
+						if g0 < g1 {
+							any = true
+						}
+						parts := c1R.n + c2R.n + int8(nf+ng)
+						for rg := g0; rg < g1; rg++ {
 							Rg := gs.vals[rg]
+							cb := w.classBox(parts)
 							P := Rf * Rg
-							x := math.Log(1 / (math.Sqrt(P*C1*C2) * w0t))
-							y := math.Log(math.Sqrt(Rg*C1*C2/Rf) / (C1 + C2) / qt)
-							if x < b.xlo || x > b.xhi || y < b.ylo || y > b.yhi {
+							x := math.Log(1 / (math.Sqrt(P*prod) * w0t))
+							y := math.Log(math.Sqrt(Rg*prod/Rf) / sum / qt)
+							if x < cb.xlo || x > cb.xhi || y < cb.ylo || y > cb.yhi {
 								continue
 							}
-							w.v[2], w.v[3] = Rf, Rg
-							w.r[2], w.r[3] = fs.global[rf], gs.global[rg]
+							w.v[0], w.v[1], w.v[2], w.v[3] = C1, C2, Rf, Rg
+							w.r[0], w.r[1], w.r[2], w.r[3] = int32(c1), int32(c2), fs.global[rf], gs.global[rg]
 							w.offer()
 						}
-						// The box may have shrunk after an offer.
-						b = w.box(w.list.limit(parts, s.ceiling))
 					}
 				}
 			}
-			if any {
-				w.diag.inRange++
-			}
+		}
+		if any {
+			w.diag.ratioOK++
+			w.diag.inRange++
 		}
 	}
 }
