@@ -15,12 +15,12 @@ import (
 	"drawerfit/synth"
 )
 
-// sampleStock is the bundled sample drawer, relative to this package.
-const sampleStock = "../../../sample-stock.csv"
+// checksStock is the bundled sample drawer, relative to this package.
+const checksStock = "../../../sample-stock.csv"
 
-// runFitCmd runs drawerfit in-process with args and returns the exit
+// runChecksFit runs drawerfit in-process with args and returns the exit
 // status, stdout and stderr.
-func runFitCmd(t *testing.T, args ...string) (int, string, string) {
+func runChecksFit(t *testing.T, args ...string) (int, string, string) {
 	t.Helper()
 	var out, errb bytes.Buffer
 	env := &Env{
@@ -32,10 +32,10 @@ func runFitCmd(t *testing.T, args ...string) (int, string, string) {
 	return code, out.String(), errb.String()
 }
 
-// fitJSONOut runs a fit that must succeed with --json and decodes it.
-func fitJSONOut(t *testing.T, args ...string) jsonFit {
+// checksFitJSON runs a fit that must succeed with --json and decodes it.
+func checksFitJSON(t *testing.T, args ...string) jsonFit {
 	t.Helper()
-	code, out, errs := runFitCmd(t, append(append([]string(nil), args...), "--json")...)
+	code, out, errs := runChecksFit(t, append(append([]string(nil), args...), "--json")...)
 	if code != 0 {
 		t.Fatalf("drawerfit %s: exit %d\n%s", strings.Join(args, " "), code, errs)
 	}
@@ -49,15 +49,15 @@ func fitJSONOut(t *testing.T, args ...string) jsonFit {
 	return f
 }
 
-// argsWith returns a new slice: base followed by extra.
-func argsWith(base []string, extra ...string) []string {
+// checksArgs returns a new slice: base followed by extra.
+func checksArgs(base []string, extra ...string) []string {
 	return append(append([]string(nil), base...), extra...)
 }
 
-// wilson is the Wilson score interval (E. B. Wilson, "Probable inference,
+// wilsonRef is the Wilson score interval (E. B. Wilson, "Probable inference,
 // the law of succession, and statistical inference", JASA 22, 1927),
 // written out here from the paper's formula as an independent check.
-func wilson(k, n int) (lo, hi float64) {
+func wilsonRef(k, n int) (lo, hi float64) {
 	const z = 1.959964 // 97.5 % normal quantile (two-sided 95 %)
 	p, nf := float64(k)/float64(n), float64(n)
 	c := (p + z*z/(2*nf)) / (1 + z*z/nf)
@@ -69,8 +69,8 @@ func TestFitYieldText(t *testing.T) {
 	// A 2nd-order Butterworth places its -3 dB point on fp by construction,
 	// so its nominal sits on the passband limit (issue text: about half the
 	// boards fail).
-	code, out, errs := runFitCmd(t, "fit", "lowpass", "--pass", "10k", "--order", "2", "--combine", "1",
-		"--stock", sampleStock, "--top", "3", "--yield", "--trials", "300", "--seed", "4")
+	code, out, errs := runChecksFit(t, "fit", "lowpass", "--pass", "10k", "--order", "2", "--combine", "1",
+		"--stock", checksStock, "--top", "3", "--yield", "--trials", "300", "--seed", "4")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
@@ -103,8 +103,8 @@ func TestFitYieldText(t *testing.T) {
 
 func TestFitYieldJSON(t *testing.T) {
 	args := []string{"fit", "lowpass", "--pass", "1k", "--stop", "3k", "--atten", "25", "--order", "3", "--odd", "1pole", "--combine", "1",
-		"--stock", sampleStock, "--top", "4", "--yield", "--trials", "250", "--seed", "11"}
-	f := fitJSONOut(t, args...)
+		"--stock", checksStock, "--top", "4", "--yield", "--trials", "250", "--seed", "11"}
+	f := checksFitJSON(t, args...)
 	for i, c := range f.Candidates {
 		y := c.Yield
 		if y == nil {
@@ -113,7 +113,7 @@ func TestFitYieldJSON(t *testing.T) {
 		if y.Trials != 250 || y.Seed != 11 {
 			t.Errorf("candidate %d: trials %d seed %d, want 250 and 11", i+1, y.Trials, y.Seed)
 		}
-		lo, hi := wilson(y.Passed, y.Trials)
+		lo, hi := wilsonRef(y.Passed, y.Trials)
 		if math.Abs(y.Yield-float64(y.Passed)/250) > 1e-12 || math.Abs(y.CILow-lo) > 1e-6 || math.Abs(y.CIHigh-hi) > 1e-6 {
 			t.Errorf("candidate %d: yield %v [%v, %v], want %v [%v, %v] (Wilson)", i+1, y.Yield, y.CILow, y.CIHigh,
 				float64(y.Passed)/250, lo, hi)
@@ -131,7 +131,7 @@ func TestFitYieldJSON(t *testing.T) {
 	}
 	// The raw keys the issue asks for.
 	withJSON := append(append([]string(nil), args...), "--json")
-	_, out, _ := runFitCmd(t, withJSON...)
+	_, out, _ := runChecksFit(t, withJSON...)
 	var raw struct {
 		Candidates []map[string]json.RawMessage `json:"candidates"`
 	}
@@ -148,19 +148,19 @@ func TestFitYieldJSON(t *testing.T) {
 		}
 	}
 	// Without --yield there is no yield key.
-	plain := fitJSONOut(t, append([]string(nil), args[:len(args)-5]...)...)
+	plain := checksFitJSON(t, append([]string(nil), args[:len(args)-5]...)...)
 	if plain.Candidates[0].Yield != nil {
 		t.Error("yield object without --yield")
 	}
 	// Same seed, same answer.
-	if _, again, _ := runFitCmd(t, withJSON...); again != out {
+	if _, again, _ := runChecksFit(t, withJSON...); again != out {
 		t.Error("same seed, different output")
 	}
 }
 
 func TestFitRankYield(t *testing.T) {
-	f := fitJSONOut(t, "fit", "lowpass", "--pass", "1k", "--stop", "3k", "--atten", "25", "--order", "3", "--odd", "1pole", "--combine", "1",
-		"--stock", sampleStock, "--top", "5", "--rank", "yield", "--trials", "250")
+	f := checksFitJSON(t, "fit", "lowpass", "--pass", "1k", "--stop", "3k", "--atten", "25", "--order", "3", "--odd", "1pole", "--combine", "1",
+		"--stock", checksStock, "--top", "5", "--rank", "yield", "--trials", "250")
 	for i, c := range f.Candidates {
 		if c.Yield == nil {
 			t.Fatalf("--rank yield: candidate %d has no yield", i+1)
@@ -182,7 +182,7 @@ func TestFitRankYield(t *testing.T) {
 }
 
 func TestFitGBW(t *testing.T) {
-	base := []string{"fit", "lowpass", "--pass", "10k", "--order", "2", "--combine", "1", "--stock", sampleStock, "--top", "2"}
+	base := []string{"fit", "lowpass", "--pass", "10k", "--order", "2", "--combine", "1", "--stock", checksStock, "--top", "2"}
 	cases := []struct {
 		name string
 		gbw  string
@@ -196,7 +196,7 @@ func TestFitGBW(t *testing.T) {
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
-			code, out, errs := runFitCmd(t, argsWith(base, "--gbw", tc.gbw)...)
+			code, out, errs := runChecksFit(t, checksArgs(base, "--gbw", tc.gbw)...)
 			if code != 0 {
 				t.Fatalf("exit %d: %s", code, errs)
 			}
@@ -207,7 +207,7 @@ func TestFitGBW(t *testing.T) {
 			if warned != tc.warn {
 				t.Errorf("GBW warning %v, want %v:\n%s", warned, tc.warn, out)
 			}
-			f := fitJSONOut(t, argsWith(base, "--gbw", tc.gbw)...)
+			f := checksFitJSON(t, checksArgs(base, "--gbw", tc.gbw)...)
 			for i, c := range f.Candidates {
 				if c.OpAmp == nil {
 					t.Fatalf("candidate %d has no op-amp check", i+1)
@@ -238,13 +238,13 @@ func TestFitGBW(t *testing.T) {
 // Everyone 16.8.4 (CHECK-VALUES.md): a 5th-order 10 kHz unity-gain
 // Butterworth needs 1.531 MHz (recomputed), for its Q 1.618 section.
 func TestFitGBWPublished(t *testing.T) {
-	base := []string{"fit", "lowpass", "--pass", "10k", "--order", "5", "--odd", "1pole", "--combine", "1", "--stock", sampleStock, "--top", "1"}
+	base := []string{"fit", "lowpass", "--pass", "10k", "--order", "5", "--odd", "1pole", "--combine", "1", "--stock", checksStock, "--top", "1"}
 	for _, tc := range []struct {
 		gbw string
 		ok  bool
 	}{{"1.4M", false}, {"1.6M", true}} {
 		t.Run(tc.gbw, func(t *testing.T) {
-			f := fitJSONOut(t, argsWith(base, "--gbw", tc.gbw)...)
+			f := checksFitJSON(t, checksArgs(base, "--gbw", tc.gbw)...)
 			op := f.Candidates[0].OpAmp
 			highest := op.Sections[0]
 			for _, s := range op.Sections {
@@ -273,11 +273,11 @@ func hasGBWWarning(ws []string) bool {
 	return false
 }
 
-// stockResistors reads the sample stock's resistor rows within the fit's
+// checksResistors reads the sample stock's resistor rows within the fit's
 // default range, 1 kΩ to 1 MΩ.
-func stockResistors(t *testing.T) []stock.Item {
+func checksResistors(t *testing.T) []stock.Item {
 	t.Helper()
-	fh, err := os.Open(sampleStock)
+	fh, err := os.Open(checksStock)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -296,7 +296,7 @@ func stockResistors(t *testing.T) []stock.Item {
 }
 
 func TestFitBiasResistor(t *testing.T) {
-	rs := stockResistors(t)
+	rs := checksResistors(t)
 	// Nearest realisable value by brute force over every single part and,
 	// with pairs, every pair in series and in parallel.
 	nearest := func(target float64, pairs bool) float64 {
@@ -329,9 +329,9 @@ func TestFitBiasResistor(t *testing.T) {
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
-			args := append(append([]string{"fit"}, tc.args...), "--stock", sampleStock, "--top", "2",
+			args := append(append([]string{"fit"}, tc.args...), "--stock", checksStock, "--top", "2",
 				"--combine", map[int]string{1: "1", 2: "2"}[tc.combine], "--bias-resistor")
-			f := fitJSONOut(t, args...)
+			f := checksFitJSON(t, args...)
 			for i, c := range f.Candidates {
 				if len(c.BiasResistors) != len(c.Sections) {
 					t.Fatalf("candidate %d: %d bias resistors for %d sections", i+1, len(c.BiasResistors), len(c.Sections))
@@ -376,7 +376,7 @@ func TestFitBiasResistor(t *testing.T) {
 		})
 	}
 	t.Run("text", func(t *testing.T) {
-		code, out, errs := runFitCmd(t, "fit", "lowpass", "--pass", "1k", "--order", "2", "--combine", "1", "--stock", sampleStock, "--top", "1", "--bias-resistor")
+		code, out, errs := runChecksFit(t, "fit", "lowpass", "--pass", "1k", "--order", "2", "--combine", "1", "--stock", checksStock, "--top", "1", "--bias-resistor")
 		if code != 0 {
 			t.Fatalf("exit %d: %s", code, errs)
 		}
@@ -393,7 +393,7 @@ func TestFitBiasResistor(t *testing.T) {
 func TestFitBiasResistorQuantities(t *testing.T) {
 	qty := map[int64]int{}
 	for i, it := range func() []stock.Item {
-		fh, err := os.Open(sampleStock)
+		fh, err := os.Open(checksStock)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -407,7 +407,7 @@ func TestFitBiasResistorQuantities(t *testing.T) {
 		qty[int64(i+1)] = it.Quantity // the store numbers imported rows from 1
 	}
 	const boards = 20
-	f := fitJSONOut(t, "fit", "lowpass", "--pass", "1k", "--order", "4", "--combine", "2", "--stock", sampleStock,
+	f := checksFitJSON(t, "fit", "lowpass", "--pass", "1k", "--order", "4", "--combine", "2", "--stock", checksStock,
 		"--top", "2", "--boards", "20", "--bias-resistor")
 	for i, c := range f.Candidates {
 		need := map[int64]int{}
@@ -434,9 +434,9 @@ func TestFitWarnings(t *testing.T) {
 	// At 100 kHz with capacitors of at least 10 nF, a 2nd-order section has
 	// sqrt(R1·R2) = 1/(2π·f0·sqrt(C1·C2)) <= 159 Ω, so some resistor is below
 	// 1 kΩ, which the practical checks flag (common practice, no source).
-	args := []string{"fit", "lowpass", "--pass", "100k", "--order", "2", "--combine", "1", "--stock", sampleStock,
+	args := []string{"fit", "lowpass", "--pass", "100k", "--order", "2", "--combine", "1", "--stock", checksStock,
 		"--top", "2", "--c-min", "10n", "--r-min", "100"}
-	f := fitJSONOut(t, args...)
+	f := checksFitJSON(t, args...)
 	for i, c := range f.Candidates {
 		found := false
 		for _, w := range c.Warnings {
@@ -446,7 +446,7 @@ func TestFitWarnings(t *testing.T) {
 			t.Errorf("candidate %d: no practical warning for a resistor below 1 kΩ: %q", i+1, c.Warnings)
 		}
 	}
-	code, out, _ := runFitCmd(t, args...)
+	code, out, _ := runChecksFit(t, args...)
 	if code != 0 || !regexp.MustCompile(`(?m)^Warning: R\d+ .*below about 1 kΩ`).MatchString(out) {
 		t.Errorf("exit %d, text lacks the practical warning:\n%s", code, out)
 	}
@@ -456,8 +456,8 @@ func TestFitReport(t *testing.T) {
 	dir := t.TempDir()
 	sheet := filepath.Join(dir, "sheet.html")
 	pngs := filepath.Join(dir, "plots")
-	code, _, errs := runFitCmd(t, "fit", "lowpass", "--pass", "1k", "--stop", "3k", "--atten", "25", "--order", "3", "--odd", "1pole", "--combine", "1",
-		"--stock", sampleStock, "--top", "2", "--yield", "--trials", "200", "--gbw", "1M", "--bias-resistor", "--boards", "5",
+	code, _, errs := runChecksFit(t, "fit", "lowpass", "--pass", "1k", "--stop", "3k", "--atten", "25", "--order", "3", "--odd", "1pole", "--combine", "1",
+		"--stock", checksStock, "--top", "2", "--yield", "--trials", "200", "--gbw", "1M", "--bias-resistor", "--boards", "5",
 		"--report", sheet, "--png", pngs)
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
@@ -469,7 +469,7 @@ func TestFitReport(t *testing.T) {
 	html := string(b)
 	for _, want := range []string{
 		"<!DOCTYPE html>", `class="schematic"`, `id="fig-magnitude"`, `id="fig-phase"`, `id="fig-group-delay"`,
-		"<svg", "simulated boards", "5 boards", "2031-05-14", sampleStock, "Rfb1", "Op-amp check",
+		"<svg", "simulated boards", "5 boards", "2031-05-14", checksStock, "Rfb1", "Op-amp check",
 		"Verify the circuit on the bench",
 	} {
 		if !strings.Contains(html, want) {
@@ -501,7 +501,7 @@ func TestFitReport(t *testing.T) {
 }
 
 func TestFitCheckErrors(t *testing.T) {
-	base := []string{"fit", "lowpass", "--pass", "1k", "--order", "2", "--combine", "1", "--stock", sampleStock, "--top", "1"}
+	base := []string{"fit", "lowpass", "--pass", "1k", "--order", "2", "--combine", "1", "--stock", checksStock, "--top", "1"}
 	cases := []struct {
 		name string
 		args []string
@@ -520,7 +520,7 @@ func TestFitCheckErrors(t *testing.T) {
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
-			code, out, errs := runFitCmd(t, append(append([]string{}, base...), tc.args...)...)
+			code, out, errs := runChecksFit(t, append(append([]string{}, base...), tc.args...)...)
 			if code != 2 {
 				t.Errorf("exit %d, want 2\n%s%s", code, out, errs)
 			}
