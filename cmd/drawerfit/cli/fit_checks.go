@@ -39,19 +39,25 @@ type fitCheckOptions struct {
 // toleranceOnlyFlags are the flags that mean nothing without --yield.
 var toleranceOnlyFlags = []string{"trials", "seed", "dist", "pass-margin", "stop-margin", "target-yield"}
 
-// addFitCheckFlags binds the checks' flags to fit and adds their help.
-func addFitCheckFlags(cmd *cobra.Command, o *fitCheckOptions) {
-	f := cmd.Flags()
-	f.BoolVar(&o.yield, "yield", false, "simulate building every listed candidate from parts drawn within their stock tolerances and show the yield")
+// addCheckFlags binds --yield and the tolerance and op-amp flags (fit and
+// report share them).
+func addCheckFlags(f *pflag.FlagSet, o *fitCheckOptions, yieldUsage string) {
+	f.BoolVar(&o.yield, "yield", false, yieldUsage)
 	addToleranceFlags(f, &o.tol)
-	f.StringVar(&o.report, "report", "", "write the best candidate's build sheet to this HTML file")
-	f.StringVar(&o.png, "png", "", "also write the best candidate's plots as PNG files into this directory")
 	if fl := f.Lookup("bias-resistor"); fl != nil {
 		fl.Usage = "fit from stock the bias-current compensation resistor of each follower (bipolar-input op-amps)"
 	}
 	if fl := f.Lookup("trials"); fl != nil {
-		fl.Usage = "simulated boards per candidate (with --yield)"
+		fl.Usage = "simulated boards per design (with --yield)"
 	}
+}
+
+// addFitCheckFlags binds the checks' flags to fit and adds their help.
+func addFitCheckFlags(cmd *cobra.Command, o *fitCheckOptions) {
+	f := cmd.Flags()
+	addCheckFlags(f, o, "simulate building every listed candidate from parts drawn within their stock tolerances and show the yield")
+	f.StringVar(&o.report, "report", "", "write the best candidate's build sheet to this HTML file")
+	f.StringVar(&o.png, "png", "", "also write the best candidate's plots as PNG files into this directory")
 	cmd.Long += `
 
 Checks. --yield simulates building every listed candidate --trials times
@@ -96,20 +102,28 @@ the plots as PNG files.`
 // mistake costs no fitting time.
 func prepareFitChecks(f *pflag.FlagSet, o *fitOptions) error {
 	c := &o.checks
-	c.tol.dcGainSet = f.Changed("dc-gain")
 	c.rankYield = strings.EqualFold(strings.TrimSpace(o.rank), "yield")
 	if c.rankYield {
 		c.yield = true
 	}
+	if o.plan != "" && (c.yield || c.tol.gbw != "" || c.tol.biasResistor || c.report != "" || c.png != "") {
+		return fault.Invalidf("--yield, --gbw, --bias-resistor, --report and --png apply to a single filter, not to --plan")
+	}
+	if c.report != "" && strings.TrimSpace(c.report) == "" {
+		return fault.Invalidf("--report needs a file name")
+	}
+	return c.validate(f)
+}
+
+// validate checks the check flags; f tells which were given.
+func (c *fitCheckOptions) validate(f *pflag.FlagSet) error {
+	c.tol.dcGainSet = f.Changed("dc-gain")
 	if !c.yield {
 		for _, n := range toleranceOnlyFlags {
 			if f.Changed(n) {
 				return fault.Invalidf("--%s sets up the yield analysis: add --yield", n)
 			}
 		}
-	}
-	if o.plan != "" && (c.yield || c.tol.gbw != "" || c.tol.biasResistor || c.report != "" || c.png != "") {
-		return fault.Invalidf("--yield, --gbw, --bias-resistor, --report and --png apply to a single filter, not to --plan")
 	}
 	if c.yield {
 		if c.tol.trials < 1 || c.tol.trials > tolerance.MaxTrials {
@@ -119,13 +133,8 @@ func prepareFitChecks(f *pflag.FlagSet, o *fitOptions) error {
 			return err
 		}
 	}
-	if _, err := c.opAmp(); err != nil {
-		return err
-	}
-	if c.report != "" && strings.TrimSpace(c.report) == "" {
-		return fault.Invalidf("--report needs a file name")
-	}
-	return nil
+	_, err := c.opAmp()
+	return err
 }
 
 // opAmp is the op-amp model of --gbw/--dc-gain (nil without --gbw), with a
@@ -211,26 +220,11 @@ func runFitChecks(env *Env, o *fitOptions, run *fitRun) error {
 		}
 	}
 	for _, c := range res.Candidates {
-		cc := &candidateChecks{}
-		fc.byCan[c] = cc
-		if cc.practical, err = tolerance.Practical(c); err != nil {
-			return fmt.Errorf("practical checks: %w", err)
-		}
-		if op != nil {
-			if cc.opAmp, err = tolerance.CheckOpAmp(c, res.Spec, *op); err != nil {
-				return fmt.Errorf("op-amp check: %w", err)
-			}
-		}
-		if co.tol.biasResistor {
-			cc.bias, cc.biasProblem = fitBiasResistors(c, run)
-		}
-		if co.yield {
-			brief := topt
-			// Brief: only the Monte Carlo and the blame, for ranking.
-			brief.Brief, brief.Refit, brief.Boards = true, nil, 0
-			if cc.yield, err = tolerance.Run(c, res.Spec, brief); err != nil {
-				return fmt.Errorf("yield of candidate: %w", err)
-			}
+		brief := topt
+		// Brief: only the Monte Carlo and the blame, for ranking.
+		brief.Brief, brief.Refit, brief.Boards = true, nil, 0
+		if fc.byCan[c], err = co.check(c, res.Spec, op, brief, run); err != nil {
+			return err
 		}
 	}
 	if co.yield && len(res.Candidates) > 0 {
@@ -260,6 +254,31 @@ func runFitChecks(env *Env, o *fitOptions, run *fitRun) error {
 		return writeFitSheet(env, o, run)
 	}
 	return nil
+}
+
+// check runs the checks the options ask for on candidate c against spec:
+// the practical warnings always, the op-amp check with op, the bias
+// resistors fitted from run's stock, and the yield with topt.
+func (co *fitCheckOptions) check(c *optimize.Candidate, spec synth.Spec, op *synth.OpAmp, topt tolerance.Options, run *fitRun) (*candidateChecks, error) {
+	cc := &candidateChecks{}
+	var err error
+	if cc.practical, err = tolerance.Practical(c); err != nil {
+		return nil, fmt.Errorf("practical checks: %w", err)
+	}
+	if op != nil {
+		if cc.opAmp, err = tolerance.CheckOpAmp(c, spec, *op); err != nil {
+			return nil, fmt.Errorf("op-amp check: %w", err)
+		}
+	}
+	if co.tol.biasResistor {
+		cc.bias, cc.biasProblem = fitBiasResistors(c, run)
+	}
+	if co.yield {
+		if cc.yield, err = tolerance.Run(c, spec, topt); err != nil {
+			return nil, fmt.Errorf("yield analysis: %w", err)
+		}
+	}
+	return cc, nil
 }
 
 // rankByYield gives every candidate its place by yield: most passing
@@ -637,12 +656,11 @@ func (fc *fitChecks) fillJSON(jc *jsonCandidate, c *optimize.Candidate) {
 	}
 }
 
-// fitSheet is the build sheet of run's best candidate.
-func fitSheet(env *Env, o *fitOptions, run *fitRun) *report.Sheet {
-	c := run.result.Candidates[0]
-	cc := run.checks.of(c)
-	s := &report.Sheet{Spec: report.SpecLine(c.Design), Boards: max(o.boards, 1), Date: env.Now(),
-		StockDB: run.source, Candidate: c, Generator: "drawerfit"}
+// checkSheet is the build sheet of candidate c with its check results cc
+// (nil: none) for a batch of boards, the parts taken from source.
+func checkSheet(env *Env, c *optimize.Candidate, cc *candidateChecks, boards int, source string) *report.Sheet {
+	s := &report.Sheet{Spec: report.SpecLine(c.Design), Boards: max(boards, 1), Date: env.Now(),
+		StockDB: source, Candidate: c, Generator: "drawerfit"}
 	if version != "" {
 		s.Generator += " " + version
 	}
@@ -726,7 +744,8 @@ func writeFitSheet(env *Env, o *fitOptions, run *fitRun) error {
 		fmt.Fprintln(env.Err, "drawerfit: no candidate to write a build sheet for")
 		return nil
 	}
-	s := fitSheet(env, o, run)
+	c := run.result.Candidates[0]
+	s := checkSheet(env, c, run.checks.of(c), o.boards, run.source)
 	return writeSheetFiles(env, s, o.checks.report, o.checks.png, "")
 }
 
