@@ -64,6 +64,7 @@ type combo struct {
 	stopAtten float64
 	meets     bool
 	tol       float64 // sum of effective tolerances: among equal keys, tighter parts first
+	mid       float64 // Σ |ln(R / √(Rmin·Rmax))|: how far the resistors sit from mid-range
 	sig       string  // the element values of every section: equal signatures are the same circuit
 }
 
@@ -83,6 +84,16 @@ func (a *combo) less(b *combo) bool {
 		}
 	}
 	return false
+}
+
+// sameResponse reports whether two combos are the same response at another
+// impedance level (every R scaled by k, every C by 1/k): equal error and
+// attenuations to 1e-9 dB, equal part counts. The list keeps the one whose
+// resistors sit nearer the middle of the allowed range.
+func sameResponse(a, b *combo) bool {
+	eq := func(x, y float64) bool { return math.Abs(x-y) <= 1e-9 || (math.IsNaN(x) && math.IsNaN(y)) }
+	return a.design == b.design && a.parts == b.parts && a.unique == b.unique &&
+		eq(a.err, b.err) && eq(a.passAtten, b.passAtten) && eq(a.stopAtten, b.stopAtten)
 }
 
 // topList keeps the best k combos in order.
@@ -107,12 +118,12 @@ func (t *topList) add(c *combo) {
 		return
 	}
 	for i, o := range t.list {
-		if o.sig == c.sig {
-			if !c.less(o) {
-				return
+		if o.sig == c.sig || sameResponse(o, c) {
+			if o.sig != c.sig && c.mid < o.mid || o.sig == c.sig && c.less(o) {
+				t.list = append(t.list[:i], t.list[i+1:]...)
+				break
 			}
-			t.list = append(t.list[:i], t.list[i+1:]...)
-			break
+			return
 		}
 	}
 	at := sort.Search(len(t.list), func(i int) bool { return c.less(t.list[i]) })
@@ -150,6 +161,9 @@ type combiner struct {
 	unique  int
 	picks   []int
 	nodes   int
+
+	resIdx [][]int // per section, the resistor positions
+	rmid   float64 // √(Rmin·Rmax)
 
 	budget    int  // largest number of nodes to visit; 0 means no limit
 	truncated bool // the budget ran out
@@ -324,6 +338,12 @@ func (c *combiner) leaf(parts int) {
 	}
 	cb.picks = append([]int(nil), c.picks...)
 	cb.sig = c.signature()
+	for s, p := range c.picks {
+		sc := &c.lists[s][p]
+		for _, i := range c.resIdx[s] {
+			cb.mid += math.Abs(math.Log(sc.vals[i] / c.rmid))
+		}
+	}
 	if !meets {
 		if c.closest == nil || e < c.closest.err {
 			c.closest = cb

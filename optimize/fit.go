@@ -153,7 +153,10 @@ func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
 		cb := &combiner{lists: secLists, rows: rows, boards: o.Boards, rank: o.Rank,
 			goodEnough: o.GoodEnough, design: ji, passIdx: passIdx, stopIdx: stopIdx,
 			tdbTotal: tdbTotal, ap: spec.PassAtten, as: spec.StopAtten, keepFail: o.ShowFailing,
-			out: top, budget: o.NodeBudget}
+			out: top, budget: o.NodeBudget, rmid: math.Sqrt(o.RMin * o.RMax)}
+		for i := range d.Sections {
+			cb.resIdx = append(cb.resIdx, d.Sections[i].Topology.Indices(synth.Resistor))
+		}
 		cb.run()
 		if cb.truncated {
 			r.Notes = append(r.Notes, fmt.Sprintf("order %d (%s): the cross-section search stopped after %d combinations; the list may miss some designs",

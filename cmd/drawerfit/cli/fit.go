@@ -380,6 +380,8 @@ func fmtErr(e float64) string {
 	switch {
 	case e < 0.0005:
 		return strconv.FormatFloat(e, 'e', 1, 64)
+	case e < 1:
+		return strconv.FormatFloat(e, 'f', 4, 64)
 	case e < 10:
 		return strconv.FormatFloat(e, 'f', 3, 64)
 	}
