@@ -1,0 +1,210 @@
+package cli
+
+import (
+	"fmt"
+	"path/filepath"
+	"strconv"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"drawerfit/fault"
+	"drawerfit/production"
+	"drawerfit/stock"
+	"drawerfit/tolerance"
+)
+
+func init() { register("report", newReportCmd) }
+
+// reportOptions are the flags of `drawerfit report`.
+type reportOptions struct {
+	output string
+	png    string
+	filter string
+	title  string
+	notes  []string
+	checks fitCheckOptions
+}
+
+func newReportCmd(env *Env) *cobra.Command {
+	o := &reportOptions{}
+	cmd := &cobra.Command{
+		Use:   "report ID -o FILE.html [--png DIR]",
+		Short: "Write the build sheet of a saved design as one self-contained HTML file",
+		Long: `report writes the build sheet of a saved design (see fit --save): one
+HTML file with everything inline, so that it opens offline and prints on A4
+or Letter. It holds the job in one line (specification, boards, date, stock
+database), the response plots (ideal target, nominal parts and, with --yield,
+the Monte Carlo envelope, with the specification's limits), phase and group
+delay, a schematic of every section with designators, values, what each
+value is made of and the bin of every part, the parts list, the pick list by
+bin, the warnings and cautions, and the SPICE netlist.
+
+--yield adds the simulated yield with the stock's tolerances, what the
+failures come from and the computed advice; --gbw checks an op-amp against
+the rule of Op Amps for Everyone, section 16.8.4; --bias-resistor adds the
+bias-current compensation resistors fitted from the stock. --note adds your
+own remarks, printed as written. --png DIR also writes the plots as PNG files.
+
+A design kept from a board plan carries several filters: report writes one
+sheet per filter (FILE-1.html, FILE-2.html, ...) unless --filter picks one.`,
+		Example: `  # The build sheet for saved design k7m2 of the club's bat-detector boards
+  drawerfit report k7m2 -o bat-detector.html
+
+  # With the yield (and the forecast for the batch the design was saved for),
+  # a 1 MHz op-amp, a note and PNG plots for the wiki
+  drawerfit report k7m2 -o bat-detector.html --yield --gbw 1M \
+    --note "Fit C3 before the op-amp socket" --png plots/
+
+  # Only the right-channel filter of a saved board plan
+  drawerfit report p4q9 -o right.html --filter "right channel"`,
+		Args: func(cmd *cobra.Command, args []string) error {
+			if len(args) != 1 {
+				return usageError{fmt.Errorf("report needs one saved design ID (got %d arguments)", len(args))}
+			}
+			return nil
+		},
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if strings.TrimSpace(o.output) == "" {
+				return fault.Invalidf("report needs the output file: -o FILE.html")
+			}
+			if err := o.checks.validate(cmd.Flags()); err != nil {
+				return err
+			}
+			return runReport(env, o, args[0])
+		},
+	}
+	f := cmd.Flags()
+	f.StringVarP(&o.output, "output", "o", "", "the HTML file to write (required)")
+	f.StringVar(&o.png, "png", "", "also write the plots as PNG files into this directory")
+	f.StringVar(&o.filter, "filter", "", "for a board plan: the filter to report, by number (1, 2, ...) or label")
+	f.StringVar(&o.title, "title", "", "title of the sheet (default: made from the specification)")
+	f.StringArrayVar(&o.notes, "note", nil, "a remark to print on the sheet (repeatable)")
+	addCheckFlags(f, &o.checks, "simulate building the design from parts drawn within their stock tolerances and show the yield")
+	return cmd
+}
+
+// runReport loads saved design id and writes its sheets.
+func runReport(env *Env, o *reportOptions, id string) error {
+	db, err := env.openStore()
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	d, err := db.Design(env.Ctx, id)
+	if err != nil {
+		return err
+	}
+	// The stock as it is now, for the bias resistors and the refit.
+	items, err := db.List(env.Ctx, stock.Filter{})
+	if err != nil {
+		return err
+	}
+	source, _ := env.DefaultDBPath()
+	opt, err := d.Settings.Options()
+	if err != nil {
+		return err
+	}
+	opt.Boards = max(d.Boards, 1)
+	run := &fitRun{opts: opt, items: items, source: source}
+
+	picked, err := pickFilters(d, o.filter)
+	if err != nil {
+		return err
+	}
+	co := &o.checks
+	op, err := co.opAmp()
+	if err != nil {
+		return err
+	}
+	var topt tolerance.Options
+	if co.yield {
+		if d.Boards > 1 {
+			co.tol.boards = d.Boards
+		}
+		if topt, err = co.tol.tolOptions(); err != nil {
+			return err
+		}
+	}
+	for _, n := range picked {
+		f := d.Filters[n]
+		c := f.Candidate
+		t := topt
+		if co.yield {
+			t.Refit = refitFor(run, c)
+		}
+		cc, err := co.check(c, f.Spec, op, t, run)
+		if err != nil {
+			return fmt.Errorf("filter %d: %w", n+1, err)
+		}
+		s := checkSheet(env, c, cc, d.Boards, source)
+		s.DesignID = d.ID
+		s.Title = sheetTitle(o.title, d.Name, f.Label)
+		s.Notes = append(append([]string(nil), o.notes...), s.Notes...)
+		path, prefix := o.output, ""
+		if len(picked) > 1 {
+			ext := filepath.Ext(o.output)
+			path = strings.TrimSuffix(o.output, ext) + "-" + strconv.Itoa(n+1) + ext
+			prefix = "filter-" + strconv.Itoa(n+1)
+		}
+		if err := writeSheetFiles(env, s, path, o.png, prefix); err != nil {
+			return err
+		}
+		what := "design " + d.ID
+		if len(d.Filters) > 1 {
+			what += fmt.Sprintf(", filter %d", n+1)
+			if f.Label != "" {
+				what += " (" + f.Label + ")"
+			}
+		}
+		fmt.Fprintf(env.Out, "%s: %s\n", path, what)
+	}
+	return nil
+}
+
+// sheetTitle is the title of a filter's sheet: the --title, else the
+// design's name, with the filter's label when it has one; empty means the
+// title made from the specification.
+func sheetTitle(title, name, label string) string {
+	var parts []string
+	for _, p := range []string{title, name} {
+		if p = strings.TrimSpace(p); p != "" {
+			parts = append(parts, p)
+			break
+		}
+	}
+	if label = strings.TrimSpace(label); label != "" {
+		parts = append(parts, label)
+	}
+	return strings.Join(parts, ": ")
+}
+
+// pickFilters returns the indexes of the filters of d to report: all, or
+// the one --filter names by number or label.
+func pickFilters(d *production.Design, sel string) ([]int, error) {
+	if len(d.Filters) == 0 {
+		return nil, fault.Invalidf("design %s holds no filter", d.ID)
+	}
+	sel = strings.TrimSpace(sel)
+	if sel == "" {
+		out := make([]int, len(d.Filters))
+		for i := range out {
+			out[i] = i
+		}
+		return out, nil
+	}
+	if n, err := strconv.Atoi(sel); err == nil {
+		if n < 1 || n > len(d.Filters) {
+			return nil, fault.Invalidf("--filter %d: design %s has filters 1 to %d", n, d.ID, len(d.Filters))
+		}
+		return []int{n - 1}, nil
+	}
+	var labels []string
+	for i, f := range d.Filters {
+		if strings.EqualFold(strings.TrimSpace(f.Label), sel) {
+			return []int{i}, nil
+		}
+		labels = append(labels, strconv.Quote(f.Label))
+	}
+	return nil, fault.NotFoundf("design %s has no filter labelled %q (labels: %s)", d.ID, sel, strings.Join(labels, ", "))
+}
