@@ -3,6 +3,7 @@ package production
 import (
 	"os"
 	"testing"
+	"time"
 
 	"drawerfit/stock"
 	"drawerfit/synth"
@@ -38,3 +39,5 @@ func mixingDeskPlan(boards int) Plan {
 		{Label: "presence low-pass", Spec: synth.Spec{Kind: synth.LowPass, Approx: synth.Chebyshev, Pass: 5e3, Ripple: 0.5, Order: 6}},
 	}}
 }
+
+func nowSeconds() float64 { return float64(time.Now().UnixNano()) / 1e9 }

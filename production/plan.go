@@ -185,16 +185,9 @@ func FitPlan(items []stock.Item, p Plan, o PlanOptions) (*PlanResult, error) {
 	pr.Nodes = js.nodes
 	if len(boards) == 0 && anyShared(groups) {
 		// The stock cannot build the copies alike: fit each on its own.
-		split := make([]*Group, 0, len(p.Filters))
-		for i := range p.Filters {
-			split = append(split, &Group{Members: []int{i}, Spec: p.Filters[i].Spec})
-		}
-		for _, g := range split {
-			r, err := fitGroup(items, p, g, o, fits)
-			if err != nil {
-				return nil, err
-			}
-			g.Result = r
+		split, err := splitGroups(items, p, groups, o, fits)
+		if err != nil {
+			return nil, err
 		}
 		js2 := newJointSearch(items, p, split, o)
 		if b2 := js2.run(); len(b2) > 0 {
@@ -215,6 +208,56 @@ func FitPlan(items []stock.Item, p Plan, o PlanOptions) (*PlanResult, error) {
 	return pr, nil
 }
 
+// splitGroups makes one group per filter. The first copy of a set of
+// identical filters is fitted to the stock; each further copy to the
+// stock that the earlier copies' best candidates leave, and it may also
+// take the first copy's alternatives, so that the copies find different
+// rows when the drawer holds the same value in several bins.
+func splitGroups(items []stock.Item, p Plan, groups []*Group, o PlanOptions, cache map[string]*optimize.Result) ([]*Group, error) {
+	out := make([]*Group, len(p.Filters))
+	for _, g := range groups {
+		left := append([]stock.Item(nil), items...)
+		var first *optimize.Result
+		for j, m := range g.Members {
+			one := &Group{Members: []int{m}, Spec: g.Spec}
+			var r *optimize.Result
+			var err error
+			if j == 0 {
+				r, err = fitGroup(left, p, one, o, cache)
+				first = r
+			} else {
+				r, err = fitGroup(left, p, one, o, map[string]*optimize.Result{})
+				if err == nil {
+					merged := *r
+					merged.Candidates = append(append([]*optimize.Candidate(nil), r.Candidates...), first.Candidates...)
+					r = &merged
+				}
+			}
+			if err != nil {
+				return nil, err
+			}
+			one.Result = r
+			out[m] = one
+			if len(r.Candidates) > 0 {
+				take(left, r.Candidates[0].StockUse, p.Boards)
+			}
+		}
+	}
+	return out, nil
+}
+
+// take lowers the quantities of items by what boards boards of use need
+// (not below zero).
+func take(items []stock.Item, use []optimize.StockUse, boards int) {
+	for _, u := range use {
+		for i := range items {
+			if items[i].ID == u.StockID {
+				items[i].Quantity = max(0, items[i].Quantity-u.PerBoard*boards)
+			}
+		}
+	}
+}
+
 // fitGroup runs the search of one group, reusing an identical earlier one.
 func fitGroup(items []stock.Item, p Plan, g *Group, o PlanOptions, cache map[string]*optimize.Result) (*optimize.Result, error) {
 	fo := o.Fit
@@ -226,6 +269,11 @@ func fitGroup(items []stock.Item, p Plan, g *Group, o PlanOptions, cache map[str
 		return r, nil
 	}
 	r, err := optimize.Fit(items, g.Spec, fo)
+	if fault.KindOf(err) == fault.Infeasible {
+		// Nothing usable for this many copies and boards: an empty pool,
+		// which the joint search reports (and may split the copies).
+		r, err = &optimize.Result{Spec: g.Spec, Limits: []string{err.Error()}}, nil
+	}
 	if err != nil {
 		return nil, fmt.Errorf("filter %q: %w", p.Filters[g.Members[0]].Label, err)
 	}

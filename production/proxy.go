@@ -22,6 +22,11 @@ type screen struct {
 	resVal []float64      // usable resistor values, for snapping re-solved resistors
 }
 
+// pairAccuracy is how close (relative) a single new value must come to
+// the exact value for the screen to try it in place of a pair: half the
+// step of the E96 series, ln(10)/96/2 (IEC 60063 E96).
+const pairAccuracy = 2.302585092994046 / 96 / 2
+
 // screenPointsPerDecade matches the fit's scoring grid density (the issue
 // asks for at least 100 points per decade).
 const screenPointsPerDecade = 100
@@ -125,10 +130,13 @@ func (s *screen) estimateResistor(v float64, exact [][]float64) score {
 		changed := false
 		for _, p := range t.Indices(synth.Resistor) {
 			ideal := exact[si][p]
-			if math.Abs(math.Log(v/ideal)) < math.Abs(math.Log(vals[p]/ideal)) {
+			comp := sec.Components[p]
+			// Closer than the part there now, or a single part where a
+			// pair is now within pairAccuracy of the exact value.
+			closer := math.Abs(math.Log(v/ideal)) < math.Abs(math.Log(vals[p]/ideal))
+			if closer || (len(comp.Parts) > 1 && math.Abs(math.Log(v/ideal)) < pairAccuracy) {
 				vals[p] = v
 				changed = true
-				comp := sec.Components[p]
 				parts -= len(comp.Parts) - 1
 				for _, part := range comp.Parts {
 					freed[part.StockID]++

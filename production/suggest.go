@@ -252,9 +252,12 @@ func candidateValues(k synth.PartKind, need []float64, o optimize.Options, have 
 			n := s.Nearest(v)
 			below, above := s.Neighbours(v)
 			add(n)
-			if n >= v {
+			switch {
+			case math.Abs(n-v) <= 1e-9*v:
+				// A member is exactly what is needed.
+			case n > v:
 				add(below)
-			} else {
+			default:
 				add(above)
 			}
 		}
@@ -396,8 +399,13 @@ func newValueTrials(items []stock.Item, refs []*optimize.Candidate, groups []int
 	var out []trial
 	taken := map[synth.PartKind]int{}
 	quota := map[synth.PartKind]int{synth.Resistor: (n + 1) / 2, synth.Capacitor: n / 2}
+	// Values the screen finds no place for come last: a full search may
+	// still use them (in a pair, say) when the budget allows.
+	sort.SliceStable(all, func(a, b int) bool {
+		return !math.IsInf(all[a].est.err, 1) && math.IsInf(all[b].est.err, 1)
+	})
 	for _, cd := range all {
-		if math.IsInf(cd.est.err, 1) || taken[cd.k] >= quota[cd.k] {
+		if taken[cd.k] >= quota[cd.k] {
 			continue
 		}
 		taken[cd.k]++
