@@ -23,6 +23,7 @@ type docDesign struct {
 	Name     string      `json:"name"`
 	Boards   int         `json:"boards"`
 	Rank     int         `json:"rank"`
+	Pareto   bool        `json:"pareto"`
 	Settings Settings    `json:"settings"`
 	Filters  []docFilter `json:"filters"`
 }
@@ -127,7 +128,7 @@ func EncodeDesign(d *Design) ([]byte, error) {
 	if err := d.Problems(); err != nil {
 		return nil, err
 	}
-	doc := docDesign{Format: documentFormat, Name: d.Name, Boards: d.Boards, Rank: d.Rank, Settings: d.Settings}
+	doc := docDesign{Format: documentFormat, Name: d.Name, Boards: d.Boards, Rank: d.Rank, Pareto: d.Pareto, Settings: d.Settings}
 	for _, f := range d.Filters {
 		c := f.Candidate
 		dc := docCandidate{Order: c.Design.Order, Odd: c.Design.Odd.String(), ResponseError: c.ResponseError,
@@ -174,7 +175,7 @@ func DecodeDesign(b []byte) (*Design, error) {
 	if doc.Format != documentFormat {
 		return nil, fault.Conflictf("the saved design has format %d; this drawerfit reads format %d", doc.Format, documentFormat)
 	}
-	d := &Design{Name: doc.Name, Boards: doc.Boards, Rank: doc.Rank, Settings: doc.Settings}
+	d := &Design{Name: doc.Name, Boards: doc.Boards, Rank: doc.Rank, Pareto: doc.Pareto, Settings: doc.Settings}
 	for i, df := range doc.Filters {
 		spec, err := df.Spec.spec()
 		if err != nil {

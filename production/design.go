@@ -8,6 +8,7 @@ import (
 
 	"drawerfit/fault"
 	"drawerfit/optimize"
+	"drawerfit/stock"
 	"drawerfit/synth"
 )
 
@@ -24,6 +25,8 @@ type Design struct {
 	Boards int
 	// Rank is the design's place in the list it was saved from (1 = best).
 	Rank int
+	// Pareto is true when the design was on the Pareto front of its list.
+	Pareto bool
 	// Created is when it was saved (set by the store, UTC).
 	Created time.Time
 	// Settings are the search options of the fit.
@@ -139,6 +142,15 @@ func (d *Design) PartCount() int {
 		n += f.Candidate.PartCount
 	}
 	return n
+}
+
+// BoardsBuildable returns how many boards the stock items cover.
+func (d *Design) BoardsBuildable(items []stock.Item) int {
+	byID := map[int64]stock.Item{}
+	for _, it := range items {
+		byID[it.ID] = it
+	}
+	return buildable(d.StockUse(), byID)
 }
 
 // UniqueParts returns the number of distinct stock rows one board uses.

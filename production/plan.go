@@ -337,7 +337,7 @@ func anyShared(gs []*Group) bool {
 // Design turns a board into a design to save, with the plan's name and
 // labels; rank is its place in the list (1 = best).
 func (pr *PlanResult) Design(b *Board, rank int, s Settings) *Design {
-	d := &Design{Name: pr.Plan.Name, Boards: pr.Plan.Boards, Rank: rank, Settings: s}
+	d := &Design{Name: pr.Plan.Name, Boards: pr.Plan.Boards, Rank: rank, Pareto: b.Pareto, Settings: s}
 	for i, c := range b.Filters {
 		f := pr.Plan.Filters[i]
 		d.Filters = append(d.Filters, Filter{Label: f.Label, Spec: f.Spec, Candidate: c})

@@ -147,7 +147,7 @@ func (db *DB) Designs(ctx context.Context) ([]production.DesignInfo, error) {
 	rows, err := db.sql.QueryContext(ctx, `SELECT d.id, d.name, d.summary, d.filters, d.boards, d.worst_error,
 		d.part_count, d.unique_parts, d.meets_spec, d.created_at,
 		(SELECT COUNT(*) FROM build b WHERE b.design_id = d.id AND b.undone_at IS NULL)
-		FROM design d WHERE d.removed_at IS NULL ORDER BY d.created_at DESC, d.rowid DESC`)
+		FROM design d WHERE d.removed_at IS NULL ORDER BY d.created_at DESC, d.rowid`)
 	if err != nil {
 		return nil, fmt.Errorf("list designs: %w", err)
 	}

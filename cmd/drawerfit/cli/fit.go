@@ -41,9 +41,10 @@ type fitOptions struct {
 
 	// Production (fit_production.go): keep the listed candidates, fit a
 	// board plan file, suggest purchases.
-	save    bool
-	plan    string
-	suggest bool
+	save      bool
+	plan      string
+	suggest   bool
+	boardsSet bool // --boards given: it overrides a plan file's boards
 
 	// Checks and the build sheet (fit_checks.go): --yield, --gbw,
 	// --bias-resistor, --report, --png.
@@ -95,14 +96,20 @@ person under the applicable local rules.`,
   # The same fit for a script
   drawerfit fit lowpass --pass 1k --stop 3k --atten 40 --stock sample-stock.csv --json`,
 		Args: func(cmd *cobra.Command, args []string) error {
+			if o.plan != "" && len(args) == 0 {
+				return nil // the plan file holds the filters
+			}
 			if len(args) != 1 {
 				return usageError{fmt.Errorf("fit needs one response type, lowpass or highpass (got %d arguments)", len(args))}
 			}
 			return nil
 		},
 		RunE: func(cmd *cobra.Command, args []string) error {
-			o.spec.kind = args[0]
+			if len(args) > 0 {
+				o.spec.kind = args[0]
+			}
 			f := cmd.Flags()
+			o.boardsSet = f.Changed("boards")
 			o.spec.passAttenSet = f.Changed("pass-atten")
 			o.spec.attenSet = f.Changed("atten")
 			o.spec.rippleSet = f.Changed("ripple")
@@ -146,9 +153,10 @@ type fitRun struct {
 	result  *optimize.Result
 	source  string // where the stock came from
 	elapsed time.Duration
-	ids     []string     // saved design ids, parallel to result.Candidates (with --save)
-	items   []stock.Item // the stock searched (for the checks' refit and bias resistors)
-	checks  *fitChecks   // results of the checks (fit_checks.go)
+	ids     []string        // saved design ids, parallel to result.Candidates (with --save)
+	items   []stock.Item    // the stock searched (for the checks' refit and bias resistors)
+	checks  *fitChecks      // results of the checks (fit_checks.go)
+	suggest *fitSuggestions // purchase suggestions (with --suggest; fit_production.go)
 }
 
 func (o *fitOptions) optimizeOptions() (optimize.Options, error) {
@@ -250,17 +258,18 @@ func runFit(env *Env, o *fitOptions) error {
 			return fmt.Errorf("write netlist: %w", err)
 		}
 	}
+	if o.suggest {
+		if err := suggestForFit(env, o, run); err != nil {
+			return err
+		}
+	}
 	if o.json {
 		if err := writeJSON(env.Out, fitJSON(run)); err != nil {
 			return err
 		}
 	} else {
 		printFit(env, env.Out, run)
-	}
-	if o.suggest {
-		if err := suggestForFit(env, o, run); err != nil {
-			return err
-		}
+		printFitSuggestions(env, env.Out, run)
 	}
 	if !hasPassing(res) {
 		return exitError{code: 1}
@@ -315,6 +324,7 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 			formatDB(c.PassAtten, 3), stopCell(c.StopAtten), strconv.Itoa(c.PartCount), strconv.Itoa(c.UniqueParts),
 			strconv.Itoa(c.BoardsBuildable), strings.TrimSpace(mark))
 	}
+	addIDColumn(g, run.ids)
 	run.checks.printTable(env, w, g, res.Candidates)
 	fmt.Fprintf(w, "\nRanked %s; error = largest deviation from the ideal %s response; '*' = on the Pareto front of error, parts and unique parts.\n",
 		rankText(run.opts), res.Spec.Approx)
@@ -523,6 +533,8 @@ type jsonFit struct {
 	Closest    *jsonCandidate  `json:"closest_miss,omitempty"`
 	Limits     []string        `json:"limits,omitempty"`
 	Notes      []string        `json:"notes,omitempty"`
+	// Suggestions are the purchase suggestions (with --suggest).
+	Suggestions []jsonSuggestion `json:"suggestions,omitempty"`
 }
 
 func specJSON(s synth.Spec, order int) jsonSpec {
@@ -575,6 +587,9 @@ func fitJSON(run *fitRun) jsonFit {
 	out := jsonFit{Spec: specJSON(res.Spec, run.spec.Order), Candidates: []jsonCandidate{}, Limits: res.Limits, Notes: res.Notes}
 	for i, c := range res.Candidates {
 		jc := candidateJSON(c, i+1)
+		if i < len(run.ids) {
+			jc.ID = run.ids[i]
+		}
 		run.checks.fillJSON(&jc, c)
 		out.Candidates = append(out.Candidates, jc)
 	}
@@ -582,5 +597,6 @@ func fitJSON(run *fitRun) jsonFit {
 		jc := candidateJSON(res.Closest, 0)
 		out.Closest = &jc
 	}
+	out.Suggestions = run.suggest.json()
 	return out
 }

@@ -1,18 +1,619 @@
 package cli
 
-import "drawerfit/fault"
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+	"time"
 
-// The production steps of fit. Placeholders until the production
-// package lands: each refuses clearly instead of pretending.
+	"github.com/BurntSushi/toml"
 
-func runPlanFit(env *Env, o *fitOptions) error {
-	return fault.Invalidf("--plan is not available in this build yet")
+	"drawerfit/fault"
+	"drawerfit/optimize"
+	"drawerfit/production"
+	"drawerfit/stock"
+	"drawerfit/store"
+	"drawerfit/synth"
+)
+
+// The production steps of fit: --save keeps the listed candidates as
+// saved designs, --plan fits a board plan file, --suggest lists
+// purchases. The domain work is package production's.
+
+func init() { register("yield", newYieldCmdWith(openSavedDesigns)) }
+
+// ---- saved designs as the yield command's source ----
+
+// savedDesigns reads saved designs from the stock database.
+type savedDesigns struct{ db *store.DB }
+
+func openSavedDesigns(env *Env) (designSource, error) {
+	db, err := env.openStore()
+	if err != nil {
+		return nil, err
+	}
+	return &savedDesigns{db: db}, nil
 }
 
+// LoadDesign returns the filter of design id; a board of several filters
+// is addressed as ID/N (N from 1).
+func (s *savedDesigns) LoadDesign(ctx context.Context, id string) (*optimize.Candidate, synth.Spec, error) {
+	d, n, err := loadDesignFilter(ctx, s.db, id)
+	if err != nil {
+		return nil, synth.Spec{}, err
+	}
+	f := d.Filters[n]
+	return f.Candidate, f.Spec, nil
+}
+
+func (s *savedDesigns) Close() error { return s.db.Close() }
+
+// loadDesignFilter reads "ID" (a one-filter design) or "ID/N" and returns
+// the design and the filter's index.
+func loadDesignFilter(ctx context.Context, db *store.DB, ref string) (*production.Design, int, error) {
+	id, num, hasNum := strings.Cut(strings.TrimSpace(ref), "/")
+	d, err := db.Design(ctx, id)
+	if err != nil {
+		return nil, 0, err
+	}
+	if !hasNum {
+		if len(d.Filters) > 1 {
+			return nil, 0, fault.Invalidf("design %s is a board of %d filters; name one as %s/N with N from 1 to %d", d.ID, len(d.Filters), d.ID, len(d.Filters))
+		}
+		return d, 0, nil
+	}
+	n, err := strconv.Atoi(num)
+	if err != nil || n < 1 || n > len(d.Filters) {
+		return nil, 0, fault.Invalidf("%q: design %s has filters 1 to %d", ref, d.ID, len(d.Filters))
+	}
+	return d, n - 1, nil
+}
+
+// ---- fit --save ----
+
 func saveFitCandidates(env *Env, o *fitOptions, run *fitRun) ([]string, error) {
-	return nil, fault.Invalidf("--save is not available in this build yet")
+	if o.stockCSV != "" {
+		return nil, fault.Invalidf("--save keeps designs that refer to rows of the stock database; import the file first (drawerfit stock import %s) and fit without --stock", o.stockCSV)
+	}
+	var ds []*production.Design
+	for i, c := range run.result.Candidates {
+		ds = append(ds, &production.Design{Boards: run.opts.Boards, Rank: i + 1, Pareto: c.Pareto, Settings: production.SettingsOf(run.opts),
+			Filters: []production.Filter{{Spec: run.spec, Candidate: c}}})
+	}
+	return saveDesigns(env, ds)
+}
+
+func saveDesigns(env *Env, ds []*production.Design) ([]string, error) {
+	db, err := env.openStore()
+	if err != nil {
+		return nil, err
+	}
+	defer db.Close()
+	if err := db.SaveDesigns(env.Ctx, ds); err != nil {
+		return nil, err
+	}
+	ids := make([]string, len(ds))
+	for i, d := range ds {
+		ids[i] = d.ID
+	}
+	return ids, nil
+}
+
+// addIDColumn puts the saved designs' ids into the candidate table as its
+// second column.
+func addIDColumn(g *grid, ids []string) {
+	if len(ids) == 0 {
+		return
+	}
+	g.header = append([]string{g.header[0], "id"}, g.header[1:]...)
+	for i := range g.rows {
+		id := ""
+		if i < len(ids) {
+			id = ids[i]
+		}
+		g.rows[i] = append([]string{g.rows[i][0], id}, g.rows[i][1:]...)
+	}
+	shifted := map[int]bool{}
+	for c, r := range g.rightAt {
+		if c >= 1 {
+			c++
+		}
+		shifted[c] = r
+	}
+	g.rightAt = shifted
+}
+
+// ---- fit --suggest ----
+
+// fitSuggestions are the purchase suggestions of a fit or plan.
+type fitSuggestions struct {
+	list    []production.Suggestion
+	boards  int
+	elapsed time.Duration
 }
 
 func suggestForFit(env *Env, o *fitOptions, run *fitRun) error {
-	return fault.Invalidf("--suggest is not available in this build yet")
+	start := env.Now()
+	list, err := production.SuggestFit(run.items, run.spec, run.opts, run.result, production.SuggestOptions{})
+	if err != nil {
+		return err
+	}
+	run.suggest = &fitSuggestions{list: list, boards: run.opts.Boards, elapsed: env.Now().Sub(start)}
+	return nil
+}
+
+func printFitSuggestions(env *Env, w io.Writer, run *fitRun) { run.suggest.print(env, w) }
+
+func (s *fitSuggestions) print(env *Env, w io.Writer) {
+	if s == nil {
+		return
+	}
+	fmt.Fprintf(w, "\nPurchase suggestions for %d board(s) (each tested by fitting again with it in stock; %s):\n", s.boards, s.elapsed.Round(time.Millisecond))
+	if len(s.list) == 0 {
+		fmt.Fprintln(w, "  none: no E24/E96 resistor or E6/E12 capacitor near the values the design needs improves on what is in stock.")
+		return
+	}
+	g := newGrid("#", "buy", "part", "for row", "what it buys")
+	g.right(0, 1)
+	for i, sg := range s.list {
+		for j, it := range sg.Items {
+			num, buys := "", ""
+			if j == 0 {
+				num, buys = strconv.Itoa(i+1), sg.Buys()
+			}
+			row := "new"
+			if it.ID != 0 {
+				row = strconv.FormatInt(it.ID, 10)
+			}
+			g.add(num, strconv.Itoa(it.Quantity), it.Label(), row, buys)
+		}
+	}
+	g.render(env, w)
+}
+
+type jsonPurchase struct {
+	StockID    *int64  `json:"stock_id"`
+	Kind       string  `json:"kind"`
+	Value      float64 `json:"value"`
+	Tolerance  float64 `json:"tolerance"`
+	Dielectric string  `json:"dielectric"`
+	Package    string  `json:"package"`
+	Quantity   int     `json:"quantity"`
+	Part       string  `json:"part"`
+}
+
+type jsonSuggestion struct {
+	Items           []jsonPurchase `json:"items"`
+	ClosesShortfall bool           `json:"closes_shortfall"`
+	ResponseError   *float64       `json:"response_error_db"`
+	ErrorBefore     *float64       `json:"response_error_before_db"`
+	UniqueBefore    int            `json:"unique_parts_before"`
+	UniqueAfter     int            `json:"unique_parts_after"`
+	UniqueSaved     int            `json:"unique_parts_saved"`
+	PartsBefore     int            `json:"parts_before"`
+	PartsAfter      int            `json:"parts_after"`
+	Buys            string         `json:"buys"`
+}
+
+func finite(v float64) *float64 {
+	if math.IsInf(v, 0) || math.IsNaN(v) {
+		return nil
+	}
+	return &v
+}
+
+func (s *fitSuggestions) json() []jsonSuggestion {
+	if s == nil {
+		return nil
+	}
+	out := []jsonSuggestion{}
+	for _, sg := range s.list {
+		js := jsonSuggestion{ClosesShortfall: sg.ClosesShortfall(), ResponseError: finite(sg.After.WorstError),
+			ErrorBefore: finite(sg.Before.WorstError), UniqueBefore: sg.Before.UniqueParts, UniqueAfter: sg.After.UniqueParts,
+			UniqueSaved: sg.UniqueSaved(), PartsBefore: sg.Before.PartCount, PartsAfter: sg.After.PartCount, Buys: sg.Buys()}
+		for _, it := range sg.Items {
+			jp := jsonPurchase{Kind: it.Kind.String(), Value: it.Value, Tolerance: it.Tolerance, Dielectric: it.Dielectric,
+				Package: it.Package, Quantity: it.Quantity, Part: it.Label()}
+			if it.ID != 0 {
+				id := it.ID
+				jp.StockID = &id
+			}
+			js.Items = append(js.Items, jp)
+		}
+		out = append(out, js)
+	}
+	return out
+}
+
+// ---- plan files ----
+
+// planFile is the TOML form of a board plan: a name, a batch size and a
+// [[filter]] table per filter with a label and the fit's specification
+// flags under the same names.
+type planFile struct {
+	Name    string           `toml:"name"`
+	Boards  int              `toml:"boards"`
+	Filters []planFileFilter `toml:"filter"`
+}
+
+type planFileFilter struct {
+	Label      string   `toml:"label"`
+	Kind       string   `toml:"kind"`
+	Pass       any      `toml:"pass"`
+	PassAtten  *float64 `toml:"pass-atten"`
+	Stop       any      `toml:"stop"`
+	Atten      *float64 `toml:"atten"`
+	Response   string   `toml:"response"`
+	Ripple     *float64 `toml:"ripple"`
+	Order      *int     `toml:"order"`
+	Odd        string   `toml:"odd"`
+	BesselNorm string   `toml:"bessel-norm"`
+}
+
+// readPlan reads and checks a plan file; every mistake is a fault.Invalid
+// naming the file, and the filter when it is one filter's.
+func readPlan(path string) (production.Plan, error) {
+	var pf planFile
+	var p production.Plan
+	md, err := toml.DecodeFile(path, &pf)
+	if err != nil {
+		if errors.Is(err, os.ErrNotExist) {
+			return p, fault.NotFoundf("plan file %s does not exist", path)
+		}
+		var pe toml.ParseError
+		if errors.As(err, &pe) {
+			return p, fault.Invalidf("plan file %s, line %d: %s", path, pe.Position.Line, pe.Message)
+		}
+		return p, fault.Invalidf("plan file %s: %v", path, err)
+	}
+	if und := md.Undecoded(); len(und) > 0 {
+		var keys []string
+		for _, k := range und {
+			keys = append(keys, k.String())
+		}
+		return p, fault.Invalidf("plan file %s: unknown keys %s (a filter takes label, kind, pass, pass-atten, stop, atten, response, ripple, order, odd, bessel-norm)",
+			path, strings.Join(keys, ", "))
+	}
+	p.Name, p.Boards = strings.TrimSpace(pf.Name), pf.Boards
+	if p.Name == "" {
+		return p, fault.Invalidf("plan file %s: give the board a name (name = \"...\")", path)
+	}
+	if !md.IsDefined("boards") {
+		p.Boards = 1
+	}
+	for i, f := range pf.Filters {
+		where := fmt.Sprintf("plan file %s, filter %d", path, i+1)
+		if strings.TrimSpace(f.Label) != "" {
+			where = fmt.Sprintf("plan file %s, filter %q", path, f.Label)
+		}
+		po := planOptions{kind: f.Kind, response: f.Response, odd: f.Odd, besselNorm: f.BesselNorm}
+		if po.response == "" {
+			po.response = "butterworth"
+		}
+		if po.odd == "" {
+			po.odd = "1pole"
+		}
+		if po.besselNorm == "" {
+			po.besselNorm = "mag"
+		} else {
+			po.besselNormSet = true
+		}
+		if po.pass, err = freqText(f.Pass); err != nil {
+			return p, fault.Invalidf("%s: pass: %v", where, err)
+		}
+		if po.stop, err = freqText(f.Stop); err != nil {
+			return p, fault.Invalidf("%s: stop: %v", where, err)
+		}
+		if f.PassAtten != nil {
+			po.passAtten, po.passAttenSet = *f.PassAtten, true
+		}
+		if f.Atten != nil {
+			po.atten, po.attenSet = *f.Atten, true
+		}
+		if f.Ripple != nil {
+			po.ripple, po.rippleSet = *f.Ripple, true
+		}
+		if f.Order != nil {
+			po.order, po.orderSet = *f.Order, true
+		}
+		if po.kind == "" {
+			return p, fault.Invalidf("%s: give kind = \"lowpass\" or \"highpass\"", where)
+		}
+		spec, err := planSpec(&po)
+		if err != nil {
+			// The flag names in planSpec's messages are the file's keys.
+			return p, fault.Invalidf("%s: %s", where, strings.ReplaceAll(err.Error(), "--", ""))
+		}
+		p.Filters = append(p.Filters, production.PlanFilter{Label: f.Label, Spec: spec})
+	}
+	if err := p.Validate(); err != nil {
+		return p, fault.Invalidf("plan file %s: %s", path, strings.TrimPrefix(err.Error(), fmt.Sprintf("plan %q: ", p.Name)))
+	}
+	return p, nil
+}
+
+// freqText accepts a frequency as text ("1.5k", "20 Hz") or a number.
+func freqText(v any) (string, error) {
+	switch x := v.(type) {
+	case nil:
+		return "", nil
+	case string:
+		return x, nil
+	case int64:
+		return strconv.FormatInt(x, 10), nil
+	case float64:
+		return strconv.FormatFloat(x, 'g', -1, 64), nil
+	}
+	return "", fmt.Errorf("%v is neither a number nor text such as \"1.5k\"", v)
+}
+
+// ---- fit --plan ----
+
+// planRun is everything a plan fit produced.
+type planRun struct {
+	file    string
+	opts    production.PlanOptions
+	result  *production.PlanResult
+	source  string
+	elapsed time.Duration
+	ids     []string // saved design ids, parallel to result.Boards (with --save)
+	suggest *fitSuggestions
+}
+
+func runPlanFit(env *Env, o *fitOptions) error {
+	p, err := readPlan(o.plan)
+	if err != nil {
+		return err
+	}
+	if o.boardsSet {
+		p.Boards = o.boards
+	}
+	fo, err := o.optimizeOptions()
+	if err != nil {
+		return err
+	}
+	items, err := env.stockItems(env.Ctx, o.stockCSV, stock.Filter{})
+	if err != nil {
+		return err
+	}
+	source := o.stockCSV
+	if source == "" {
+		source, _ = env.DefaultDBPath()
+	}
+	if len(items) == 0 {
+		return fault.Infeasiblef("the stock (%s) is empty: import a CSV with `drawerfit stock import FILE`, or fit against one with --stock FILE", source)
+	}
+	popts := production.PlanOptions{Fit: fo, Top: o.top}
+	prog := newProgress(env, "fitting the plan's filters")
+	popts.Progress = prog.update
+	start := env.Now()
+	res, err := production.FitPlan(items, p, popts)
+	prog.done()
+	if err != nil {
+		return err
+	}
+	run := &planRun{file: o.plan, opts: popts, result: res, source: source, elapsed: env.Now().Sub(start)}
+	if o.save && len(res.Boards) > 0 {
+		if o.stockCSV != "" {
+			return fault.Invalidf("--save keeps designs that refer to rows of the stock database; import the file first (drawerfit stock import %s) and fit without --stock", o.stockCSV)
+		}
+		var ds []*production.Design
+		for i, b := range res.Boards {
+			ds = append(ds, res.Design(b, i+1, production.SettingsOf(fo)))
+		}
+		if run.ids, err = saveDesigns(env, ds); err != nil {
+			return err
+		}
+	}
+	if o.suggest {
+		s0 := env.Now()
+		list, err := production.SuggestPlan(items, res, popts, production.SuggestOptions{})
+		if err != nil {
+			return err
+		}
+		run.suggest = &fitSuggestions{list: list, boards: p.Boards, elapsed: env.Now().Sub(s0)}
+	}
+	if o.json {
+		if err := writeJSON(env.Out, planFitJSON(run)); err != nil {
+			return err
+		}
+	} else {
+		printPlanFit(env, env.Out, run)
+		run.suggest.print(env, env.Out)
+	}
+	if len(res.Boards) == 0 || !res.Boards[0].MeetsSpec {
+		return exitError{code: 1}
+	}
+	return nil
+}
+
+func printPlanFit(env *Env, w io.Writer, run *planRun) {
+	res := run.result
+	p := res.Plan
+	fmt.Fprintf(w, "Plan %q (%s): %d filters (%d distinct), %d board(s)\n", p.Name, run.file, len(p.Filters), len(res.Groups), p.Boards)
+	fmt.Fprintf(w, "Stock: %s — quantities shared by all filters and boards; searched in %s\n\n", run.source, run.elapsed.Round(time.Millisecond))
+	if len(res.Boards) == 0 {
+		fmt.Fprintln(w, "No board can be built from the stock.")
+		for _, l := range res.Limits {
+			fmt.Fprintln(w, "  - "+l)
+		}
+		hint := "Try fewer --boards, --allow-dielectric or a wider value range"
+		if run.opts.Fit.Combine < 2 {
+			hint += ", --combine 2"
+		}
+		if run.suggest == nil {
+			hint += ", or --suggest for purchases"
+		}
+		fmt.Fprintln(w, "\n"+hint+".")
+		return
+	}
+	g := newGrid("#", "worst error dB", "parts", "unique", "shared", "boards", "pareto")
+	g.right(0, 1, 2, 3, 4, 5)
+	for i, b := range res.Boards {
+		mark := ""
+		if b.Pareto {
+			mark = "*"
+		}
+		if !b.MeetsSpec {
+			mark += " fails spec"
+		}
+		g.add(strconv.Itoa(i+1), fmtErr(b.WorstError), strconv.Itoa(b.PartCount), strconv.Itoa(b.UniqueParts),
+			strconv.Itoa(b.Shared), strconv.Itoa(b.BoardsBuildable), strings.TrimSpace(mark))
+	}
+	addIDColumn(g, run.ids)
+	g.render(env, w)
+	fmt.Fprintf(w, "\nRanked %s; worst error = the largest filter response error; unique = distinct stock rows on the board; shared = rows two or more filters use; '*' = on the Pareto front of worst error, parts and unique parts.\n",
+		rankText(run.opts.Fit))
+	best := res.Boards[0]
+	fmt.Fprintf(w, "\nBoard #1: %d parts from %d stock rows per board, worst response error %s dB\n", best.PartCount, best.UniqueParts, fmtErr(best.WorstError))
+	fg := newGrid("filter", "label", "specification", "error dB", "parts", "unique", "same as")
+	fg.right(0, 3, 4, 5)
+	for i, c := range best.Filters {
+		same := ""
+		for j := 0; j < i; j++ {
+			if best.Filters[j] == c {
+				same = strconv.Itoa(j + 1)
+				break
+			}
+		}
+		f := p.Filters[i]
+		fg.add(strconv.Itoa(i+1), f.Label, production.SpecText(f.Spec, c), fmtErr(c.ResponseError), strconv.Itoa(c.PartCount),
+			strconv.Itoa(c.UniqueParts), orDash(same))
+	}
+	fg.render(env, w)
+	for i, c := range best.Filters {
+		dup := false
+		for j := 0; j < i; j++ {
+			dup = dup || best.Filters[j] == c
+		}
+		if dup {
+			continue
+		}
+		fmt.Fprintf(w, "\nFilter %d, %s:", i+1, p.Filters[i].Label)
+		printCandidateDetail(env, w, c, 1)
+	}
+	for _, n := range res.Notes {
+		fmt.Fprintln(w, "Note: "+n)
+	}
+	if len(run.ids) > 0 {
+		fmt.Fprintf(w, "\nSaved %d board(s); build the first with `drawerfit build %s --boards %d`.\n", len(run.ids), run.ids[0], p.Boards)
+	}
+	fmt.Fprintln(w, "\nVerify on the bench before production; capacitor voltage ratings must suit the circuit; safety-relevant, medical or mains-connected uses need qualified review under local rules.")
+}
+
+// JSON shapes of a plan fit (stable keys).
+
+type jsonPlanFilter struct {
+	Label string   `json:"label"`
+	Spec  jsonSpec `json:"spec"`
+}
+
+type jsonBoardFilter struct {
+	Label     string        `json:"label"`
+	Spec      jsonSpec      `json:"spec"`
+	SameAs    *int          `json:"same_as"`
+	Candidate jsonCandidate `json:"candidate"`
+}
+
+type jsonBoard struct {
+	ID              string            `json:"id,omitempty"`
+	Name            string            `json:"name,omitempty"`
+	Rank            int               `json:"rank"`
+	WorstError      float64           `json:"worst_error_db"`
+	MeetsSpec       bool              `json:"meets_spec"`
+	PartCount       int               `json:"part_count"`
+	UniqueParts     int               `json:"unique_parts"`
+	SharedRows      int               `json:"shared_rows"`
+	BoardsBuildable int               `json:"boards_buildable"`
+	Pareto          bool              `json:"pareto"`
+	StockUse        []jsonStockUse    `json:"stock_use"`
+	Filters         []jsonBoardFilter `json:"filters"`
+}
+
+type jsonPlanFit struct {
+	Plan struct {
+		Name    string           `json:"name"`
+		Boards  int              `json:"boards"`
+		Filters []jsonPlanFilter `json:"filters"`
+	} `json:"plan"`
+	Boards      []jsonBoard      `json:"boards"`
+	Split       bool             `json:"split"`
+	Limits      []string         `json:"limits,omitempty"`
+	Notes       []string         `json:"notes,omitempty"`
+	Suggestions []jsonSuggestion `json:"suggestions,omitempty"`
+}
+
+func boardJSON(filters []*optimize.Candidate, specs []production.PlanFilter, b *production.Board, rank int) jsonBoard {
+	jb := jsonBoard{Rank: rank, WorstError: b.WorstError, MeetsSpec: b.MeetsSpec, PartCount: b.PartCount,
+		UniqueParts: b.UniqueParts, SharedRows: b.Shared, BoardsBuildable: b.BoardsBuildable, Pareto: b.Pareto,
+		StockUse: []jsonStockUse{}}
+	for _, u := range b.StockUse {
+		jb.StockUse = append(jb.StockUse, jsonStockUse{StockID: u.StockID, PerBoard: u.PerBoard})
+	}
+	for i, c := range filters {
+		jf := jsonBoardFilter{Label: specs[i].Label, Spec: specJSON(specs[i].Spec, specs[i].Spec.Order), Candidate: candidateJSON(c, 0)}
+		for j := 0; j < i; j++ {
+			if filters[j] == c {
+				n := j + 1
+				jf.SameAs = &n
+				break
+			}
+		}
+		jb.Filters = append(jb.Filters, jf)
+	}
+	return jb
+}
+
+func planFitJSON(run *planRun) jsonPlanFit {
+	res := run.result
+	var out jsonPlanFit
+	out.Plan.Name, out.Plan.Boards = res.Plan.Name, res.Plan.Boards
+	out.Plan.Filters = []jsonPlanFilter{}
+	for _, f := range res.Plan.Filters {
+		out.Plan.Filters = append(out.Plan.Filters, jsonPlanFilter{Label: f.Label, Spec: specJSON(f.Spec, f.Spec.Order)})
+	}
+	out.Boards = []jsonBoard{}
+	for i, b := range res.Boards {
+		jb := boardJSON(b.Filters, res.Plan.Filters, b, i+1)
+		if i < len(run.ids) {
+			jb.ID = run.ids[i]
+		}
+		out.Boards = append(out.Boards, jb)
+	}
+	out.Split, out.Limits, out.Notes = res.Split, res.Limits, res.Notes
+	out.Suggestions = run.suggest.json()
+	return out
+}
+
+// designBoard is the board figures of a saved design, for its JSON, with
+// the boards the current stock items cover.
+func designBoard(d *production.Design, items []stock.Item) *production.Board {
+	b := &production.Board{WorstError: d.WorstError(), MeetsSpec: d.MeetsSpec(), PartCount: d.PartCount(),
+		UniqueParts: d.UniqueParts(), StockUse: d.StockUse(), BoardsBuildable: d.BoardsBuildable(items), Pareto: d.Pareto}
+	seen := map[*optimize.Candidate]bool{}
+	var distinct []*optimize.Candidate
+	for _, f := range d.Filters {
+		b.Filters = append(b.Filters, f.Candidate)
+		if !seen[f.Candidate] {
+			seen[f.Candidate] = true
+			distinct = append(distinct, f.Candidate)
+		}
+	}
+	users := map[int64]int{}
+	for _, c := range distinct {
+		for _, u := range c.StockUse {
+			users[u.StockID]++
+		}
+	}
+	for _, n := range users {
+		if n > 1 {
+			b.Shared++
+		}
+	}
+	return b
 }

@@ -1,0 +1,121 @@
+package cli
+
+import (
+	"fmt"
+	"strconv"
+	"time"
+
+	"github.com/spf13/cobra"
+)
+
+func init() { register("designs", newDesignsCmd) }
+
+// designsOptions are the flags of `drawerfit designs`.
+type designsOptions struct {
+	json bool
+}
+
+func newDesignsCmd(env *Env) *cobra.Command {
+	o := &designsOptions{}
+	cmd := &cobra.Command{
+		Use:   "designs",
+		Short: "List the saved designs (fit --save), or remove one",
+		Long: `designs lists the designs kept with fit --save (one filter) or
+fit --plan FILE --save (a board of several filters), newest first: the
+short id that show, build, yield and report take, when it was saved, what
+it is, how many boards it was fitted for, its worst response error, its
+parts and distinct stock rows per board, and how many builds of it stand.`,
+		Example: `  # A model-railway club keeps the best three fits of its sound-card smoother
+  drawerfit fit lowpass --pass 8k --order 5 --response bessel --top 3 --save
+  drawerfit designs
+
+  # Drop one that will not be built
+  drawerfit designs remove k7qm2x`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error { return runDesigns(env, o) },
+	}
+	cmd.Flags().BoolVar(&o.json, "json", false, "print a JSON array")
+	cmd.AddCommand(newDesignsRemoveCmd(env))
+	return cmd
+}
+
+type jsonDesignInfo struct {
+	ID          string  `json:"id"`
+	Name        string  `json:"name"`
+	Summary     string  `json:"summary"`
+	Filters     int     `json:"filters"`
+	Boards      int     `json:"boards"`
+	WorstError  float64 `json:"worst_error_db"`
+	PartCount   int     `json:"part_count"`
+	UniqueParts int     `json:"unique_parts"`
+	MeetsSpec   bool    `json:"meets_spec"`
+	Created     string  `json:"created"`
+	Builds      int     `json:"builds"`
+}
+
+func runDesigns(env *Env, o *designsOptions) error {
+	db, err := env.openStore()
+	if err != nil {
+		return err
+	}
+	defer db.Close()
+	list, err := db.Designs(env.Ctx)
+	if err != nil {
+		return err
+	}
+	if o.json {
+		out := []jsonDesignInfo{}
+		for _, d := range list {
+			out = append(out, jsonDesignInfo{ID: d.ID, Name: d.Name, Summary: d.Summary, Filters: d.Filters, Boards: d.Boards,
+				WorstError: d.WorstError, PartCount: d.PartCount, UniqueParts: d.UniqueParts, MeetsSpec: d.MeetsSpec,
+				Created: d.Created.Format(time.RFC3339), Builds: d.Builds})
+		}
+		return writeJSON(env.Out, out)
+	}
+	if len(list) == 0 {
+		fmt.Fprintln(env.Out, "No saved designs yet: keep the candidates of a fit with `drawerfit fit ... --save`.")
+		return nil
+	}
+	g := newGrid("id", "saved", "design", "filters", "boards", "error dB", "parts", "unique", "builds")
+	g.right(3, 4, 5, 6, 7, 8)
+	for _, d := range list {
+		sum := d.Summary
+		if !d.MeetsSpec {
+			sum += " (fails spec)"
+		}
+		g.add(d.ID, d.Created.Local().Format("2006-01-02 15:04"), sum, strconv.Itoa(d.Filters), strconv.Itoa(d.Boards),
+			fmtErr(d.WorstError), strconv.Itoa(d.PartCount), strconv.Itoa(d.UniqueParts), strconv.Itoa(d.Builds))
+	}
+	g.render(env, env.Out)
+	return nil
+}
+
+func newDesignsRemoveCmd(env *Env) *cobra.Command {
+	return &cobra.Command{
+		Use:   "remove ID",
+		Short: "Take a saved design off the list (its builds keep referring to it)",
+		Long: `remove takes a saved design off the list. Builds made from it stay in
+drawerfit builds and can still be undone; its id is never given to another
+design.`,
+		Example: `  # The workshop decided against the 3-pole variant of its hum filter
+  drawerfit designs remove k7qm2x`,
+		Args: func(cmd *cobra.Command, args []string) error {
+			if len(args) != 1 {
+				return usageError{fmt.Errorf("designs remove needs one design id (got %d arguments)", len(args))}
+			}
+			return nil
+		},
+		RunE: func(cmd *cobra.Command, args []string) error {
+			db, err := env.openStore()
+			if err != nil {
+				return err
+			}
+			defer db.Close()
+			if err := db.RemoveDesign(env.Ctx, args[0]); err != nil {
+				return err
+			}
+			fmt.Fprintf(env.Out, "Removed design %s.\n", normalizeDesignID(args[0]))
+			return nil
+		},
+	}
+}
