@@ -312,11 +312,12 @@ func BenchmarkFitPlanFourFilters(b *testing.B) {
 }
 
 func benchPlan(b *testing.B, items []stock.Item, p Plan) {
-	var secs []float64
+	var secs, joint []float64
 	var nodes int
+	o := PlanOptions{Fit: optimize.DefaultOptions()}
 	for i := 0; i < b.N; i++ {
 		start := nowSeconds()
-		pr, err := FitPlan(items, p, PlanOptions{Fit: optimize.DefaultOptions()})
+		pr, err := FitPlan(items, p, o)
 		if err != nil {
 			b.Fatal(err)
 		}
@@ -325,9 +326,15 @@ func benchPlan(b *testing.B, items []stock.Item, p Plan) {
 		}
 		secs = append(secs, nowSeconds()-start)
 		nodes = pr.Nodes
+		// The joint search alone, on the same filter searches.
+		start = nowSeconds()
+		newJointSearch(items, pr.Plan, pr.Groups, o).run()
+		joint = append(joint, nowSeconds()-start)
 	}
 	sort.Float64s(secs)
+	sort.Float64s(joint)
 	b.ReportMetric(secs[len(secs)/2], "s/plan-median")
+	b.ReportMetric(joint[len(joint)/2], "s/joint-median")
 	b.ReportMetric(float64(nodes), "joint-nodes")
 }
 
