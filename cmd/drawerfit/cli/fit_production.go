@@ -366,6 +366,9 @@ type planRun struct {
 }
 
 func runPlanFit(env *Env, o *fitOptions) error {
+	if o.spec.kind != "" || o.spec.pass != "" || o.spec.stop != "" || o.spec.orderSet {
+		return fault.Invalidf("--plan takes the filters from the file: drop lowpass/highpass and --pass, --stop, --order")
+	}
 	p, err := readPlan(o.plan)
 	if err != nil {
 		return err
