@@ -207,7 +207,16 @@ func remedies(b *board, j *judge, opt *Options, blame []Blame, baseTol []float64
 }
 
 // pct formats a fraction as a percentage.
-func pct(x float64) string {
+func pct(x float64) string { return Percent(x) }
+
+// Percent writes a fraction in [0, 1] as a percentage with one decimal. A
+// fraction just short of 1 is written 99.9%, never rounded up to 100.0%;
+// one within 1e-9 of 1 (the Wilson bound of an all-pass run, less its
+// rounding error) is 100.0%.
+func Percent(x float64) string {
+	if x > 1-1e-9 {
+		x = 1
+	}
 	s := fmt.Sprintf("%.1f", 100*x)
 	if s == "100.0" && x < 1 {
 		s = "99.9"

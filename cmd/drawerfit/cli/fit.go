@@ -360,7 +360,7 @@ func printCandidateDetail(env *Env, w io.Writer, c *optimize.Candidate, rank int
 			for _, p := range comp.Parts {
 				bins = append(bins, orDash(p.Location))
 			}
-			g.add(comp.Ref, comp.Symbol, formatPart(comp.Value, comp.Kind), report.MadeOf(comp),
+			g.add(comp.Ref, comp.Symbol, fmtValue4(comp.Value, comp.Kind), report.MadeOf(comp),
 				strings.Join(bins, ", "), fmtTol(comp.Tolerance()))
 		}
 		g.render(env, w)
@@ -368,6 +368,15 @@ func printCandidateDetail(env *Env, w io.Writer, c *optimize.Candidate, rank int
 	for _, n := range c.Design.Notes {
 		fmt.Fprintln(w, "Design note: "+n)
 	}
+}
+
+// fmtValue4 writes a built value with at most four significant digits: a
+// combination's exact value (7.57856 kΩ) says no more than 7.579 kΩ.
+func fmtValue4(v float64, k synth.PartKind) string {
+	if k == synth.Capacitor {
+		return stock.FormatValuePrec(v, stock.Capacitor, 4)
+	}
+	return stock.FormatValuePrec(v, stock.Resistor, 4)
 }
 
 // fmtTol writes a relative tolerance as a percentage with two significant

@@ -2,6 +2,7 @@ package cli
 
 import (
 	"context"
+	"drawerfit/tolerance"
 	"errors"
 	"fmt"
 	"io"
@@ -52,6 +53,25 @@ func (s *savedDesigns) LoadDesign(ctx context.Context, id string) (*optimize.Can
 }
 
 func (s *savedDesigns) Close() error { return s.db.Close() }
+
+// RefitFor returns a refit over the database's current stock with the
+// options the design was fitted with.
+func (s *savedDesigns) RefitFor(ctx context.Context, id string, c *optimize.Candidate) (tolerance.RefitFunc, error) {
+	d, _, err := loadDesignFilter(ctx, s.db, id)
+	if err != nil {
+		return nil, err
+	}
+	items, err := s.db.List(ctx, stock.Filter{})
+	if err != nil {
+		return nil, err
+	}
+	opt, err := d.Settings.Options()
+	if err != nil {
+		return nil, err
+	}
+	opt.Boards = max(d.Boards, 1)
+	return refitFor(&fitRun{opts: opt, items: items}, c), nil
+}
 
 // loadDesignFilter reads "ID" (a one-filter design) or "ID/N" and returns
 // the design and the filter's index.

@@ -30,6 +30,13 @@ type designSource interface {
 	Close() error
 }
 
+// refitSource is a designSource that can also fit a design again (for the
+// "edge moved inside the specification" advice) from the current stock
+// with the options it was fitted with.
+type refitSource interface {
+	RefitFor(ctx context.Context, id string, c *optimize.Candidate) (tolerance.RefitFunc, error)
+}
+
 // yieldOptions are the flags of `drawerfit yield` (and the tolerance
 // options `fit --yield` shares).
 type yieldOptions struct {
@@ -134,6 +141,11 @@ The same seed and trial count always give the same result.`,
 				c, spec, err := src.LoadDesign(env.Ctx, args[0])
 				if err != nil {
 					return err
+				}
+				if r, ok := src.(refitSource); ok && o.refit == nil {
+					if o.refit, err = r.RefitFor(env.Ctx, args[0], c); err != nil {
+						return err
+					}
 				}
 				return runYield(env, o, "design "+args[0], c, spec)
 			},
@@ -394,13 +406,7 @@ func writeYieldReport(env *Env, w io.Writer, rep *yieldReport, sens bool) {
 }
 
 // yieldPct formats a fraction for reports.
-func yieldPct(x float64) string {
-	s := strconv.FormatFloat(100*x, 'f', 1, 64)
-	if s == "100.0" && x < 1 {
-		s = "99.9"
-	}
-	return s + "%"
-}
+func yieldPct(x float64) string { return tolerance.Percent(x) }
 
 // yieldHz formats a frequency with an SI prefix, to 4 significant digits.
 func yieldHz(f float64) string {
