@@ -80,7 +80,38 @@ func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
 	if err := spec.Normalize(); err != nil {
 		return nil, err
 	}
-	rows, why := usableRows(items, o)
+	orders, err := ordersFor(spec, wantOrder, o)
+	if err != nil {
+		return nil, err
+	}
+	type job struct {
+		n   int
+		odd synth.Odd
+	}
+	var jobs []job
+	var designs []*synth.Design
+	for _, n := range orders {
+		odds := []synth.Odd{synth.OddOnePole}
+		if n%2 == 1 && n >= 3 {
+			odds = nil
+			for _, odd := range []synth.Odd{synth.OddOnePole, synth.OddThreePole} {
+				if o.Odd == nil || *o.Odd == odd {
+					odds = append(odds, odd)
+				}
+			}
+		}
+		for _, odd := range odds {
+			s := spec
+			s.Order, s.Odd = n, odd
+			d, err := synth.NewDesign(s, n, odd)
+			if err != nil {
+				return nil, err
+			}
+			jobs = append(jobs, job{n, odd})
+			designs = append(designs, d)
+		}
+	}
+	rows, why, short := usableRows(items, o)
 	res, err := buildValues(rows, synth.Resistor, o.Combine, o.Boards, o.RMin, o.RMax)
 	if err != nil {
 		return nil, err
@@ -96,29 +127,15 @@ func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
 		} else if len(caps.vals) == 0 {
 			what = "resistors or capacitors"
 		}
+		if short > 0 {
+			// Parts exist but not enough for the boards asked: a result
+			// that says so (and that purchase suggestions can work from).
+			return &Result{Spec: spec, Resistors: len(res.vals), Capacitors: len(caps.vals), Designs: designs,
+				Limits: []string{fmt.Sprintf("quantity for %d boards: the stock has no usable %s%s", o.Boards, what, why)}}, nil
+		}
 		return nil, fault.Infeasiblef("the stock has no usable %s%s", what, why)
 	}
-	orders, err := ordersFor(spec, wantOrder, o)
-	if err != nil {
-		return nil, err
-	}
-	r := &Result{Spec: spec, Resistors: len(res.vals), Capacitors: len(caps.vals)}
-	type job struct {
-		n   int
-		odd synth.Odd
-	}
-	var jobs []job
-	for _, n := range orders {
-		if n%2 == 1 && n >= 3 {
-			for _, odd := range []synth.Odd{synth.OddOnePole, synth.OddThreePole} {
-				if o.Odd == nil || *o.Odd == odd {
-					jobs = append(jobs, job{n, odd})
-				}
-			}
-		} else {
-			jobs = append(jobs, job{n, synth.OddOnePole})
-		}
-	}
+	r := &Result{Spec: spec, Resistors: len(res.vals), Capacitors: len(caps.vals), Designs: designs}
 	grid := gridFor(spec)
 	passIdx, stopIdx := indexOf(grid.f, spec.Pass), -1
 	if spec.Stop > 0 {
@@ -129,14 +146,7 @@ func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
 	var lists [][][]sectionCand
 	var diags [][]sectionDiag
 	for ji, jb := range jobs {
-		s := spec
-		s.Order = jb.n
-		s.Odd = jb.odd
-		d, err := synth.NewDesign(s, jb.n, jb.odd)
-		if err != nil {
-			return nil, err
-		}
-		r.Designs = append(r.Designs, d)
+		d := designs[ji]
 		secLists := make([][]sectionCand, len(d.Sections))
 		secDiag := make([]sectionDiag, len(d.Sections))
 		tdbTotal := make([]float64, len(grid.w))
@@ -224,7 +234,7 @@ func checkOptions(o *Options) error {
 
 // usableRows turns stock items into search rows, dropping what the filters
 // exclude, and says why in a phrase for the error when nothing is left.
-func usableRows(items []stock.Item, o Options) ([]Row, string) {
+func usableRows(items []stock.Item, o Options) ([]Row, string, int) {
 	allowed := map[string]bool{}
 	for _, d := range o.AllowDielectric {
 		allowed[stock.NormalizeDielectric(d)] = true
@@ -264,9 +274,9 @@ func usableRows(items []stock.Item, o Options) ([]Row, string) {
 		why = append(why, fmt.Sprintf("%d rows with fewer than %d parts", short, o.Boards))
 	}
 	if len(why) == 0 {
-		return rows, ""
+		return rows, "", short
 	}
-	return rows, " (excluded: " + strings.Join(why, "; ") + ")"
+	return rows, " (excluded: " + strings.Join(why, "; ") + ")", short
 }
 
 func ordersFor(spec synth.Spec, want int, o Options) ([]int, error) {

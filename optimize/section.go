@@ -608,8 +608,8 @@ func (w *worker) searchSallenKeyHighPass(part, of int) {
 				}
 			}
 			b := w.box(lim)
-			aLo := math.Exp(-(b.xhi+b.yhi)) / (w0t * qt)
-			aHi := math.Exp(-(b.xlo+b.ylo)) / (w0t * qt)
+			aLo := math.Exp(-(b.xhi + b.yhi)) / (w0t * qt)
+			aHi := math.Exp(-(b.xlo + b.ylo)) / (w0t * qt)
 			top := sort.Search(len(fs.vals), func(i int) bool { return fs.vals[i] > aHi/C1 })
 			jl, jh := 0, 0
 			for rf := top - 1; rf >= 0; rf-- {
