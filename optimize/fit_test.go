@@ -295,3 +295,22 @@ func TestHugeStockRefused(t *testing.T) {
 		t.Fatalf("singles: %v", err)
 	}
 }
+
+// TestFitTooFewPartsForBoards: every row holds fewer parts than the boards
+// asked; the fit is not an error but a result without candidates whose
+// limits name the quantity.
+func TestFitTooFewPartsForBoards(t *testing.T) {
+	items := sampleStock(t)
+	o := DefaultOptions()
+	o.Boards = 10000
+	r, err := Fit(items, synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2}, o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(r.Candidates) != 0 || len(r.Limits) == 0 || !strings.Contains(r.Limits[0], "quantity for 10000 boards") {
+		t.Fatalf("candidates %d, limits %q", len(r.Candidates), r.Limits)
+	}
+	if len(r.Designs) != 1 {
+		t.Errorf("%d designs, want the one order asked", len(r.Designs))
+	}
+}
