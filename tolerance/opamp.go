@@ -248,27 +248,10 @@ func CheckOpAmp(c *optimize.Candidate, spec synth.Spec, op synth.OpAmp) (*OpAmpR
 	if op.DCGain == 0 {
 		op.DCGain = synth.DefaultDCGain
 	}
-	if c == nil {
-		return nil, fault.Invalidf("no design to analyse")
-	}
-	if spec.Pass == 0 && c.Design != nil {
-		spec = c.Design.Spec
-	}
-	if spec.Order == 0 && spec.Stop == 0 && c.Design != nil {
-		spec.Order = c.Design.Order
-	}
-	if err := spec.Normalize(); err != nil {
-		return nil, err
-	}
-	b, err := newBoard(c)
+	spec, b, j, err := prepare(c, spec)
 	if err != nil {
 		return nil, err
 	}
-	order := 0
-	for _, s := range b.sections {
-		order += s.topo.Poles
-	}
-	j := newJudge(spec, b, order)
 	ws := b.newWorkspace()
 	ws.load(b.nominalParts())
 	ob := &opampBoard{b: b, vals: ws.vals, op: &op}

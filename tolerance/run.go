@@ -120,6 +120,33 @@ type Result struct {
 	Warnings []string `json:"warnings"`
 }
 
+// prepare checks the candidate, completes the specification from its design
+// when spec is zero (or lacks the order), and builds the board model and the
+// judge of every trial.
+func prepare(c *optimize.Candidate, spec synth.Spec) (synth.Spec, *board, *judge, error) {
+	if c == nil {
+		return spec, nil, nil, fault.Invalidf("no design to analyse")
+	}
+	if spec.Pass == 0 && c.Design != nil {
+		spec = c.Design.Spec
+	}
+	if spec.Order == 0 && spec.Stop == 0 && c.Design != nil {
+		spec.Order = c.Design.Order
+	}
+	if err := spec.Normalize(); err != nil {
+		return spec, nil, nil, err
+	}
+	b, err := newBoard(c)
+	if err != nil {
+		return spec, nil, nil, err
+	}
+	order := 0
+	for _, s := range b.sections {
+		order += s.topo.Poles
+	}
+	return spec, b, newJudge(spec, b, order), nil
+}
+
 // Run estimates the yield of candidate c against spec by Monte Carlo.
 //
 // Every physical part is drawn independently within its stock row's
@@ -134,27 +161,10 @@ func Run(c *optimize.Candidate, spec synth.Spec, opt Options) (*Result, error) {
 	if err := opt.normalize(); err != nil {
 		return nil, err
 	}
-	if c == nil {
-		return nil, fault.Invalidf("no design to analyse")
-	}
-	if spec.Pass == 0 && c.Design != nil {
-		spec = c.Design.Spec
-	}
-	if spec.Order == 0 && spec.Stop == 0 && c.Design != nil {
-		spec.Order = c.Design.Order
-	}
-	if err := spec.Normalize(); err != nil {
-		return nil, err
-	}
-	b, err := newBoard(c)
+	spec, b, j, err := prepare(c, spec)
 	if err != nil {
 		return nil, err
 	}
-	order := 0
-	for _, s := range b.sections {
-		order += s.topo.Poles
-	}
-	j := newJudge(spec, b, order)
 	tol := make([]float64, len(b.parts))
 	for i, p := range b.parts {
 		tol[i] = p.tol

@@ -97,15 +97,11 @@ func runBuild(env *Env, o *buildOptions, id string) error {
 	if o.boards < 1 {
 		return fault.Invalidf("--boards must be at least 1, not %d", o.boards)
 	}
-	db, err := env.openStore()
+	db, d, err := env.openDesign(id)
 	if err != nil {
 		return err
 	}
 	defer db.Close()
-	d, err := db.Design(env.Ctx, id)
-	if err != nil {
-		return err
-	}
 	batch, err := production.NewBatch(d, o.boards)
 	if err != nil {
 		return err

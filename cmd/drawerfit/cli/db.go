@@ -2,6 +2,7 @@ package cli
 
 import (
 	"context"
+	"drawerfit/production"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -94,4 +95,19 @@ func (e *Env) readStockCSV(path string) ([]stock.Item, error) {
 		return nil, fault.Invalidf("%s: %w", name, err)
 	}
 	return items, nil
+}
+
+// openDesign opens the stock database and loads saved design id; the caller
+// closes the database.
+func (e *Env) openDesign(id string) (*store.DB, *production.Design, error) {
+	db, err := e.openStore()
+	if err != nil {
+		return nil, nil, err
+	}
+	d, err := db.Design(e.Ctx, id)
+	if err != nil {
+		db.Close()
+		return nil, nil, err
+	}
+	return db, d, nil
 }

@@ -86,15 +86,11 @@ sheet per filter (FILE-1.html, FILE-2.html, ...) unless --filter picks one.`,
 
 // runReport loads saved design id and writes its sheets.
 func runReport(env *Env, o *reportOptions, id string) error {
-	db, err := env.openStore()
+	db, d, err := env.openDesign(id)
 	if err != nil {
 		return err
 	}
 	defer db.Close()
-	d, err := db.Design(env.Ctx, id)
-	if err != nil {
-		return err
-	}
 	// The stock as it is now, for the bias resistors and the refit.
 	items, err := db.List(env.Ctx, stock.Filter{})
 	if err != nil {

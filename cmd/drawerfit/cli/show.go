@@ -96,15 +96,11 @@ type jsonShowBoard struct {
 }
 
 func runShow(env *Env, o *showOptions, id string) error {
-	db, err := env.openStore()
+	db, d, err := env.openDesign(id)
 	if err != nil {
 		return err
 	}
 	defer db.Close()
-	d, err := db.Design(env.Ctx, id)
-	if err != nil {
-		return err
-	}
 	batch, err := production.NewBatch(d, d.Boards)
 	if err != nil {
 		return err
