@@ -320,18 +320,10 @@ func refitFor(run *fitRun, c *optimize.Candidate) tolerance.RefitFunc {
 	}
 }
 
-// biasRow is a stock resistor row and how many of its parts are left for
-// the bias resistors after the candidate's own parts for every board.
-type biasRow struct {
-	part optimize.Part
-	left int
-}
-
 // fitBiasResistors computes each section's bias-current compensation
-// resistor and fits it from the resistor rows the search could use (the
-// same value range and stock), single parts or, with --combine 2, pairs in
-// series or parallel, taking only parts the candidate leaves over for the
-// batch. The second result explains a failure.
+// resistor and takes the nearest realisable value from the resistor rows
+// the search could use (optimize.Nearest), leaving the candidate's own parts
+// for the batch. The second result explains a failure.
 func fitBiasResistors(c *optimize.Candidate, run *fitRun) ([]fittedBias, string) {
 	brs, err := tolerance.BiasResistors(c)
 	if err != nil {
@@ -342,94 +334,17 @@ func fitBiasResistors(c *optimize.Candidate, run *fitRun) ([]fittedBias, string)
 	for _, u := range c.StockUse {
 		used[u.StockID] += u.PerBoard * boards
 	}
-	var rows []*biasRow
-	for _, it := range run.items {
-		if it.Kind != stock.Resistor || it.Value < run.opts.RMin*(1-1e-12) || it.Value > run.opts.RMax*(1+1e-12) {
-			continue
-		}
-		rows = append(rows, &biasRow{
-			part: optimize.Part{StockID: it.ID, Value: it.Value, Tolerance: it.Tolerance, Location: it.Location, Package: it.Package},
-			left: it.Quantity - used[it.ID]})
-	}
-	sort.SliceStable(rows, func(a, b int) bool { return rows[a].part.Value < rows[b].part.Value })
+	near := optimize.NewNearest(run.items, run.opts, used)
 	out := make([]fittedBias, 0, len(brs))
 	for _, b := range brs {
 		fb := fittedBias{BiasResistor: b}
-		fb.Part = nearestBias(b.Ohms, rows, boards, run.opts.Combine)
+		fb.Part, _ = near.Take(b.Ohms)
 		fb.Part.Ref = fmt.Sprintf("Rfb%d", b.Section)
 		fb.Part.Symbol = "Rfb"
 		fb.Part.Kind = synth.Resistor
-		for _, p := range fb.Part.Parts {
-			for _, r := range rows {
-				if r.part.StockID == p.StockID {
-					r.left -= boards
-				}
-			}
-		}
 		out = append(out, fb)
 	}
 	return out, ""
-}
-
-// nearestBias returns the realisable value nearest to target (relative
-// error; ties: fewer parts) from rows sorted by value, each part needing
-// boards parts left in its row. It returns an empty component when
-// nothing is available.
-func nearestBias(target float64, rows []*biasRow, boards, combine int) optimize.Component {
-	var avail []*biasRow
-	for _, r := range rows {
-		if r.left >= boards {
-			avail = append(avail, r)
-		}
-	}
-	var best optimize.Component
-	bestErr := math.Inf(1)
-	consider := func(v float64, arr synth.Arrangement, parts ...optimize.Part) {
-		e := math.Abs(v/target - 1)
-		// Ties (within rounding) go to fewer parts.
-		if e < bestErr-1e-12 || (e <= bestErr+1e-12 && len(parts) < len(best.Parts)) {
-			bestErr = e
-			best = optimize.Component{Value: v, Arrangement: arr, Parts: append([]optimize.Part(nil), parts...)}
-		}
-	}
-	for _, r := range avail {
-		consider(r.part.Value, synth.Single, r.part)
-	}
-	if combine < 2 || len(avail) == 0 {
-		return best
-	}
-	vals := make([]float64, len(avail))
-	for i, r := range avail {
-		vals[i] = r.part.Value
-	}
-	// For a fixed first part the pair's value is monotonic in the second,
-	// so the nearest pair has its second part next to the ideal partner.
-	tryPartner := func(i int, ideal float64, arr synth.Arrangement) {
-		if !(ideal > 0) || math.IsInf(ideal, 0) {
-			return
-		}
-		k := sort.SearchFloat64s(vals, ideal)
-		ok := func(j int) bool { return j != i || avail[i].left >= 2*boards }
-		for j := k - 1; j >= 0; j-- {
-			if ok(j) {
-				consider(synth.Resistor.Combine(arr, vals[i], vals[j]), arr, avail[i].part, avail[j].part)
-				break
-			}
-		}
-		for j := k; j < len(vals); j++ {
-			if ok(j) {
-				consider(synth.Resistor.Combine(arr, vals[i], vals[j]), arr, avail[i].part, avail[j].part)
-				break
-			}
-		}
-	}
-	for i, a := range vals {
-		tryPartner(i, target-a, synth.Series)
-		if a > target {
-			tryPartner(i, 1/(1/target-1/a), synth.Parallel)
-		}
-	}
-	return best
 }
 
 // printFitTable adds the checks' columns to the candidate table, renders
