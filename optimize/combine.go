@@ -165,6 +165,8 @@ type combiner struct {
 	resIdx [][]int // per section, the resistor positions
 	rmid   float64 // √(Rmin·Rmax)
 
+	minErr float64 // the smallest cascade error of any complete combination seen
+
 	budget    int  // largest number of nodes to visit; 0 means no limit
 	truncated bool // the budget ran out
 }
@@ -316,6 +318,7 @@ func (c *combiner) leaf(parts int) {
 	for _, d := range sum {
 		e = math.Max(e, math.Abs(d))
 	}
+	c.minErr = math.Min(c.minErr, e)
 	pa := -(c.tdbTotal[c.passIdx] + sum[c.passIdx])
 	sa := math.NaN()
 	meets := pa <= c.ap+1e-9

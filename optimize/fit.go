@@ -80,6 +80,14 @@ func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
 	if err := spec.Normalize(); err != nil {
 		return nil, err
 	}
+	if wantOrder > 0 && o.MaxOrder > 0 {
+		return nil, fault.Invalidf("--max-order goes with an automatic order: drop --order %d or --max-order %d", wantOrder, o.MaxOrder)
+	}
+	for _, d := range o.AllowDielectric {
+		if !stock.KnownDielectric(d) && !stockHasDielectric(items, d) {
+			return nil, fault.Invalidf("--allow-dielectric: %q is neither a known dielectric (X7R, X5R, Y5V, electrolytic, tantalum, ...) nor one in the stock", d)
+		}
+	}
 	orders, err := ordersFor(spec, wantOrder, o)
 	if err != nil {
 		return nil, err
@@ -147,33 +155,30 @@ func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
 	var diags [][]sectionDiag
 	for ji, jb := range jobs {
 		d := designs[ji]
-		secLists := make([][]sectionCand, len(d.Sections))
-		secDiag := make([]sectionDiag, len(d.Sections))
-		tdbTotal := make([]float64, len(grid.w))
-		for i := range d.Sections {
-			t := newTarget(&d.Sections[i], &grid)
-			for g, v := range t.tdb {
-				tdbTotal[g] += v
+		// The shortlists are exact per section, but a poor cascade can be
+		// made of sections that rank low on their own and cancel each
+		// other's deviations. When this design's best combination is not
+		// within the good-enough error, search again with shortlists
+		// eight times as long (once).
+		var secLists [][]sectionCand
+		var secDiag []sectionDiag
+		savedTop, savedClosest := append([]*combo(nil), top.list...), closest
+		for k := o.Shortlist; ; k *= 8 {
+			var cb *combiner
+			secLists, secDiag, cb = searchDesign(d, &grid, res, caps, rows, o, k, ji, passIdx, stopIdx, spec, top)
+			if cb.truncated {
+				r.Notes = append(r.Notes, fmt.Sprintf("order %d (%s): the cross-section search stopped after %d combinations; the list may miss some designs",
+					jb.n, arrangementName(d), cb.nodes))
 			}
-			ss := &sectionSearch{t: t, res: res, cap: caps, rows: rows, boards: o.Boards,
-				k: o.Shortlist, ceiling: sectionCeiling, rmin: o.RMin, rmax: o.RMax}
-			secLists[i], secDiag[i] = ss.run(o.Workers)
-			sortForRank(secLists[i], o.Rank)
-		}
-		cb := &combiner{lists: secLists, rows: rows, boards: o.Boards, rank: o.Rank,
-			goodEnough: o.GoodEnough, design: ji, passIdx: passIdx, stopIdx: stopIdx,
-			tdbTotal: tdbTotal, ap: spec.PassAtten, as: spec.StopAtten, keepFail: o.ShowFailing,
-			out: top, budget: o.NodeBudget, rmid: math.Sqrt(o.RMin * o.RMax)}
-		for i := range d.Sections {
-			cb.resIdx = append(cb.resIdx, d.Sections[i].Topology.Indices(synth.Resistor))
-		}
-		cb.run()
-		if cb.truncated {
-			r.Notes = append(r.Notes, fmt.Sprintf("order %d (%s): the cross-section search stopped after %d combinations; the list may miss some designs",
-				jb.n, arrangementName(d), cb.nodes))
-		}
-		if cb.closest != nil && (closest == nil || cb.closest.err < closest.err) {
-			closest = cb.closest
+			if cb.closest != nil && (closest == nil || cb.closest.err < closest.err) {
+				closest = cb.closest
+			}
+			if cb.minErr <= o.GoodEnough || k > o.Shortlist || cb.truncated {
+				break
+			}
+			// Search again from the list as it was before this design.
+			top.list = append(top.list[:0], savedTop...)
+			closest = savedClosest
 		}
 		lists = append(lists, secLists)
 		diags = append(diags, secDiag)
@@ -189,14 +194,52 @@ func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
 		_ = i
 		c.BoardsBuildable = boardsBuildable(c, rows)
 	}
+	if wantOrder > 0 && spec.Stop > 0 {
+		if minN, err := synth.MinOrder(spec); err == nil && wantOrder < minN {
+			msg := fmt.Sprintf("order %d is below the minimum order %d that meets the specification: even the ideal design gives %.2f dB at fs (%.2f needed)",
+				wantOrder, minN, r.Designs[0].AttenuationAt(spec.Stop), spec.StopAtten)
+			r.Notes = append(r.Notes, msg)
+			if len(r.Candidates) == 0 {
+				r.Limits = append(r.Limits, msg)
+			}
+		}
+	}
 	if len(r.Candidates) == 0 {
 		if closest != nil {
 			r.Closest = assemble(closest, r.Designs[closest.design], lists[closest.design], rows, res, caps, o)
 			r.Closest.BoardsBuildable = boardsBuildable(r.Closest, rows)
 		}
-		r.Limits = explain(r, diags, rows, o)
+		r.Limits = append(r.Limits, explain(r, diags, rows, o)...)
 	}
 	return r, nil
+}
+
+// searchDesign searches every section of design d with shortlists of k per
+// part count and combines them into top.
+func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []Row, o Options, k, ji, passIdx, stopIdx int,
+	spec synth.Spec, top *topList) ([][]sectionCand, []sectionDiag, *combiner) {
+	secLists := make([][]sectionCand, len(d.Sections))
+	secDiag := make([]sectionDiag, len(d.Sections))
+	tdbTotal := make([]float64, len(grid.w))
+	for i := range d.Sections {
+		t := newTarget(&d.Sections[i], grid)
+		for g, v := range t.tdb {
+			tdbTotal[g] += v
+		}
+		ss := &sectionSearch{t: t, res: res, cap: caps, rows: rows, boards: o.Boards,
+			k: k, ceiling: sectionCeiling, rmin: o.RMin, rmax: o.RMax}
+		secLists[i], secDiag[i] = ss.run(o.Workers)
+		sortForRank(secLists[i], o.Rank)
+	}
+	cb := &combiner{lists: secLists, rows: rows, boards: o.Boards, rank: o.Rank,
+		goodEnough: o.GoodEnough, design: ji, passIdx: passIdx, stopIdx: stopIdx,
+		tdbTotal: tdbTotal, ap: spec.PassAtten, as: spec.StopAtten, keepFail: o.ShowFailing,
+		out: top, budget: o.NodeBudget, rmid: math.Sqrt(o.RMin * o.RMax), minErr: math.Inf(1)}
+	for i := range d.Sections {
+		cb.resIdx = append(cb.resIdx, d.Sections[i].Topology.Indices(synth.Resistor))
+	}
+	cb.run()
+	return secLists, secDiag, cb
 }
 
 // sectionCeiling is the largest section error (dB) a shortlist keeps: a
@@ -241,6 +284,7 @@ func usableRows(items []stock.Item, o Options) ([]Row, string, int) {
 	}
 	var rows []Row
 	var short, diel, rng int
+	var shortKind [2]int
 	for _, it := range items {
 		k := synth.Resistor
 		lo, hi := o.RMin, o.RMax
@@ -254,6 +298,7 @@ func usableRows(items []stock.Item, o Options) ([]Row, string, int) {
 		}
 		if it.Quantity < o.Boards {
 			short++
+			shortKind[k]++
 			continue
 		}
 		if it.Value < lo*(1-1e-12) || it.Value > hi*(1+1e-12) {
@@ -271,12 +316,22 @@ func usableRows(items []stock.Item, o Options) ([]Row, string, int) {
 		why = append(why, fmt.Sprintf("%d capacitor rows of a dielectric not allowed (see --allow-dielectric)", diel))
 	}
 	if short > 0 {
-		why = append(why, fmt.Sprintf("%d rows with fewer than %d parts", short, o.Boards))
+		why = append(why, fmt.Sprintf("%d resistor and %d capacitor rows with fewer than %d parts", shortKind[synth.Resistor], shortKind[synth.Capacitor], o.Boards))
 	}
 	if len(why) == 0 {
 		return rows, "", short
 	}
 	return rows, " (excluded: " + strings.Join(why, "; ") + ")", short
+}
+
+func stockHasDielectric(items []stock.Item, d string) bool {
+	n := stock.NormalizeDielectric(d)
+	for _, it := range items {
+		if it.Kind == stock.Capacitor && stock.NormalizeDielectric(it.Dielectric) == n {
+			return true
+		}
+	}
+	return false
 }
 
 func ordersFor(spec synth.Spec, want int, o Options) ([]int, error) {

@@ -88,3 +88,15 @@ func NormalizeDielectric(d string) string {
 // X5R, Y5V, Z5U, ...), electrolytics, tantalum, an empty dielectric and any
 // unknown name do not. d is normalised first.
 func IsPrecisionDielectric(d string) bool { return precisionDielectrics[NormalizeDielectric(d)] }
+
+// KnownDielectric reports whether d (in any spelling NormalizeDielectric
+// accepts) is one of the dielectric names drawerfit knows.
+func KnownDielectric(d string) bool {
+	n := NormalizeDielectric(d)
+	for _, c := range dielectricAliases {
+		if c == n {
+			return true
+		}
+	}
+	return false
+}

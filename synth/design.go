@@ -212,8 +212,8 @@ func buildDesign(s Spec, n int, odd Odd) (*Design, error) {
 		return s.Pass * w
 	}
 	total := len(pairs)
-	if realPole != 0 {
-		total++
+	if realPole != 0 && (odd == OddOnePole || len(pairs) == 0) {
+		total++ // the real pole is a stage of its own
 	}
 	if realPole != 0 && (odd == OddOnePole || len(pairs) == 0) {
 		f := hz(realPole)

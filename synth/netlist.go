@@ -171,7 +171,7 @@ func Netlist(stages []Stage, o NetlistOptions) string {
 			}
 			from, to := node(e.From), node(e.To)
 			if len(p.Parts) > 1 {
-				w("* %s %s = %s: %d parts in %s", e.Ref, e.Symbol, spiceNum(vals[j]), len(p.Parts), p.Arrangement)
+				w("* %s %s = %s: %d parts in %s", e.Ref, e.Symbol, strconv.FormatFloat(vals[j], 'g', 6, 64), len(p.Parts), p.Arrangement)
 			}
 			if p.Arrangement == Series && len(p.Parts) > 1 {
 				prev := from

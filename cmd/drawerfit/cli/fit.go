@@ -307,7 +307,7 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 		for _, l := range res.Limits {
 			fmt.Fprintln(w, "  - "+l)
 		}
-		fmt.Fprintln(w, "\nTry --allow-dielectric, a wider --r-min/--r-max or --c-min/--c-max, --combine 2, fewer --boards, or --show-failing to see the misses.")
+		fmt.Fprintln(w, "\n"+tryText(run))
 		return
 	}
 	g := newGrid("#", "order", "sections", "error dB", "at fp dB", "at fs dB", "parts", "unique", "boards", "pareto")
@@ -327,7 +327,7 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 	addIDColumn(g, run.ids)
 	run.checks.printTable(env, w, g, res.Candidates)
 	fmt.Fprintf(w, "\nRanked %s; error = largest deviation from the ideal %s response; '*' = on the Pareto front of error, parts and unique parts.\n",
-		rankText(run.opts), res.Spec.Approx)
+		rankText(run.opts), approxName(res.Spec))
 	printCandidateDetail(env, w, res.Candidates[0], 1)
 	printFitChecks(env, w, run, res.Candidates[0])
 	for _, n := range res.Notes {
@@ -386,6 +386,23 @@ func fmtTol(t float64) string {
 		return "?"
 	}
 	return strconv.FormatFloat(100*t, 'g', 2, 64) + "%"
+}
+
+// tryText suggests the options that could widen a fit that found nothing.
+func tryText(run *fitRun) string {
+	o := run.opts
+	tries := []string{"--allow-dielectric", "a wider --r-min/--r-max or --c-min/--c-max"}
+	if o.Combine < 2 {
+		tries = append(tries, "--combine 2")
+	}
+	if o.Boards > 1 {
+		tries = append(tries, "fewer --boards")
+	}
+	tries = append(tries, "--suggest for purchases")
+	if !o.ShowFailing {
+		tries = append(tries, "--show-failing to see the misses")
+	}
+	return "Try " + strings.Join(tries[:len(tries)-1], ", ") + " or " + tries[len(tries)-1] + "."
 }
 
 func orDash(s string) string {
