@@ -676,7 +676,7 @@ func writeSheetFiles(env *Env, s *report.Sheet, path, pngDir, prefix string) err
 		if err := writeFileAtomic(path, func(w io.Writer) error { _, err := w.Write(b); return err }); err != nil {
 			return err
 		}
-		fmt.Fprintln(env.Err, "drawerfit: build sheet written to "+path)
+		fmt.Fprintln(env.Err, "build sheet written to "+path)
 	}
 	if pngDir != "" {
 		if err := os.MkdirAll(pngDir, 0o755); err != nil {
@@ -686,7 +686,7 @@ func writeSheetFiles(env *Env, s *report.Sheet, path, pngDir, prefix string) err
 		if err != nil {
 			return fmt.Errorf("plots: %w", err)
 		}
-		fmt.Fprintln(env.Err, "drawerfit: plots written to "+strings.Join(files, ", "))
+		fmt.Fprintln(env.Err, "plots written to "+strings.Join(files, ", "))
 	}
 	return nil
 }

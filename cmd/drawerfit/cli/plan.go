@@ -402,6 +402,8 @@ func ordinal(n int) string {
 // formatHz writes a frequency with an SI prefix and up to 5 significant
 // digits: 1 kHz, 1.5 kHz, 440 Hz.
 func formatHz(f float64) string {
+	// Round first, so that 999.99999 Hz is written 1 kHz, not 1000 Hz.
+	f, _ = strconv.ParseFloat(strconv.FormatFloat(f, 'g', 5, 64), 64)
 	for _, p := range []struct {
 		s string
 		v float64

@@ -181,6 +181,9 @@ func (o *yieldOptions) tolOptions() (tolerance.Options, error) {
 	if o.passMargin < 0 || o.stopMargin < 0 {
 		return tolerance.Options{}, fault.Invalidf("--pass-margin and --stop-margin widen the window: give positive dB")
 	}
+	if o.trials < 1 || o.trials > tolerance.MaxTrials {
+		return tolerance.Options{}, fault.Invalidf("--trials must be between 1 and %d, not %d", tolerance.MaxTrials, o.trials)
+	}
 	return tolerance.Options{Trials: o.trials, Seed: o.seed, Dist: dist, PassMargin: o.passMargin,
 		StopMargin: o.stopMargin, TargetYield: ty, Boards: o.boards, Refit: o.refit}, nil
 }
