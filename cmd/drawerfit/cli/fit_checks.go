@@ -247,9 +247,6 @@ func runFitChecks(env *Env, o *fitOptions, run *fitRun) error {
 		}
 		fc.byCan[best].yield = r
 	}
-	if co.tol.biasResistor && len(res.Candidates) > 0 {
-		res.Notes = append(res.Notes, "bias-current compensation resistors (--bias-resistor) go from each follower's output to its - input; no signal current flows in them, so they do not change the response.")
-	}
 	if co.report != "" || co.png != "" {
 		return writeFitSheet(env, o, run)
 	}
