@@ -183,8 +183,9 @@ func build(ctx context.Context, q querier, id int64) (*production.Build, error) 
 // UndoBuild returns the parts build id took to their rows in one
 // transaction, with ledger entries of reason production.UndoReason, and
 // marks the build undone. A build undone before is fault.Conflict, and so
-// is one whose rows have been removed from the inventory since (nothing
-// is returned then; add the rows back first).
+// is one whose rows have been removed from the inventory since with no
+// live row of the same identity to take the parts (nothing is returned
+// then; add the part back first).
 func (db *DB) UndoBuild(ctx context.Context, id int64) (*production.Build, error) {
 	var b *production.Build
 	err := db.Tx(ctx, func(tx *Tx) error {
@@ -200,13 +201,23 @@ func (db *DB) UndoBuild(ctx context.Context, id int64) (*production.Build, error
 			if m.Delta >= 0 {
 				continue
 			}
+			target := m.StockID
 			if _, err := get(ctx, tx.Tx, m.StockID); fault.KindOf(err) == fault.NotFound {
-				return fault.Conflictf("build %d cannot be undone: stock row %d (%s) has been removed since; add the part back, then undo again",
-					id, m.StockID, m.Part.Label())
+				// The row was removed; a live row of the same identity
+				// (the part added back) takes the parts instead.
+				same, ok, err := findIdentity(ctx, tx.Tx, m.Part)
+				if err != nil {
+					return err
+				}
+				if !ok {
+					return fault.Conflictf("build %d cannot be undone: stock row %d (%s) has been removed since and no row holds that part; add it back (stock add with the same value, tolerance, package, dielectric and location), then undo again",
+						id, m.StockID, m.Part.Label())
+				}
+				target = same.ID
 			} else if err != nil {
 				return err
 			}
-			deltas = append(deltas, stock.Delta{StockID: m.StockID, Change: -m.Delta})
+			deltas = append(deltas, stock.Delta{StockID: target, Change: -m.Delta})
 		}
 		if len(deltas) > 0 {
 			if err := tx.adjustLinked(ctx, id, deltas, production.UndoReason(id), true); err != nil {

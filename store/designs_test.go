@@ -383,3 +383,44 @@ func TestSeedDesignSurvivesMigration(t *testing.T) {
 		t.Fatalf("seed build: %+v %v", b, err)
 	}
 }
+
+// TestUndoOntoTheRowAddedBack: after a used row is removed and the same part
+// is added again (a new row of the same identity), undo returns the parts
+// to that row.
+func TestUndoOntoTheRowAddedBack(t *testing.T) {
+	ctx := context.Background()
+	db := openTest(t)
+	d := fixtureDesign(t, db, 20)
+	if err := db.SaveDesigns(ctx, []*production.Design{d}); err != nil {
+		t.Fatal(err)
+	}
+	batch, _ := production.NewBatch(d, 2)
+	res, err := production.BuildBatch(ctx, db, batch)
+	if err != nil {
+		t.Fatal(err)
+	}
+	use := d.Filters[0].Candidate.StockUse[0]
+	old, err := db.Get(ctx, use.StockID)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := db.Remove(ctx, use.StockID); err != nil {
+		t.Fatal(err)
+	}
+	again := old
+	again.ID, again.Quantity = 0, 3
+	added, _, err := db.Add(ctx, again, "found the reel")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := db.UndoBuild(ctx, res.Build.ID); err != nil {
+		t.Fatalf("undo: %v", err)
+	}
+	got, err := db.Get(ctx, added.ID)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := 3 + 2*use.PerBoard; got.Quantity != want {
+		t.Errorf("row added back holds %d, want %d", got.Quantity, want)
+	}
+}

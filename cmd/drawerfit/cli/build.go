@@ -278,8 +278,9 @@ func newBuildUndoCmd(env *Env) *cobra.Command {
 		Long: `undo puts the parts a build drew back into their rows in one
 transaction, writing ledger entries "undo build N", and marks the build
 undone; a second undo of the same build is refused. If a row has been
-removed from the inventory since, nothing is returned: add the part back
-first.`,
+removed from the inventory since, its parts go to the row that holds the
+same part now (the part added back with stock add); if there is none,
+nothing is returned.`,
 		Example: `  # The bat-detector batch was called off: return build 4's parts
   drawerfit build undo 4`,
 		Args: func(cmd *cobra.Command, args []string) error {
