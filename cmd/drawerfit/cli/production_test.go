@@ -2,6 +2,7 @@ package cli
 
 import (
 	"encoding/json"
+	"math"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -302,12 +303,26 @@ func TestYieldReadsSavedDesigns(t *testing.T) {
 	}
 	s.jsonOf(&fit, "fit", "--plan", plan, "--combine", "1", "--top", "1", "--save", "--json")
 	id := fit.Boards[0].ID
-	if _, errs, code := s.run("", "yield", id, "--trials", "200"); code != 2 || !strings.Contains(errs, id+"/N") {
-		t.Fatalf("yield of a board without /N: exit %d %s", code, errs)
-	}
 	var y map[string]any
 	if code := s.jsonOf(&y, "yield", id+"/2", "--trials", "200", "--json"); code != 0 || y["design"] != "design "+id+"/2" {
 		t.Fatalf("yield: exit %d %v", code, y["design"])
+	}
+	// The whole board: every filter must pass, so its yield is the product
+	// of the filters' (their parts are drawn independently).
+	var board struct {
+		Yield   float64 `json:"yield"`
+		Filters []struct {
+			Yield float64 `json:"yield"`
+		} `json:"filters"`
+	}
+	if code := s.jsonOf(&board, "yield", id, "--trials", "200", "--json"); code != 0 || len(board.Filters) != 2 {
+		t.Fatalf("board yield: exit %d %+v", code, board)
+	}
+	if want := board.Filters[0].Yield * board.Filters[1].Yield; math.Abs(board.Yield-want) > 1e-12 {
+		t.Errorf("board yield %v, want the product %v", board.Yield, want)
+	}
+	if board.Filters[1].Yield != y["yield"].(float64) {
+		t.Errorf("filter 2 in the board %v, alone %v", board.Filters[1].Yield, y["yield"])
 	}
 }
 

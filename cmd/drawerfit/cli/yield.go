@@ -115,6 +115,10 @@ it computes by simulating again (a tighter part where it matters, or the
 acceptance window the target yield needs). --gbw checks an op-amp with a
 single-pole model against the rule of Op Amps for Everyone, section 16.8.4.
 
+For a board saved from a plan, ID alone gives the yield of the whole board
+(every filter must pass; each filter's parts are drawn independently, so it
+is the product of the filter yields) and ID/N analyses filter N in full.
+
 The same seed and trial count always give the same result.`,
 			Example: `  # A school weather station: how many of the 25 anemometer boards built from
   # saved design 12 will pass, with the stock's own tolerances?
@@ -138,6 +142,15 @@ The same seed and trial count always give the same result.`,
 					return err
 				}
 				defer src.Close()
+				if bs, ok := src.(boardSource); ok {
+					filters, err := bs.BoardFilters(env.Ctx, args[0])
+					if err != nil {
+						return err
+					}
+					if filters != nil {
+						return runBoardYield(env, o, args[0], filters)
+					}
+				}
 				c, spec, err := src.LoadDesign(env.Ctx, args[0])
 				if err != nil {
 					return err
