@@ -434,6 +434,14 @@ func (tx *Tx) Import(ctx context.Context, items []stock.Item, replace bool) (sto
 			if old.Quantity+it.Quantity > stock.MaxQuantity {
 				return sum, fault.Invalidf("row %d (%s) would hold more than %d parts", old.ID, old.Label(), stock.MaxQuantity)
 			}
+			if old.Note == "" && it.Note != "" {
+				// The file's note fills an empty one; a note already in
+				// the database is kept.
+				if _, err := tx.ExecContext(ctx, `UPDATE stock SET note = ?, updated_at = ? WHERE id = ?`,
+					it.Note, formatTime(tx.at), old.ID); err != nil {
+					return sum, fmt.Errorf("update note of row %d: %w", old.ID, err)
+				}
+			}
 			if _, err := tx.setQuantity(ctx, old, old.Quantity+it.Quantity, reason); err != nil {
 				return sum, err
 			}

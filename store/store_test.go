@@ -403,3 +403,33 @@ func TestForeignKeysAreEnforced(t *testing.T) {
 		t.Fatalf("ledger entry for a missing row: %v", err)
 	}
 }
+
+// TestImportMergeKeepsNotes: merging a file row into a row of the same
+// identity fills an empty note from the file and keeps a note already held.
+func TestImportMergeKeepsNotes(t *testing.T) {
+	ctx := context.Background()
+	db := openTest(t)
+	a := stock.Item{Kind: stock.Resistor, Value: 10e3, Tolerance: 0.01, Quantity: 5, Location: "A1"}
+	b := stock.Item{Kind: stock.Resistor, Value: 22e3, Tolerance: 0.01, Quantity: 5, Location: "A1", Note: "from the old drawer"}
+	if _, err := db.Import(ctx, []stock.Item{a, b}, false); err != nil {
+		t.Fatal(err)
+	}
+	a.Note, b.Note = "reel ends", "a newer note"
+	if _, err := db.Import(ctx, []stock.Item{a, b}, false); err != nil {
+		t.Fatal(err)
+	}
+	items, err := db.List(ctx, stock.Filter{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := map[float64]stock.Item{}
+	for _, it := range items {
+		got[it.Value] = it
+	}
+	if it := got[10e3]; it.Note != "reel ends" || it.Quantity != 10 {
+		t.Errorf("10 kΩ: %+v", it)
+	}
+	if it := got[22e3]; it.Note != "from the old drawer" || it.Quantity != 10 {
+		t.Errorf("22 kΩ: %+v", it)
+	}
+}
