@@ -524,7 +524,7 @@ func printPlanFit(env *Env, w io.Writer, run *planRun) {
 		fmt.Fprintln(w, "Note: "+n)
 	}
 	if len(run.ids) > 0 {
-		fmt.Fprintf(w, "\nSaved %d board(s); build the first with `drawerfit build %s --boards %d`.\n", len(run.ids), run.ids[0], p.Boards)
+		fmt.Fprintf(w, "\nSaved %d board designs (the list and the Pareto front); build the first with `drawerfit build %s --boards %d`.\n", len(run.ids), run.ids[0], p.Boards)
 	}
 	fmt.Fprintln(w, "\nVerify on the bench before production; capacitor voltage ratings must suit the circuit; safety-relevant, medical or mains-connected uses need qualified review under local rules.")
 }
