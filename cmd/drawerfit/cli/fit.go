@@ -327,7 +327,7 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 	addIDColumn(g, run.ids)
 	run.checks.printTable(env, w, g, res.Candidates)
 	fmt.Fprintf(w, "\nRanked %s; error = largest deviation from the ideal %s response; '*' = on the Pareto front of error, parts and unique parts.\n",
-		rankText(run.opts), approxName(res.Spec))
+		rankTextFor(run), approxName(res.Spec))
 	printCandidateDetail(env, w, res.Candidates[0], 1)
 	printFitChecks(env, w, run, res.Candidates[0])
 	for _, n := range res.Notes {
@@ -436,6 +436,15 @@ func combineText(n int) string {
 		return "single parts"
 	}
 	return "single parts and pairs"
+}
+
+// rankTextFor is rankText, naming the re-sort by yield when --rank yield
+// asked for it.
+func rankTextFor(run *fitRun) string {
+	if run.checks != nil && run.checks.opts.rankYield {
+		return "by simulated yield (of the candidates the " + rankText(run.opts) + " search kept)"
+	}
+	return rankText(run.opts)
 }
 
 func rankText(o optimize.Options) string {
