@@ -69,7 +69,12 @@
 // Quantities are counted over the whole design (a row used in three places
 // needs three parts per board) and checked at every step. The search is
 // exact over the product of the shortlists; a node budget stops a runaway
-// search, and the result then says so.
+// search, and the result then says so. It is not exact over every
+// assignment: a cascade can be made of sections that each rank below their
+// shortlist's cut and cancel each other's deviations. That matters when the
+// stock is thin and the best cascade is poor, so a design whose best
+// combination is not within GoodEnough is searched again with shortlists
+// eight times as long.
 //
 // Combinations with the same element values (the same circuit from other
 // rows) are listed once, the one with tighter tolerances first. The list is
