@@ -72,9 +72,9 @@
 // search, and the result then says so. It is not exact over every
 // assignment: a cascade can be made of sections that each rank below their
 // shortlist's cut and cancel each other's deviations. That matters when the
-// stock is thin and the best cascade is poor, so a design whose best
-// combination is not within GoodEnough is searched again with shortlists
-// eight times as long.
+// stock is thin and the best cascade is poor, so while nothing listed is
+// within GoodEnough, a design whose best combination is not either is
+// searched again with shortlists eight times as long.
 //
 // Combinations with the same element values (the same circuit from other
 // rows) are listed once, the one with tighter tolerances first. The list is

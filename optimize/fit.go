@@ -157,8 +157,8 @@ func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
 		d := designs[ji]
 		// The shortlists are exact per section, but a poor cascade can be
 		// made of sections that rank low on their own and cancel each
-		// other's deviations. When this design's best combination is not
-		// within the good-enough error, search again with shortlists
+		// other's deviations. When nothing listed so far is within the
+		// good-enough error, search this design again with shortlists
 		// eight times as long (once).
 		var secLists [][]sectionCand
 		var secDiag []sectionDiag
@@ -173,7 +173,7 @@ func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
 			if cb.closest != nil && (closest == nil || cb.closest.err < closest.err) {
 				closest = cb.closest
 			}
-			if cb.minErr <= o.GoodEnough || k > o.Shortlist || cb.truncated {
+			if top.hasWithin(o.GoodEnough) || cb.minErr <= o.GoodEnough || k > o.Shortlist || cb.truncated {
 				break
 			}
 			// Search again from the list as it was before this design.
