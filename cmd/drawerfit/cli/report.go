@@ -1,7 +1,10 @@
 package cli
 
 import (
+	"drawerfit/report"
+	"drawerfit/synth"
 	"fmt"
+	"io"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -23,6 +26,7 @@ type reportOptions struct {
 	filter string
 	title  string
 	notes  []string
+	split  bool
 	checks fitCheckOptions
 }
 
@@ -47,7 +51,9 @@ bias-current compensation resistors fitted from the stock. --note adds your
 own remarks, printed as written. --png DIR also writes the plots as PNG files.
 
 A design kept from a board plan carries several filters: report writes one
-sheet per filter (FILE-1.html, FILE-2.html, ...) unless --filter picks one.`,
+sheet for the board (its pick list for the whole batch first, then each
+filter's sheet on its own pages); --split writes one file per filter
+(FILE-1.html, FILE-2.html, ...) and --filter picks one.`,
 		Example: `  # The build sheet for saved design k7m2 of the club's bat-detector boards
   drawerfit report k7m2 -o bat-detector.html
 
@@ -78,6 +84,7 @@ sheet per filter (FILE-1.html, FILE-2.html, ...) unless --filter picks one.`,
 	f.StringVarP(&o.output, "output", "o", "", "the HTML file to write (required)")
 	f.StringVar(&o.png, "png", "", "also write the plots as PNG files into this directory")
 	f.StringVar(&o.filter, "filter", "", "for a board plan: the filter to report, by number (1, 2, ...) or label")
+	f.BoolVar(&o.split, "split", false, "for a board plan: one file per filter (FILE-1.html, ...) instead of one board sheet")
 	f.StringVar(&o.title, "title", "", "title of the sheet (default: made from the specification)")
 	f.StringArrayVar(&o.notes, "note", nil, "a remark to print on the sheet (repeatable)")
 	addCheckFlags(f, &o.checks, "simulate building the design from parts drawn within their stock tolerances and show the yield")
@@ -122,6 +129,9 @@ func runReport(env *Env, o *reportOptions, id string) error {
 			return err
 		}
 	}
+	board := len(picked) > 1 && !o.split
+	var sheets []*report.Sheet
+	var labels []string
 	for _, n := range picked {
 		f := d.Filters[n]
 		c := f.Candidate
@@ -137,6 +147,12 @@ func runReport(env *Env, o *reportOptions, id string) error {
 		s.DesignID = d.ID
 		s.Title = sheetTitle(o.title, d.Name, f.Label)
 		s.Notes = append(append([]string(nil), o.notes...), s.Notes...)
+		if board {
+			s.Title = fmt.Sprintf("Filter %d: %s", n+1, sheetTitle("", "", f.Label))
+			sheets = append(sheets, s)
+			labels = append(labels, filterLabel(n, f.Label, f.Spec))
+			continue
+		}
 		path, prefix := o.output, ""
 		if len(picked) > 1 {
 			ext := filepath.Ext(o.output)
@@ -155,7 +171,46 @@ func runReport(env *Env, o *reportOptions, id string) error {
 		}
 		fmt.Fprintf(env.Out, "%s: %s\n", path, what)
 	}
+	if board {
+		batch, err := production.NewBatch(d, max(d.Boards, 1))
+		if err != nil {
+			return err
+		}
+		b := &report.Board{Title: sheetTitle(o.title, d.Name, ""), Boards: max(d.Boards, 1), Date: env.Now(),
+			StockDB: source, DesignID: d.ID, Labels: labels, Sheets: sheets}
+		if b.Title == "" {
+			b.Title = "Board " + d.ID
+		}
+		for _, p := range batch.Picks {
+			b.Picks = append(b.Picks, report.PickLine{Location: p.Part.Location, StockID: p.StockID,
+				Value: partText(p.Part), Quantity: p.Quantity, Refs: p.Refs})
+		}
+		page, err := report.BoardHTML(b)
+		if err != nil {
+			return fmt.Errorf("build sheet: %w", err)
+		}
+		if err := writeFileAtomic(o.output, func(w io.Writer) error { _, err := w.Write(page); return err }); err != nil {
+			return err
+		}
+		fmt.Fprintln(env.Err, "build sheet written to "+o.output)
+		if o.png != "" {
+			for i, s := range sheets {
+				if err := writeSheetFiles(env, s, "", o.png, "filter-"+strconv.Itoa(picked[i]+1)); err != nil {
+					return err
+				}
+			}
+		}
+		fmt.Fprintf(env.Out, "%s: design %s, a board of %d filters\n", o.output, d.ID, len(sheets))
+	}
 	return nil
+}
+
+// filterLabel names a filter of a board for the board sheet's contents.
+func filterLabel(n int, label string, _ synth.Spec) string {
+	if strings.TrimSpace(label) == "" {
+		return fmt.Sprintf("filter %d", n+1)
+	}
+	return label
 }
 
 // sheetTitle is the title of a filter's sheet: the --title, else the

@@ -114,9 +114,30 @@ func TestReportSavedDesign(t *testing.T) {
 		}
 	})
 
+	t.Run("board plan, one board sheet", func(t *testing.T) {
+		out := filepath.Join(dir, "whole.html")
+		code, _, errs := runChecksFit(t, "--db", db, "report", ids[1], "-o", out)
+		if code != 0 {
+			t.Fatalf("exit %d: %s", code, errs)
+		}
+		b, err := os.ReadFile(out)
+		if err != nil {
+			t.Fatal(err)
+		}
+		page := string(b)
+		for _, want := range []string{`id="board-picks"`, "left &lt;channel&gt;", "right channel", `id="filter-1"`, `id="filter-2"`, "F2."} {
+			if !strings.Contains(page, want) {
+				t.Errorf("board sheet lacks %q", want)
+			}
+		}
+		if strings.Count(page, "<html") != 1 {
+			t.Error("the board sheet is not one document")
+		}
+	})
+
 	t.Run("board plan, one sheet per filter", func(t *testing.T) {
 		out := filepath.Join(dir, "board.html")
-		code, _, errs := runChecksFit(t, "--db", db, "report", ids[1], "-o", out)
+		code, _, errs := runChecksFit(t, "--db", db, "report", ids[1], "-o", out, "--split")
 		if code != 0 {
 			t.Fatalf("exit %d: %s", code, errs)
 		}
