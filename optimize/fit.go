@@ -35,7 +35,7 @@ type Options struct {
 	// NodeBudget bounds the cross-section search per design (0: default).
 	NodeBudget int
 	Workers    int                       // goroutines; 0 means GOMAXPROCS
-	Progress   func(done, total int)     // optional, called as designs finish
+	Progress   func(done, total int)     // optional, called as sections finish (total: sections of all designs)
 	Extra      func(d *synth.Design) int // unused hook kept nil
 }
 
@@ -144,6 +144,16 @@ func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
 		return nil, fault.Infeasiblef("the stock has no usable %s%s", what, why)
 	}
 	r := &Result{Spec: spec, Resistors: len(res.vals), Capacitors: len(caps.vals), Designs: designs}
+	totalSections, doneSections := 0, 0
+	for _, d := range designs {
+		totalSections += len(d.Sections)
+	}
+	progress := func() {
+		doneSections++
+		if o.Progress != nil {
+			o.Progress(min(doneSections, totalSections), totalSections)
+		}
+	}
 	grid := gridFor(spec)
 	passIdx, stopIdx := indexOf(grid.f, spec.Pass), -1
 	if spec.Stop > 0 {
@@ -165,7 +175,7 @@ func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
 		savedTop, savedClosest := append([]*combo(nil), top.list...), closest
 		for k := o.Shortlist; ; k *= 8 {
 			var cb *combiner
-			secLists, secDiag, cb = searchDesign(d, &grid, res, caps, rows, o, k, ji, passIdx, stopIdx, spec, top)
+			secLists, secDiag, cb = searchDesign(d, &grid, res, caps, rows, o, k, ji, passIdx, stopIdx, spec, top, progress)
 			if cb.truncated {
 				r.Notes = append(r.Notes, fmt.Sprintf("order %d (%s): the cross-section search stopped after %d combinations; the list may miss some designs",
 					jb.n, arrangementName(d), cb.nodes))
@@ -182,9 +192,7 @@ func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
 		}
 		lists = append(lists, secLists)
 		diags = append(diags, secDiag)
-		if o.Progress != nil {
-			o.Progress(ji+1, len(jobs))
-		}
+
 	}
 	for _, c := range top.list {
 		r.Candidates = append(r.Candidates, assemble(c, r.Designs[c.design], lists[c.design], rows, res, caps, o))
@@ -217,7 +225,7 @@ func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
 // searchDesign searches every section of design d with shortlists of k per
 // part count and combines them into top.
 func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []Row, o Options, k, ji, passIdx, stopIdx int,
-	spec synth.Spec, top *topList) ([][]sectionCand, []sectionDiag, *combiner) {
+	spec synth.Spec, top *topList, progress func()) ([][]sectionCand, []sectionDiag, *combiner) {
 	secLists := make([][]sectionCand, len(d.Sections))
 	secDiag := make([]sectionDiag, len(d.Sections))
 	tdbTotal := make([]float64, len(grid.w))
@@ -230,6 +238,7 @@ func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []
 			k: k, ceiling: sectionCeiling, rmin: o.RMin, rmax: o.RMax}
 		secLists[i], secDiag[i] = ss.run(o.Workers)
 		sortForRank(secLists[i], o.Rank)
+		progress()
 	}
 	cb := &combiner{lists: secLists, rows: rows, boards: o.Boards, rank: o.Rank,
 		goodEnough: o.GoodEnough, design: ji, passIdx: passIdx, stopIdx: stopIdx,

@@ -484,7 +484,7 @@ func (p *progress) update(done, total int) {
 	p.shown = true
 	width := 24
 	fill := width * done / max(total, 1)
-	fmt.Fprintf(p.env.Err, "\r%s [%s%s] %d/%d designs", p.label, strings.Repeat("#", fill), strings.Repeat(".", width-fill), done, total)
+	fmt.Fprintf(p.env.Err, "\r%s [%s%s] %d/%d sections", p.label, strings.Repeat("#", fill), strings.Repeat(".", width-fill), done, total)
 }
 
 func (p *progress) done() {
