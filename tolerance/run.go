@@ -6,6 +6,7 @@ import (
 	"math"
 	"sort"
 	"strconv"
+	"strings"
 
 	"drawerfit/fault"
 	"drawerfit/optimize"
@@ -222,6 +223,9 @@ func Run(c *optimize.Candidate, spec synth.Spec, opt Options) (*Result, error) {
 	}
 	lw, onLimit := limitWarnings(j, nm, ts, &opt)
 	r.Warnings = append(r.Warnings, lw...)
+	if w := unknownTolerances(b); w != "" {
+		r.Warnings = append(r.Warnings, w)
+	}
 
 	refitNote := ""
 	if !opt.Brief {
@@ -389,4 +393,23 @@ func hz(f float64) string {
 		return fmt.Sprintf("%.4g kHz", f/1e3)
 	}
 	return fmt.Sprintf("%.4g Hz", f)
+}
+
+// unknownTolerances names the positions whose parts have no tolerance in
+// stock (stored as 0): they are simulated as exact, which makes the yield
+// optimistic.
+func unknownTolerances(b *board) string {
+	var refs []string
+	seen := map[int]bool{}
+	for _, p := range b.parts {
+		if p.tol == 0 && !seen[p.comp] {
+			seen[p.comp] = true
+			refs = append(refs, b.comps[p.comp].ref)
+		}
+	}
+	if len(refs) == 0 {
+		return ""
+	}
+	return fmt.Sprintf("%s: the stock gives no tolerance, so these parts are simulated as exact and the yield is optimistic; set the tolerance in the stock (stock import with a tolerance column)",
+		strings.Join(refs, ", "))
 }

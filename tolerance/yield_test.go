@@ -591,3 +591,24 @@ func TestOptionsErrors(t *testing.T) {
 		t.Error(err)
 	}
 }
+
+// TestUnknownToleranceWarned: a part whose stock row gives no tolerance is
+// simulated as exact; the result says so and names the position.
+func TestUnknownToleranceWarned(t *testing.T) {
+	// Invented values: a 1 kHz Butterworth section.
+	c := sallenKey(22.5e3, 22.5e3, 10e-9, 5e-9, [4]float64{0.01, 0.01, 0.05, 0})
+	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2}
+	r, err := Run(c, spec, Options{Trials: 200, Seed: 1, Brief: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	found := false
+	for _, w := range r.Warnings {
+		if strings.Contains(w, "C2") && strings.Contains(w, "no tolerance") {
+			found = true
+		}
+	}
+	if !found {
+		t.Errorf("no warning about the part without tolerance: %q", r.Warnings)
+	}
+}
