@@ -3,6 +3,7 @@ package cli
 import (
 	"fmt"
 	"strconv"
+	"strings"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -114,7 +115,21 @@ design.`,
 			if err := db.RemoveDesign(env.Ctx, args[0]); err != nil {
 				return err
 			}
-			fmt.Fprintf(env.Out, "Removed design %s.\n", normalizeDesignID(args[0]))
+			id := normalizeDesignID(args[0])
+			fmt.Fprintf(env.Out, "Removed design %s.\n", id)
+			// Its builds stay in the ledger; say which still stand.
+			if builds, err := db.Builds(env.Ctx); err == nil {
+				var standing []string
+				for _, b := range builds {
+					if b.DesignID == id && b.UndoneAt.IsZero() {
+						standing = append(standing, strconv.FormatInt(b.ID, 10))
+					}
+				}
+				if len(standing) > 0 {
+					fmt.Fprintf(env.Out, "Its builds %s still stand: their parts stay drawn, and `drawerfit build undo ID` still returns them.\n",
+						strings.Join(standing, ", "))
+				}
+			}
 			return nil
 		},
 	}
