@@ -129,6 +129,31 @@ func runReport(env *Env, o *reportOptions, id string) error {
 			return err
 		}
 	}
+	// What changed in stock since the design was saved, as show reports it.
+	var stockIssues []production.Issue
+	if batch, err := production.NewBatch(d, max(d.Boards, 1)); err == nil {
+		if check, err := production.DryRun(env.Ctx, db, batch); err == nil {
+			stockIssues = check.Issues
+		}
+	}
+	// stockWarnings are the issues that touch filter n (designators F<n+1>.*
+	// on a board; all of them for a single filter).
+	stockWarnings := func(n int) []string {
+		var out []string
+		prefix := "F" + strconv.Itoa(n+1) + "."
+		for _, is := range stockIssues {
+			touches := len(d.Filters) == 1
+			for _, r := range is.Refs {
+				if strings.HasPrefix(r, prefix) {
+					touches = true
+				}
+			}
+			if touches {
+				out = append(out, "stock: "+is.String())
+			}
+		}
+		return out
+	}
 	board := len(picked) > 1 && !o.split
 	var sheets []*report.Sheet
 	var labels []string
@@ -144,6 +169,7 @@ func runReport(env *Env, o *reportOptions, id string) error {
 			return fmt.Errorf("filter %d: %w", n+1, err)
 		}
 		s := checkSheet(env, c, cc, d.Boards, source)
+		s.Warnings = append(stockWarnings(n), s.Warnings...)
 		s.DesignID = d.ID
 		s.Title = sheetTitle(o.title, d.Name, f.Label)
 		s.Notes = append(append([]string(nil), o.notes...), s.Notes...)

@@ -2,8 +2,10 @@ package cli
 
 import (
 	"context"
+	"encoding/json"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -111,6 +113,31 @@ func TestReportSavedDesign(t *testing.T) {
 			if _, err := os.Stat(filepath.Join(pngs, name)); err != nil {
 				t.Error(err)
 			}
+		}
+	})
+
+	t.Run("stock changed since saving", func(t *testing.T) {
+		// Remove a row the single-filter design uses: its sheet says so.
+		var show struct {
+			StockUse []struct {
+				StockID int64 `json:"stock_id"`
+			} `json:"stock_use"`
+		}
+		code, stdout, errs := runChecksFit(t, "--db", db, "show", ids[0], "--json")
+		if code != 0 || json.Unmarshal([]byte(stdout), &show) != nil || len(show.StockUse) == 0 {
+			t.Fatalf("show: exit %d %s", code, errs)
+		}
+		row := strconv.FormatInt(show.StockUse[0].StockID, 10)
+		if code, _, errs := runChecksFit(t, "--db", db, "stock", "remove", row); code != 0 {
+			t.Fatalf("remove: %s", errs)
+		}
+		out := filepath.Join(dir, "changed.html")
+		if code, _, errs := runChecksFit(t, "--db", db, "report", ids[0], "-o", out); code != 0 {
+			t.Fatalf("exit %d: %s", code, errs)
+		}
+		b, _ := os.ReadFile(out)
+		if !strings.Contains(string(b), "stock: row "+row) {
+			t.Errorf("the sheet does not say that row %s is gone", row)
 		}
 	})
 
