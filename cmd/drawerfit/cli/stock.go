@@ -147,12 +147,12 @@ func runStockImport(ctx context.Context, env *Env, o stockImportOptions) error {
 		name = "standard input"
 	}
 	fmt.Fprintf(env.Out, "imported %d rows from %s into %s\n", sum.Rows, name, db.Path())
-	fmt.Fprintf(env.Out, "  %d new stock rows\n", sum.Added)
+	fmt.Fprintf(env.Out, "  %s\n", plural(sum.Added, "new stock row"))
 	if sum.Merged > 0 {
 		fmt.Fprintf(env.Out, "  %d rows matched a row already there; their quantities were added to it\n", sum.Merged)
 	}
-	if o.Replace {
-		fmt.Fprintf(env.Out, "  %d rows kept with the file's quantity, %d rows not in the file removed\n", sum.Kept, sum.Removed)
+	if o.Replace && (sum.Kept > 0 || sum.Removed > 0) {
+		fmt.Fprintf(env.Out, "  %s kept with the file's quantity, %s not in the file removed\n", plural(sum.Kept, "row"), plural(sum.Removed, "row"))
 	}
 	fmt.Fprintf(env.Out, "  %+d parts in total\n", sum.Units)
 	return nil
@@ -427,7 +427,7 @@ func runStockRemove(ctx context.Context, env *Env, idText string) error {
 	if err := db.Remove(ctx, id); err != nil {
 		return err
 	}
-	fmt.Fprintf(env.Out, "removed #%d %s (%d parts written off in the ledger)\n", it.ID, it.Label(), it.Quantity)
+	fmt.Fprintf(env.Out, "removed #%d %s (%s written off in the ledger)\n", it.ID, it.Label(), plural(it.Quantity, "part"))
 	return nil
 }
 
@@ -597,4 +597,13 @@ func runStockHistory(ctx context.Context, env *Env, o stockHistoryOptions) error
 	}
 	g.render(env, env.Out)
 	return nil
+}
+
+// plural writes n with the noun, adding an s unless n is 1: "1 part",
+// "3 parts".
+func plural(n int, noun string) string {
+	if n == 1 {
+		return "1 " + noun
+	}
+	return strconv.Itoa(n) + " " + noun + "s"
 }

@@ -169,7 +169,7 @@ func TestStockImportMergesAndReplaces(t *testing.T) {
 	}
 	repl := s.write("count.csv", "kind,value,quantity,tolerance,package,location\nR,4k7,33,1%,0805,a1\nR,1M,7,1%,0805,D6\n")
 	out = s.ok("stock", "import", repl, "--replace")
-	if !strings.Contains(out, "1 rows kept") || !strings.Contains(out, "3 rows not in the file removed") {
+	if !strings.Contains(out, "1 row kept") || !strings.Contains(out, "3 rows not in the file removed") {
 		t.Fatalf("replace summary:\n%s", out)
 	}
 	items := s.listJSON()
