@@ -111,4 +111,3 @@ func BenchmarkAnalyzeNetlist(b *testing.B) {
 	}
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*benchPoints), "ns/point")
 }
-
