@@ -1,6 +1,7 @@
 package optimize
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"sort"
@@ -201,7 +202,7 @@ func scoreStages(d *synth.Design, stages []synth.Stage) (errDB, pass, stop float
 // (nil when nothing is listed).
 func baselineFit(t *testing.T, items []stock.Item, spec synth.Spec, o Options) (*Candidate, *Result) {
 	t.Helper()
-	r, err := Fit(items, spec, o)
+	r, err := Fit(context.Background(), items, spec, o)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,6 +1,7 @@
 package optimize
 
 import (
+	"context"
 	"os"
 	"runtime"
 	"testing"
@@ -41,7 +42,7 @@ func benchFit(b *testing.B, items []stock.Item, order int) {
 	runtime.ReadMemStats(&m0)
 	for i := 0; i < b.N; i++ {
 		t0 := time.Now()
-		r, err := Fit(items, spec, o)
+		r, err := Fit(context.Background(), items, spec, o)
 		if err != nil {
 			b.Fatal(err)
 		}

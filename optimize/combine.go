@@ -3,6 +3,7 @@ package optimize
 import (
 	"math"
 	"sort"
+	"sync/atomic"
 )
 
 // Rank is the ordering of the candidate list.
@@ -180,6 +181,8 @@ type combiner struct {
 
 	budget    int  // largest number of nodes to visit; 0 means no limit
 	truncated bool // the budget ran out
+	stop      *atomic.Bool
+	halted    bool // stopped by the context
 }
 
 func (c *combiner) prepare() {
@@ -297,6 +300,12 @@ func (c *combiner) dfs(s, parts int) {
 func (c *combiner) promising(s, parts int) bool {
 	if c.budget > 0 && c.nodes > c.budget {
 		c.truncated = true
+		return false
+	}
+	if c.nodes&1023 == 0 && c.stop != nil && c.stop.Load() {
+		c.halted = true
+	}
+	if c.halted {
 		return false
 	}
 	worst, full := c.out.worst()

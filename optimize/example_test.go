@@ -1,6 +1,7 @@
 package optimize_test
 
 import (
+	"context"
 	"fmt"
 
 	"drawerfit/optimize"
@@ -23,7 +24,7 @@ func ExampleFit() {
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2}
 	opt := optimize.DefaultOptions()
 	opt.Combine = 1 // single parts only
-	r, err := optimize.Fit(drawer, spec, opt)
+	r, err := optimize.Fit(context.Background(), drawer, spec, opt)
 	if err != nil {
 		fmt.Println(err)
 		return

@@ -1,6 +1,7 @@
 package optimize
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -172,7 +173,7 @@ func TestFitMatchesExhaustiveSearch(t *testing.T) {
 				}
 				odd := tc.odd
 				o.Odd = &odd
-				r, err := Fit(items, tc.spec, o)
+				r, err := Fit(context.Background(), items, tc.spec, o)
 				if err != nil {
 					t.Fatal(err)
 				}
@@ -210,7 +211,7 @@ func TestFitPoorStockMatchesExhaustive(t *testing.T) {
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 4}
 	o := DefaultOptions()
 	o.Rank, o.ShowFailing, o.Top, o.Combine = RankError, true, 1, 1
-	r, err := Fit(items, spec, o)
+	r, err := Fit(context.Background(), items, spec, o)
 	if err != nil || len(r.Candidates) == 0 {
 		t.Fatalf("fit: %v", err)
 	}

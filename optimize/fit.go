@@ -1,11 +1,13 @@
 package optimize
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"runtime"
 	"sort"
 	"strings"
+	"sync/atomic"
 
 	"drawerfit/fault"
 	"drawerfit/stock"
@@ -68,11 +70,20 @@ type Result struct {
 
 // Fit searches the stock items for the best buildable designs of spec.
 //
+// The search stops soon after ctx is done (every long loop polls it) and
+// then returns an error that wraps ctx.Err(); no partial result is
+// returned.
+//
 // Errors: fault.Invalid for bad options or specification; fault.Infeasible
 // when the stock cannot even be searched (no usable resistors or
 // capacitors). A search that finds nothing meeting the specification is not
 // an error: the Result has no candidates, a closest miss and the limits.
-func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
+func Fit(ctx context.Context, items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
+	if err := ctx.Err(); err != nil {
+		return nil, interrupted(ctx)
+	}
+	stop, release := watch(ctx)
+	defer release()
 	if err := checkOptions(&o); err != nil {
 		return nil, err
 	}
@@ -175,7 +186,10 @@ func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
 		savedTop, savedClosest := append([]*combo(nil), top.list...), closest
 		for k := o.Shortlist; ; k *= 8 {
 			var cb *combiner
-			secLists, secDiag, cb = searchDesign(d, &grid, res, caps, rows, o, k, ji, passIdx, stopIdx, spec, top, progress)
+			secLists, secDiag, cb = searchDesign(d, &grid, res, caps, rows, o, k, ji, passIdx, stopIdx, spec, top, progress, stop)
+			if stop.Load() {
+				return nil, interrupted(ctx)
+			}
 			if cb.truncated {
 				r.Notes = append(r.Notes, fmt.Sprintf("order %d (%s): the cross-section search stopped after %d combinations; the list may miss some designs",
 					jb.n, arrangementName(d), cb.nodes))
@@ -225,7 +239,7 @@ func Fit(items []stock.Item, spec synth.Spec, o Options) (*Result, error) {
 // searchDesign searches every section of design d with shortlists of k per
 // part count and combines them into top.
 func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []Row, o Options, k, ji, passIdx, stopIdx int,
-	spec synth.Spec, top *topList, progress func()) ([][]sectionCand, []sectionDiag, *combiner) {
+	spec synth.Spec, top *topList, progress func(), stop *atomic.Bool) ([][]sectionCand, []sectionDiag, *combiner) {
 	secLists := make([][]sectionCand, len(d.Sections))
 	secDiag := make([]sectionDiag, len(d.Sections))
 	tdbTotal := make([]float64, len(grid.w))
@@ -235,15 +249,18 @@ func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []
 			tdbTotal[g] += v
 		}
 		ss := &sectionSearch{t: t, res: res, cap: caps, rows: rows, boards: o.Boards,
-			k: k, ceiling: sectionCeiling, rmin: o.RMin, rmax: o.RMax}
+			k: k, ceiling: sectionCeiling, rmin: o.RMin, rmax: o.RMax, stop: stop}
 		secLists[i], secDiag[i] = ss.run(o.Workers)
+		if stop.Load() {
+			return secLists, secDiag, &combiner{}
+		}
 		sortForRank(secLists[i], o.Rank)
 		progress()
 	}
 	cb := &combiner{lists: secLists, rows: rows, boards: o.Boards, rank: o.Rank,
 		goodEnough: o.GoodEnough, design: ji, passIdx: passIdx, stopIdx: stopIdx,
 		tdbTotal: tdbTotal, ap: spec.PassAtten, as: spec.StopAtten, keepFail: o.ShowFailing,
-		out: top, budget: o.NodeBudget, rmid: math.Sqrt(o.RMin * o.RMax), minErr: math.Inf(1)}
+		out: top, budget: o.NodeBudget, stop: stop, rmid: math.Sqrt(o.RMin * o.RMax), minErr: math.Inf(1)}
 	for i := range d.Sections {
 		cb.resIdx = append(cb.resIdx, d.Sections[i].Topology.Indices(synth.Resistor))
 	}
@@ -565,3 +582,19 @@ func stopText(r *Result) string {
 }
 
 func fmtOhm(v float64) string { return stock.FormatValue(v, stock.Resistor) }
+
+// watch returns a flag that becomes true once ctx is done, for the search
+// loops to poll cheaply, and a function that releases the watcher.
+func watch(ctx context.Context) (*atomic.Bool, func()) {
+	stop := new(atomic.Bool)
+	if ctx.Done() == nil {
+		return stop, func() {}
+	}
+	release := context.AfterFunc(ctx, func() { stop.Store(true) })
+	return stop, func() { release() }
+}
+
+// interrupted is the error of a search stopped by its context.
+func interrupted(ctx context.Context) error {
+	return fmt.Errorf("the search was interrupted: %w", ctx.Err())
+}

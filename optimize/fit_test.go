@@ -1,6 +1,7 @@
 package optimize
 
 import (
+	"context"
 	"math"
 	"os/exec"
 	"strings"
@@ -13,7 +14,7 @@ import (
 
 func bestOf(t *testing.T, items []stock.Item, spec synth.Spec, o Options) *Result {
 	t.Helper()
-	r, err := Fit(items, spec, o)
+	r, err := Fit(context.Background(), items, spec, o)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -239,7 +240,7 @@ func TestFitBadInput(t *testing.T) {
 			if tc.mod != nil {
 				tc.mod(&o)
 			}
-			_, err := Fit(tc.items, tc.spec, o)
+			_, err := Fit(context.Background(), tc.items, tc.spec, o)
 			if err == nil {
 				t.Fatal("no error")
 			}
@@ -263,7 +264,7 @@ func TestFitNothingMeetsSpec(t *testing.T) {
 		{ID: 4, Kind: stock.Capacitor, Value: 220e-12, Tolerance: 0.05, Quantity: 10, Dielectric: "C0G"},
 	}
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 10, Order: 2}
-	r, err := Fit(items, spec, DefaultOptions())
+	r, err := Fit(context.Background(), items, spec, DefaultOptions())
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -285,13 +286,13 @@ func TestHugeStockRefused(t *testing.T) {
 	}
 	items = append(items, stock.Item{ID: 9999, Kind: stock.Capacitor, Value: 10e-9, Tolerance: 0.05, Quantity: 5, Dielectric: "C0G"})
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 1}
-	_, err := Fit(items, spec, DefaultOptions())
+	_, err := Fit(context.Background(), items, spec, DefaultOptions())
 	if fault.KindOf(err) != fault.Invalid || !strings.Contains(err.Error(), "--combine 1") {
 		t.Fatalf("want a refusal naming --combine 1, got %v", err)
 	}
 	o := DefaultOptions()
 	o.Combine = 1
-	if _, err := Fit(items, spec, o); err != nil {
+	if _, err := Fit(context.Background(), items, spec, o); err != nil {
 		t.Fatalf("singles: %v", err)
 	}
 }
@@ -303,7 +304,7 @@ func TestFitTooFewPartsForBoards(t *testing.T) {
 	items := sampleStock(t)
 	o := DefaultOptions()
 	o.Boards = 10000
-	r, err := Fit(items, synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2}, o)
+	r, err := Fit(context.Background(), items, synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2}, o)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -4,6 +4,7 @@ import (
 	"math"
 	"sort"
 	"sync"
+	"sync/atomic"
 
 	"drawerfit/synth"
 )
@@ -193,8 +194,12 @@ type sectionSearch struct {
 	ceiling  float64 // the largest section error worth keeping
 	rmin     float64
 	rmax     float64
-	threeCap bool // 3-pole sections: allow paired capacitors
+	threeCap bool         // 3-pole sections: allow paired capacitors
+	stop     *atomic.Bool // set when the fit is cancelled; the loops poll it
 }
+
+// halted reports whether the fit was cancelled.
+func (s *sectionSearch) halted() bool { return s.stop != nil && s.stop.Load() }
 
 // worker holds one goroutine's state.
 type worker struct {
@@ -407,7 +412,7 @@ func (w *worker) seed(part, of int) {
 			}
 		}
 	}
-	for x := part; x < len(capSets); x += of {
+	for x := part; x < len(capSets) && !s.halted(); x += of {
 		cs := capSets[x]
 		for j, i := range ci {
 			w.r[i] = cs[j]
@@ -462,7 +467,7 @@ func (w *worker) searchFirstOrder(part, of int) {
 	if t.topo.Elements[0].Kind == synth.Capacitor {
 		ri, ci = 1, 0
 	}
-	for c := part; c < len(s.cap.reals); c += of {
+	for c := part; c < len(s.cap.reals) && !s.halted(); c += of {
 		cr := &s.cap.reals[c]
 		w.diag.capSets++
 		w.diag.ratioOK++
@@ -532,7 +537,7 @@ func (w *worker) skLowPassClass(g int, cgR *real, big, small *valueSet, same boo
 	top := sort.Search(len(big.vals), func(i int) bool { return big.vals[i] > sHi })
 	jl, jh := 0, 0
 	ns := len(small.vals)
-	for r1 := top - 1; r1 >= 0; r1-- {
+	for r1 := top - 1; r1 >= 0 && !s.halted(); r1-- {
 		R1 := big.vals[r1]
 		if 2*R1 < sLo {
 			break
@@ -612,7 +617,7 @@ func (w *worker) searchSallenKeyHighPass(part, of int) {
 			aHi := math.Exp(-(b.xlo + b.ylo)) / (w0t * qt)
 			top := sort.Search(len(fs.vals), func(i int) bool { return fs.vals[i] > aHi/C1 })
 			jl, jh := 0, 0
-			for rf := top - 1; rf >= 0; rf-- {
+			for rf := top - 1; rf >= 0 && !s.halted(); rf-- {
 				Rf := fs.vals[rf]
 				if Rf < aLo/(2*C1) {
 					break
@@ -695,6 +700,9 @@ func (w *worker) searchThreePole(part, of int) {
 	for x := part; x < len(capIdx); x += of {
 		a := capIdx[x]
 		for _, bb := range capIdx {
+			if s.halted() {
+				return
+			}
 			for _, c := range capIdx {
 				ca, cb, cc := s.cap.reals[a].value, s.cap.reals[bb].value, s.cap.reals[c].value
 				p := ca * cb * cc

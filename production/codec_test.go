@@ -1,6 +1,7 @@
 package production
 
 import (
+	"context"
 	"math"
 	"reflect"
 	"strings"
@@ -17,7 +18,7 @@ func fitSample(t *testing.T, spec synth.Spec, boards int) *optimize.Result {
 	t.Helper()
 	o := optimize.DefaultOptions()
 	o.Combine, o.Boards = 1, boards
-	r, err := optimize.Fit(sampleStock(t), spec, o)
+	r, err := optimize.Fit(context.Background(), sampleStock(t), spec, o)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,6 +1,7 @@
 package production
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"math/bits"
@@ -49,6 +50,8 @@ type jointSearch struct {
 	choice    []int
 	nodes     int
 	truncated bool
+	ctx       context.Context
+	halted    bool   // stopped by the context
 	best      []leaf // the top list, sorted
 	front     []leaf // the Pareto front, one leaf per distinct score
 }
@@ -129,10 +132,13 @@ func (js *jointSearch) allPools() bool {
 }
 
 // run searches and returns the listed boards, best first.
-func (js *jointSearch) run() []*Board {
+//
+// The search stops soon after ctx is done; it then returns ctx's error.
+func (js *jointSearch) run(ctx context.Context) ([]*Board, error) {
 	if len(js.groups) == 0 || !js.allPools() {
-		return nil
+		return nil, ctx.Err()
 	}
+	js.ctx = ctx
 	js.usage = make([]int, len(js.ids))
 	js.choice = make([]int, len(js.groups))
 	js.sets = make([][]uint64, len(js.groups)+1)
@@ -140,7 +146,10 @@ func (js *jointSearch) run() []*Board {
 		js.sets[i] = make([]uint64, js.words)
 	}
 	js.dfs(0, 0, 0, true)
-	return js.boardsOut()
+	if js.halted {
+		return nil, fmt.Errorf("the joint plan search was interrupted: %w", ctx.Err())
+	}
+	return js.boardsOut(), nil
 }
 
 func (js *jointSearch) dfs(depth int, errMax float64, parts int, meets bool) {
@@ -148,6 +157,12 @@ func (js *jointSearch) dfs(depth int, errMax float64, parts int, meets bool) {
 	js.nodes++
 	if js.nodes > js.budget {
 		js.truncated = true
+		return
+	}
+	if js.nodes&1023 == 0 && js.ctx.Err() != nil {
+		js.halted, js.truncated = true, true
+	}
+	if js.halted {
 		return
 	}
 	unique := popcount(set)

@@ -1,6 +1,7 @@
 package production
 
 import (
+	"context"
 	"fmt"
 	"sort"
 	"strings"
@@ -162,8 +163,9 @@ type PlanResult struct {
 //
 // Errors: fault.Invalid for a bad plan or options, fault.Infeasible when
 // the stock cannot be searched at all. A plan that no stock combination
-// can build is a result without boards and with Limits.
-func FitPlan(items []stock.Item, p Plan, o PlanOptions) (*PlanResult, error) {
+// can build is a result without boards and with Limits. The search stops
+// soon after ctx is done and then returns an error wrapping ctx.Err().
+func FitPlan(ctx context.Context, items []stock.Item, p Plan, o PlanOptions) (*PlanResult, error) {
 	if err := p.Validate(); err != nil {
 		return nil, err
 	}
@@ -172,7 +174,7 @@ func FitPlan(items []stock.Item, p Plan, o PlanOptions) (*PlanResult, error) {
 	groups := groupFilters(p)
 	done := 0
 	for _, g := range groups {
-		r, err := fitGroup(items, p, g, o, fits)
+		r, err := fitGroup(ctx, items, p, g, o, fits)
 		if err != nil {
 			return nil, err
 		}
@@ -183,16 +185,23 @@ func FitPlan(items []stock.Item, p Plan, o PlanOptions) (*PlanResult, error) {
 		}
 	}
 	js := newJointSearch(items, p, groups, o)
-	boards := js.run()
+	boards, err := js.run(ctx)
+	if err != nil {
+		return nil, err
+	}
 	pr.Nodes = js.nodes
 	if len(boards) == 0 && anyShared(groups) {
 		// The stock cannot build the copies alike: fit each on its own.
-		split, err := splitGroups(items, p, groups, o, fits)
+		split, err := splitGroups(ctx, items, p, groups, o, fits)
 		if err != nil {
 			return nil, err
 		}
 		js2 := newJointSearch(items, p, split, o)
-		if b2 := js2.run(); len(b2) > 0 {
+		b2, err := js2.run(ctx)
+		if err != nil {
+			return nil, err
+		}
+		if len(b2) > 0 {
 			boards, groups, js = b2, split, js2
 			pr.Split = true
 			pr.Notes = append(pr.Notes, "the stock cannot build identical filters alike for this many boards; their copies use different parts")
@@ -215,7 +224,7 @@ func FitPlan(items []stock.Item, p Plan, o PlanOptions) (*PlanResult, error) {
 // stock that the earlier copies' best candidates leave, and it may also
 // take the first copy's alternatives, so that the copies find different
 // rows when the drawer holds the same value in several bins.
-func splitGroups(items []stock.Item, p Plan, groups []*Group, o PlanOptions, cache map[string]*optimize.Result) ([]*Group, error) {
+func splitGroups(ctx context.Context, items []stock.Item, p Plan, groups []*Group, o PlanOptions, cache map[string]*optimize.Result) ([]*Group, error) {
 	out := make([]*Group, len(p.Filters))
 	for _, g := range groups {
 		left := append([]stock.Item(nil), items...)
@@ -225,10 +234,10 @@ func splitGroups(items []stock.Item, p Plan, groups []*Group, o PlanOptions, cac
 			var r *optimize.Result
 			var err error
 			if j == 0 {
-				r, err = fitGroup(left, p, one, o, cache)
+				r, err = fitGroup(ctx, left, p, one, o, cache)
 				first = r
 			} else {
-				r, err = fitGroup(left, p, one, o, map[string]*optimize.Result{})
+				r, err = fitGroup(ctx, left, p, one, o, map[string]*optimize.Result{})
 				if err == nil {
 					merged := *r
 					merged.Candidates = append(append([]*optimize.Candidate(nil), r.Candidates...), first.Candidates...)
@@ -261,7 +270,7 @@ func take(items []stock.Item, use []optimize.StockUse, boards int) {
 }
 
 // fitGroup runs the search of one group, reusing an identical earlier one.
-func fitGroup(items []stock.Item, p Plan, g *Group, o PlanOptions, cache map[string]*optimize.Result) (*optimize.Result, error) {
+func fitGroup(ctx context.Context, items []stock.Item, p Plan, g *Group, o PlanOptions, cache map[string]*optimize.Result) (*optimize.Result, error) {
 	fo := o.Fit
 	fo.Boards = p.Boards * len(g.Members)
 	fo.Top = o.pool()
@@ -270,7 +279,7 @@ func fitGroup(items []stock.Item, p Plan, g *Group, o PlanOptions, cache map[str
 	if r, ok := cache[key]; ok {
 		return r, nil
 	}
-	r, err := optimize.Fit(items, g.Spec, fo)
+	r, err := optimize.Fit(ctx, items, g.Spec, fo)
 	if fault.KindOf(err) == fault.Infeasible {
 		// Nothing usable for this many copies and boards: an empty pool,
 		// which the joint search reports (and may split the copies).

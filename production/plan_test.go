@@ -1,6 +1,7 @@
 package production
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"math/rand"
@@ -84,7 +85,7 @@ func TestJointSearchMatchesExhaustive(t *testing.T) {
 		{Label: "hum companion", Spec: synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 250, Order: 2}},
 	}}
 	const pool, top = 12, 6
-	pr, err := FitPlan(items, p, PlanOptions{Fit: singlePartOptions(), Pool: pool, Top: top})
+	pr, err := FitPlan(context.Background(), items, p, PlanOptions{Fit: singlePartOptions(), Pool: pool, Top: top})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -159,7 +160,7 @@ func TestPlanSharesRows(t *testing.T) {
 		{Label: "speaker low-pass", Spec: synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 4000, Order: 4}},
 	}}
 	o := optimize.DefaultOptions()
-	pr, err := FitPlan(items, p, PlanOptions{Fit: o})
+	pr, err := FitPlan(context.Background(), items, p, PlanOptions{Fit: o})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -235,7 +236,7 @@ func twinStock(t *testing.T, qty int) ([]stock.Item, synth.Spec) {
 func TestIdenticalFiltersComeOutIdentical(t *testing.T) {
 	items, spec := twinStock(t, 100)
 	p := Plan{Name: "stereo", Boards: 10, Filters: []PlanFilter{{Label: "left", Spec: spec}, {Label: "right", Spec: spec}}}
-	pr, err := FitPlan(items, p, PlanOptions{Fit: singlePartOptions()})
+	pr, err := FitPlan(context.Background(), items, p, PlanOptions{Fit: singlePartOptions()})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -253,7 +254,7 @@ func TestIdenticalFiltersSplitWhenStockForbids(t *testing.T) {
 	// Each bin holds one channel's parts for 10 boards, not two.
 	items, spec := twinStock(t, 10)
 	p := Plan{Name: "stereo", Boards: 10, Filters: []PlanFilter{{Label: "left", Spec: spec}, {Label: "right", Spec: spec}}}
-	pr, err := FitPlan(items, p, PlanOptions{Fit: singlePartOptions()})
+	pr, err := FitPlan(context.Background(), items, p, PlanOptions{Fit: singlePartOptions()})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -270,7 +271,7 @@ func TestPlanWithoutBoardSaysWhy(t *testing.T) {
 	items, spec := twinStock(t, 10)
 	// Three channels for 10 boards: 30 of each value, 20 on hand.
 	p := Plan{Name: "three-way", Boards: 10, Filters: []PlanFilter{{Label: "a", Spec: spec}, {Label: "b", Spec: spec}, {Label: "c", Spec: spec}}}
-	pr, err := FitPlan(items, p, PlanOptions{Fit: singlePartOptions()})
+	pr, err := FitPlan(context.Background(), items, p, PlanOptions{Fit: singlePartOptions()})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -317,7 +318,7 @@ func benchPlan(b *testing.B, items []stock.Item, p Plan) {
 	o := PlanOptions{Fit: optimize.DefaultOptions()}
 	for i := 0; i < b.N; i++ {
 		start := nowSeconds()
-		pr, err := FitPlan(items, p, o)
+		pr, err := FitPlan(context.Background(), items, p, o)
 		if err != nil {
 			b.Fatal(err)
 		}
@@ -328,7 +329,7 @@ func benchPlan(b *testing.B, items []stock.Item, p Plan) {
 		nodes = pr.Nodes
 		// The joint search alone, on the same filter searches.
 		start = nowSeconds()
-		newJointSearch(items, pr.Plan, pr.Groups, o).run()
+		_, _ = newJointSearch(items, pr.Plan, pr.Groups, o).run(context.Background())
 		joint = append(joint, nowSeconds()-start)
 	}
 	sort.Float64s(secs)
@@ -377,7 +378,10 @@ func TestJointSearchMatchesExhaustiveRandomPools(t *testing.T) {
 			pr.Plan = p
 			o := PlanOptions{Fit: optimize.DefaultOptions(), Top: 8}
 			js := newJointSearch(items, p, pr.Groups, o)
-			boards := js.run()
+			boards, err := js.run(context.Background())
+			if err != nil {
+				t.Fatal(err)
+			}
 			all := exhaustive(items, pr, perPool)
 			r := ranker{rank: optimize.RankBalanced, goodEnough: o.Fit.GoodEnough}
 			sort.SliceStable(all, func(a, b int) bool { return r.cmp(all[a], all[b]) < 0 })

@@ -1,6 +1,7 @@
 package production
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"sort"
@@ -119,9 +120,12 @@ type trial struct {
 const trialStock = 64
 
 // suggestCore runs the trials and keeps those that improve on base.
-func suggestCore(items []stock.Item, boards int, base Outcome, trials []trial, run searchFunc, r ranker, so SuggestOptions) ([]Suggestion, error) {
+func suggestCore(ctx context.Context, items []stock.Item, boards int, base Outcome, trials []trial, run searchFunc, r ranker, so SuggestOptions) ([]Suggestion, error) {
 	var out []Suggestion
 	for _, tr := range trials {
+		if err := ctx.Err(); err != nil {
+			return nil, fmt.Errorf("the purchase suggestions were interrupted: %w", err)
+		}
 		trialItems, ids := applyTrial(items, tr.items, boards)
 		after, err := run(trialItems, tr.groups)
 		if err != nil {
@@ -475,14 +479,14 @@ func fitOutcome(r *optimize.Result, boards int) (Outcome, *optimize.Candidate) {
 // drawer would give without quantity limits), each tested by fitting
 // again with the purchase added to a copy of the stock. Top-ups of short
 // rows come as one suggestion.
-func SuggestFit(items []stock.Item, spec synth.Spec, o optimize.Options, res *optimize.Result, so SuggestOptions) ([]Suggestion, error) {
+func SuggestFit(ctx context.Context, items []stock.Item, spec synth.Spec, o optimize.Options, res *optimize.Result, so SuggestOptions) ([]Suggestion, error) {
 	o.Progress = nil
 	// Trials search only the order and arrangement of the reference
 	// design, which halves their cost; a full fit can only do as well or
 	// better, so what a suggestion claims stays true.
 	tspec, topt := spec, o
 	run := func(its []stock.Item, _ []int) (Outcome, error) {
-		r, err := optimize.Fit(its, tspec, topt)
+		r, err := optimize.Fit(ctx, its, tspec, topt)
 		if err != nil {
 			return Outcome{}, err
 		}
@@ -492,7 +496,7 @@ func SuggestFit(items []stock.Item, spec synth.Spec, o optimize.Options, res *op
 	base, ref := fitOutcome(res, o.Boards)
 	var trials []trial
 	if !base.Feasible {
-		r, err := optimize.Fit(relaxed(items, o.Boards), spec, o)
+		r, err := optimize.Fit(ctx, relaxed(items, o.Boards), spec, o)
 		if err != nil {
 			return nil, err
 		}
@@ -514,7 +518,7 @@ func SuggestFit(items []stock.Item, spec synth.Spec, o optimize.Options, res *op
 		topt.Odd = &odd
 		trials = append(trials, newValueTrials(items, []*optimize.Candidate{ref}, nil, o, so.trials())...)
 	}
-	return suggestCore(items, o.Boards, base, trials, run, ranker{rank: o.Rank, goodEnough: o.GoodEnough}, so)
+	return suggestCore(ctx, items, o.Boards, base, trials, run, ranker{rank: o.Rank, goodEnough: o.GoodEnough}, so)
 }
 
 // boardOutcome is the best board of a plan result.
@@ -533,11 +537,11 @@ func boardOutcome(pr *PlanResult) Outcome {
 // SuggestPlan is SuggestFit for a plan result pr of FitPlan(items, p, o):
 // each addition is tested by fitting again the filters whose needs it
 // came from and repeating the joint search over all filters.
-func SuggestPlan(items []stock.Item, pr *PlanResult, o PlanOptions, so SuggestOptions) ([]Suggestion, error) {
+func SuggestPlan(ctx context.Context, items []stock.Item, pr *PlanResult, o PlanOptions, so SuggestOptions) ([]Suggestion, error) {
 	o.Progress = nil
 	base := boardOutcome(pr)
 	run := func(its []stock.Item, groups []int) (Outcome, error) {
-		r, err := refitPlan(its, pr, o, groups)
+		r, err := refitPlan(ctx, its, pr, o, groups)
 		if err != nil {
 			return Outcome{}, err
 		}
@@ -549,7 +553,7 @@ func SuggestPlan(items []stock.Item, pr *PlanResult, o PlanOptions, so SuggestOp
 		ref = pr.Boards[0]
 	}
 	if !base.Feasible {
-		rel, err := refitPlan(relaxed(items, pr.Plan.Boards), pr, o, nil)
+		rel, err := refitPlan(ctx, relaxed(items, pr.Plan.Boards), pr, o, nil)
 		if err != nil {
 			return nil, err
 		}
@@ -570,12 +574,12 @@ func SuggestPlan(items []stock.Item, pr *PlanResult, o PlanOptions, so SuggestOp
 		}
 		trials = append(trials, newValueTrials(items, refs, groups, o.Fit, so.trials())...)
 	}
-	return suggestCore(items, pr.Plan.Boards, base, trials, run, ranker{rank: o.Fit.Rank, goodEnough: o.Fit.GoodEnough}, so)
+	return suggestCore(ctx, items, pr.Plan.Boards, base, trials, run, ranker{rank: o.Fit.Rank, goodEnough: o.Fit.GoodEnough}, so)
 }
 
 // refitPlan repeats a plan's joint search on items, fitting again the
 // groups listed (all when nil) and keeping the other groups' searches.
-func refitPlan(items []stock.Item, pr *PlanResult, o PlanOptions, groups []int) (*PlanResult, error) {
+func refitPlan(ctx context.Context, items []stock.Item, pr *PlanResult, o PlanOptions, groups []int) (*PlanResult, error) {
 	again := map[int]bool{}
 	for _, g := range groups {
 		again[g] = true
@@ -585,7 +589,7 @@ func refitPlan(items []stock.Item, pr *PlanResult, o PlanOptions, groups []int) 
 	for gi, g := range pr.Groups {
 		ng := &Group{Members: g.Members, Spec: g.Spec, Result: g.Result}
 		if groups == nil || again[gi] {
-			r, err := fitGroup(items, pr.Plan, ng, o, fits)
+			r, err := fitGroup(ctx, items, pr.Plan, ng, o, fits)
 			if err != nil {
 				return nil, err
 			}
@@ -594,7 +598,11 @@ func refitPlan(items []stock.Item, pr *PlanResult, o PlanOptions, groups []int) 
 		out.Groups = append(out.Groups, ng)
 	}
 	js := newJointSearch(items, pr.Plan, out.Groups, o)
-	out.Boards = js.run()
+	boards, err := js.run(ctx)
+	if err != nil {
+		return nil, err
+	}
+	out.Boards = boards
 	out.Nodes = js.nodes
 	return out, nil
 }

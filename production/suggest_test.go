@@ -1,6 +1,7 @@
 package production
 
 import (
+	"context"
 	"math"
 	"testing"
 
@@ -67,7 +68,7 @@ func TestSuggestionsDeliverWhatTheyClaim(t *testing.T) {
 	// The drawer without the resistor values of the best design's first
 	// section: the best design left is worse, and buying a value near the
 	// missing ones must help.
-	first, err := optimize.Fit(full, spec, optimize.DefaultOptions())
+	first, err := optimize.Fit(context.Background(), full, spec, optimize.DefaultOptions())
 	if err != nil || len(first.Candidates) == 0 {
 		t.Fatalf("fit: %v", err)
 	}
@@ -96,11 +97,11 @@ func TestSuggestionsDeliverWhatTheyClaim(t *testing.T) {
 		t.Run(c.name, func(t *testing.T) {
 			o := optimize.DefaultOptions()
 			o.Boards = c.boards
-			res, err := optimize.Fit(items, spec, o)
+			res, err := optimize.Fit(context.Background(), items, spec, o)
 			if err != nil {
 				t.Fatal(err)
 			}
-			sg, err := SuggestFit(items, spec, o, res, SuggestOptions{})
+			sg, err := SuggestFit(context.Background(), items, spec, o, res, SuggestOptions{})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -113,7 +114,7 @@ func TestSuggestionsDeliverWhatTheyClaim(t *testing.T) {
 			r := ranker{rank: o.Rank, goodEnough: o.GoodEnough}
 			for _, s := range sg {
 				t.Logf("%d item(s), first %s × %d: %s", len(s.Items), s.Items[0].Label(), s.Items[0].Quantity, s.Buys())
-				bought, err := optimize.Fit(applySuggestion(items, s), spec, o)
+				bought, err := optimize.Fit(context.Background(), applySuggestion(items, s), spec, o)
 				if err != nil {
 					t.Fatal(err)
 				}
@@ -135,14 +136,14 @@ func TestPlanSuggestionClosesShortfall(t *testing.T) {
 		{Label: "right voice band", Spec: synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 4000, Order: 4}},
 	}}
 	o := PlanOptions{Fit: singlePartOptions()}
-	pr, err := FitPlan(items, p, o)
+	pr, err := FitPlan(context.Background(), items, p, o)
 	if err != nil {
 		t.Fatal(err)
 	}
 	if len(pr.Boards) != 0 {
 		t.Fatalf("the drawer covers %d boards already; the test needs a shortfall", p.Boards)
 	}
-	sg, err := SuggestPlan(items, pr, o, SuggestOptions{})
+	sg, err := SuggestPlan(context.Background(), items, pr, o, SuggestOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -151,7 +152,7 @@ func TestPlanSuggestionClosesShortfall(t *testing.T) {
 	}
 	r := ranker{rank: o.Fit.Rank, goodEnough: o.Fit.GoodEnough}
 	for _, s := range sg {
-		bought, err := FitPlan(applySuggestion(items, s), p, o)
+		bought, err := FitPlan(context.Background(), applySuggestion(items, s), p, o)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"context"
 	"math"
 	"strings"
 	"testing"
@@ -69,7 +70,7 @@ func TestEnvelope(t *testing.T) {
 // checks that the sheet's summary carries its figures.
 func TestYieldFromTolerance(t *testing.T) {
 	c := lowpass4(t)
-	r, err := tolerance.Run(c, c.Design.Spec, tolerance.Options{Trials: 300, Seed: 3, Brief: true, Workers: 1})
+	r, err := tolerance.Run(context.Background(), c, c.Design.Spec, tolerance.Options{Trials: 300, Seed: 3, Brief: true, Workers: 1})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,6 +1,7 @@
 package tolerance
 
 import (
+	"context"
 	"testing"
 
 	"drawerfit/synth"
@@ -21,7 +22,7 @@ func BenchmarkYield8thOrder(b *testing.B) {
 		b.Run(mode.name, func(b *testing.B) {
 			const trials = 10_000
 			for b.Loop() {
-				if _, err := Run(c, spec, Options{Trials: trials, Seed: 1, Brief: mode.brief}); err != nil {
+				if _, err := Run(context.Background(), c, spec, Options{Trials: trials, Seed: 1, Brief: mode.brief}); err != nil {
 					b.Fatal(err)
 				}
 			}

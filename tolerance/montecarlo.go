@@ -1,6 +1,7 @@
 package tolerance
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
 	"runtime"
@@ -87,7 +88,12 @@ type Options struct {
 	// the specification when the yield misses the target and the order has
 	// slack; the result is analysed with the same options.
 	Refit RefitFunc
+
+	ctx context.Context // set by Run: the simulation stops once it is done
 }
+
+// cancelled reports whether the analysis's context is done.
+func (o *Options) cancelled() bool { return o.ctx != nil && o.ctx.Err() != nil }
 
 func (o *Options) normalize() error {
 	if o.Trials == 0 {
@@ -236,6 +242,9 @@ func simulate(b *board, j *judge, tol []float64, opt *Options, needEdge, withBla
 				bl = newBlamer(b, j, opt)
 			}
 			for i := lo; i < hi; i++ {
+				if i&255 == 0 && opt.cancelled() {
+					return
+				}
 				smp.reset(opt.Seed, i)
 				for k := range dev {
 					dev[k] = smp.draw()

@@ -120,7 +120,7 @@ func refit(b *board, c *optimize.Candidate, spec synth.Spec, opt Options) (*Refi
 	}
 	sub := opt
 	sub.Brief, sub.Refit = true, nil
-	res, err := Run(nc, spec, sub)
+	res, err := Run(opt.ctx, nc, spec, sub)
 	if err != nil {
 		return nil, err
 	}

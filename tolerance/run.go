@@ -1,6 +1,7 @@
 package tolerance
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -157,10 +158,15 @@ func prepare(c *optimize.Candidate, spec synth.Spec) (synth.Spec, *board, *judge
 // margins. A zero spec (Pass == 0) means the candidate's own design
 // specification. Errors: fault.Invalid for bad options, a bad specification
 // or a malformed candidate. With opt.Refit set, errors of the refit are
-// reported as warnings, not returned.
-func Run(c *optimize.Candidate, spec synth.Spec, opt Options) (*Result, error) {
+// reported as warnings, not returned. The simulation stops soon after ctx
+// is done and Run then returns an error wrapping ctx.Err().
+func Run(ctx context.Context, c *optimize.Candidate, spec synth.Spec, opt Options) (*Result, error) {
 	if err := opt.normalize(); err != nil {
 		return nil, err
+	}
+	opt.ctx = ctx
+	if err := ctx.Err(); err != nil {
+		return nil, interrupted(err)
 	}
 	spec, b, j, err := prepare(c, spec)
 	if err != nil {
@@ -183,6 +189,9 @@ func Run(c *optimize.Candidate, spec synth.Spec, opt Options) (*Result, error) {
 	r.Nominal = figures(j, nm, &opt)
 
 	ts := simulate(b, j, tol, &opt, true, true)
+	if opt.cancelled() {
+		return nil, interrupted(ctx.Err())
+	}
 	r.Passed = ts.passed()
 	r.Yield = float64(r.Passed) / float64(opt.Trials)
 	r.CILow, r.CIHigh = Wilson(r.Passed, opt.Trials, z95)
@@ -246,8 +255,16 @@ func Run(c *optimize.Candidate, spec synth.Spec, opt Options) (*Result, error) {
 			}
 		}
 	}
+	if opt.cancelled() {
+		return nil, interrupted(ctx.Err())
+	}
 	r.Advice = advice(r, j, onLimit, refitNote)
 	return r, nil
+}
+
+// interrupted is the error of an analysis stopped by its context.
+func interrupted(err error) error {
+	return fmt.Errorf("the yield simulation was interrupted: %w", err)
 }
 
 // figures converts measured metrics into reported figures.

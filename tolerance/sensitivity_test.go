@@ -1,6 +1,7 @@
 package tolerance
 
 import (
+	"context"
 	"math"
 	"strings"
 	"testing"
@@ -114,7 +115,7 @@ func TestWorstCaseFirstOrder(t *testing.T) {
 	}}}
 	f := 1 / (2 * math.Pi * r * cv)
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: f, Stop: 10 * f, StopAtten: 19}
-	res, err := Run(c, spec, Options{Trials: 500, Seed: 3})
+	res, err := Run(context.Background(), c, spec, Options{Trials: 500, Seed: 3})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -146,7 +147,7 @@ func TestChebyshevRippleEdge(t *testing.T) {
 	for _, n := range []int{4, 5} {
 		spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Chebyshev, Ripple: 0.5, Pass: 2e3, Stop: 5e3, StopAtten: 30}
 		c := designCandidate(t, spec, n, synth.OddOnePole, tols{0, 0})
-		r, err := Run(c, spec, Options{Trials: 10, Brief: true})
+		r, err := Run(context.Background(), c, spec, Options{Trials: 10, Brief: true})
 		if err != nil {
 			t.Fatal(err)
 		}

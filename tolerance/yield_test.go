@@ -1,6 +1,7 @@
 package tolerance
 
 import (
+	"context"
 	"encoding/json"
 	"math"
 	"sort"
@@ -121,7 +122,7 @@ func TestF0DistributionAgainstExactConvolution(t *testing.T) {
 
 	// The reported percentiles of the section's f0 sit where the exact CDF
 	// says, within 4 binomial standard errors.
-	r, err := Run(c, spec, Options{Trials: trials / 4, Seed: 5, PassMargin: 100, Brief: true})
+	r, err := Run(context.Background(), c, spec, Options{Trials: trials / 4, Seed: 5, PassMargin: 100, Brief: true})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -149,7 +150,7 @@ func TestNormalDistributionIsThreeSigma(t *testing.T) {
 	c := sallenKey(10e3, 10e3, 20e-9, 5e-9, [4]float64{0.05, 0, 0, 0})
 	f0nom := 1 / (2 * math.Pi * math.Sqrt(10e3*10e3*20e-9*5e-9))
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: f0nom, Order: 2}
-	r, err := Run(c, spec, Options{Trials: 40_000, Seed: 3, Dist: Normal, PassMargin: 100, Brief: true})
+	r, err := Run(context.Background(), c, spec, Options{Trials: 40_000, Seed: 3, Dist: Normal, PassMargin: 100, Brief: true})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -159,7 +160,7 @@ func TestNormalDistributionIsThreeSigma(t *testing.T) {
 	if math.Abs(span-want)/want > 0.03 {
 		t.Errorf("normal: ln(P95/P5) of f0 = %.5f, want %.5f within 3 %%", span, want)
 	}
-	ru, err := Run(c, spec, Options{Trials: 40_000, Seed: 3, PassMargin: 100, Brief: true})
+	ru, err := Run(context.Background(), c, spec, Options{Trials: 40_000, Seed: 3, PassMargin: 100, Brief: true})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -186,7 +187,7 @@ func TestZeroToleranceGivesFullYield(t *testing.T) {
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			c := designCandidate(t, tc.spec, tc.order, tc.odd, tols{0, 0})
-			r, err := Run(c, tc.spec, Options{Trials: 500, Seed: 1})
+			r, err := Run(context.Background(), c, tc.spec, Options{Trials: 500, Seed: 1})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -298,7 +299,7 @@ func TestSeedReproducibleAndWorkerIndependent(t *testing.T) {
 	spec := butterworthLP(1e3, 2.5e3, 35)
 	c := designCandidate(t, spec, 6, synth.OddOnePole, tols{0.01, 0.05})
 	run := func(seed uint64, workers int) string {
-		r, err := Run(c, spec, Options{Trials: 1500, Seed: seed, Workers: workers})
+		r, err := Run(context.Background(), c, spec, Options{Trials: 1500, Seed: seed, Workers: workers})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -324,7 +325,7 @@ func TestSeedReproducibleAndWorkerIndependent(t *testing.T) {
 func TestJSONFields(t *testing.T) {
 	spec := butterworthLP(1e3, 2e3, 40)
 	c := designCandidate(t, spec, 8, synth.OddOnePole, tols{0.01, 0.05})
-	r, err := Run(c, spec, Options{Trials: 400, Seed: 9})
+	r, err := Run(context.Background(), c, spec, Options{Trials: 400, Seed: 9})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -388,7 +389,7 @@ func TestBlameSingleCulprit(t *testing.T) {
 	f0 := 1 / (2 * math.Pi * math.Sqrt(10e3*10e3*20e-9*10e-9))
 	c := sallenKey(10e3, 10e3, 20e-9, 10e-9, [4]float64{0, 0, 0, 0.05})
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: f0 * 0.99, Stop: f0 * 3, StopAtten: 15}
-	r, err := Run(c, spec, Options{Trials: 2000, Seed: 4})
+	r, err := Run(context.Background(), c, spec, Options{Trials: 2000, Seed: 4})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -406,7 +407,7 @@ func TestAdviceIsComputed(t *testing.T) {
 	// The high-Q section's Cg (C8) is a 10 % part.
 	setTol(c, "C8", 0.10)
 	opt := Options{Trials: 2000, Seed: 21, PassMargin: 0.5, StopMargin: 0.5}
-	r, err := Run(c, spec, opt)
+	r, err := Run(context.Background(), c, spec, opt)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -425,7 +426,7 @@ func TestAdviceIsComputed(t *testing.T) {
 	setTol(c2, "C8", rm.To)
 	o2 := opt
 	o2.Brief = true
-	r2, err := Run(c2, spec, o2)
+	r2, err := Run(context.Background(), c2, spec, o2)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -442,7 +443,7 @@ func TestNeededMarginReachesTarget(t *testing.T) {
 	spec := butterworthLP(1e3, 2e3, 40)
 	c := designCandidate(t, spec, 8, synth.OddOnePole, tols{0.01, 0.05})
 	opt := Options{Trials: 2000, Seed: 8, Brief: true}
-	r, err := Run(c, spec, opt)
+	r, err := Run(context.Background(), c, spec, opt)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -453,7 +454,7 @@ func TestNeededMarginReachesTarget(t *testing.T) {
 		t.Run(name, func(t *testing.T) {
 			o := opt
 			o.PassMargin, o.StopMargin = pm, sm
-			r2, err := Run(c, spec, o)
+			r2, err := Run(context.Background(), c, spec, o)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -469,7 +470,7 @@ func TestNeededMarginReachesTarget(t *testing.T) {
 			if sm == 0 {
 				o.StopMargin = 0
 			}
-			r3, err := Run(c, spec, o)
+			r3, err := Run(context.Background(), c, spec, o)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -494,7 +495,7 @@ func TestNominalOnLimitLosesHalf(t *testing.T) {
 	// issue's statement; symmetry of the uniform draw about nominal).
 	spec := butterworthLP(1e3, 3e3, 30) // order 4 has 15 dB of stopband slack
 	c := designCandidate(t, spec, 4, synth.OddOnePole, tols{0.01, 0.05})
-	r, err := Run(c, spec, Options{Trials: 4000, Seed: 2})
+	r, err := Run(context.Background(), c, spec, Options{Trials: 4000, Seed: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -535,7 +536,7 @@ func TestRefitMovesEdgeInside(t *testing.T) {
 				asked = append(asked, s)
 				return designCandidate(t, s, s.Order, s.Odd, tols{0.01, 0.05}), nil
 			}
-			r, err := Run(c, tc.spec, Options{Trials: 2000, Seed: 6, Refit: refit})
+			r, err := Run(context.Background(), c, tc.spec, Options{Trials: 2000, Seed: 6, Refit: refit})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -578,13 +579,13 @@ func TestOptionsErrors(t *testing.T) {
 	spec := butterworthLP(1e3, 2e3, 40)
 	c := designCandidate(t, spec, 8, synth.OddOnePole, tols{0.01, 0.05})
 	for _, o := range []Options{{Trials: -1}, {TargetYield: 1.5}, {Dist: "triangular"}, {PassMargin: math.NaN()}} {
-		if _, err := Run(c, spec, o); fault.KindOf(err) != fault.Invalid {
+		if _, err := Run(context.Background(), c, spec, o); fault.KindOf(err) != fault.Invalid {
 			t.Errorf("options %+v: error %v, want invalid", o, err)
 		}
 	}
 	bad := cloneCandidate(c)
 	bad.Sections[0].Components[0].Parts[0].Tolerance = 1.5
-	if _, err := Run(bad, spec, Options{}); fault.KindOf(err) != fault.Invalid {
+	if _, err := Run(context.Background(), bad, spec, Options{}); fault.KindOf(err) != fault.Invalid {
 		t.Errorf("tolerance 150%%: error %v, want invalid", err)
 	}
 	if _, err := ParseDist("normal"); err != nil {
@@ -598,7 +599,7 @@ func TestUnknownToleranceWarned(t *testing.T) {
 	// Invented values: a 1 kHz Butterworth section.
 	c := sallenKey(22.5e3, 22.5e3, 10e-9, 5e-9, [4]float64{0.01, 0.01, 0.05, 0})
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2}
-	r, err := Run(c, spec, Options{Trials: 200, Seed: 1, Brief: true})
+	r, err := Run(context.Background(), c, spec, Options{Trials: 200, Seed: 1, Brief: true})
 	if err != nil {
 		t.Fatal(err)
 	}

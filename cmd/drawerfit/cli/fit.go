@@ -1,6 +1,7 @@
 package cli
 
 import (
+	"context"
 	"fmt"
 	"io"
 	"math"
@@ -157,6 +158,7 @@ type fitRun struct {
 	items   []stock.Item    // the stock searched (for the checks' refit and bias resistors)
 	checks  *fitChecks      // results of the checks (fit_checks.go)
 	suggest *fitSuggestions // purchase suggestions (with --suggest; fit_production.go)
+	ctx     context.Context // cancelled on interrupt; the checks and refits stop with it
 }
 
 func (o *fitOptions) optimizeOptions() (optimize.Options, error) {
@@ -228,12 +230,12 @@ func doFit(env *Env, o *fitOptions) (*fitRun, error) {
 	start := env.Now()
 	prog := newProgress(env, "fitting")
 	opt.Progress = prog.update
-	res, err := optimize.Fit(items, spec, opt)
+	res, err := optimize.Fit(env.Ctx, items, spec, opt)
 	prog.done()
 	if err != nil {
 		return nil, err
 	}
-	return &fitRun{spec: res.Spec, opts: opt, result: res, source: source, elapsed: env.Now().Sub(start), items: items}, nil
+	return &fitRun{spec: res.Spec, opts: opt, result: res, source: source, elapsed: env.Now().Sub(start), items: items, ctx: env.Ctx}, nil
 }
 
 func runFit(env *Env, o *fitOptions) error {
@@ -634,4 +636,12 @@ func fitJSON(run *fitRun) jsonFit {
 	}
 	out.Suggestions = run.suggest.json()
 	return out
+}
+
+// context returns the run's context (the background when none was set).
+func (r *fitRun) context() context.Context {
+	if r.ctx == nil {
+		return context.Background()
+	}
+	return r.ctx
 }

@@ -241,7 +241,7 @@ func runFitChecks(env *Env, o *fitOptions, run *fitRun) error {
 		best := res.Candidates[0]
 		full := topt
 		full.Refit = refitFor(run, best)
-		r, err := tolerance.Run(best, res.Spec, full)
+		r, err := tolerance.Run(run.context(), best, res.Spec, full)
 		if err != nil {
 			return fmt.Errorf("yield of the best candidate: %w", err)
 		}
@@ -271,7 +271,7 @@ func (co *fitCheckOptions) check(c *optimize.Candidate, spec synth.Spec, op *syn
 		cc.bias, cc.biasProblem = fitBiasResistors(c, run)
 	}
 	if co.yield {
-		if cc.yield, err = tolerance.Run(c, spec, topt); err != nil {
+		if cc.yield, err = tolerance.Run(run.context(), c, spec, topt); err != nil {
 			return nil, fmt.Errorf("yield analysis: %w", err)
 		}
 	}
@@ -304,7 +304,7 @@ func refitFor(run *fitRun, c *optimize.Candidate) tolerance.RefitFunc {
 		odd := c.Design.Odd
 		spec.Order, spec.Odd = c.Design.Order, odd
 		opt.Odd, opt.MaxOrder, opt.Top, opt.Progress, opt.ShowFailing = &odd, c.Design.Order, 1, nil, false
-		res, err := optimize.Fit(run.items, spec, opt)
+		res, err := optimize.Fit(run.context(), run.items, spec, opt)
 		if err != nil {
 			return nil, err
 		}

@@ -70,7 +70,7 @@ func (s *savedDesigns) RefitFor(ctx context.Context, id string, c *optimize.Cand
 		return nil, err
 	}
 	opt.Boards = max(d.Boards, 1)
-	return refitFor(&fitRun{opts: opt, items: items}, c), nil
+	return refitFor(&fitRun{opts: opt, items: items, ctx: ctx}, c), nil
 }
 
 // loadDesignFilter reads "ID" (a one-filter design) or "ID/N" and returns
@@ -159,7 +159,7 @@ type fitSuggestions struct {
 
 func suggestForFit(env *Env, o *fitOptions, run *fitRun) error {
 	start := env.Now()
-	list, err := production.SuggestFit(run.items, run.spec, run.opts, run.result, production.SuggestOptions{})
+	list, err := production.SuggestFit(env.Ctx, run.items, run.spec, run.opts, run.result, production.SuggestOptions{})
 	if err != nil {
 		return err
 	}
@@ -415,7 +415,7 @@ func runPlanFit(env *Env, o *fitOptions) error {
 	prog := newProgress(env, "fitting the plan's filters")
 	popts.Progress = prog.update
 	start := env.Now()
-	res, err := production.FitPlan(items, p, popts)
+	res, err := production.FitPlan(env.Ctx, items, p, popts)
 	prog.done()
 	if err != nil {
 		return err
@@ -435,7 +435,7 @@ func runPlanFit(env *Env, o *fitOptions) error {
 	}
 	if o.suggest {
 		s0 := env.Now()
-		list, err := production.SuggestPlan(items, res, popts, production.SuggestOptions{})
+		list, err := production.SuggestPlan(env.Ctx, items, res, popts, production.SuggestOptions{})
 		if err != nil {
 			return err
 		}

@@ -109,7 +109,7 @@ func runReport(env *Env, o *reportOptions, id string) error {
 		return err
 	}
 	opt.Boards = max(d.Boards, 1)
-	run := &fitRun{opts: opt, items: items, source: source}
+	run := &fitRun{opts: opt, items: items, source: source, ctx: env.Ctx}
 
 	picked, err := pickFilters(d, o.filter)
 	if err != nil {

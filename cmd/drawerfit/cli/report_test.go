@@ -51,7 +51,7 @@ func savedDesignDB(t *testing.T, boards int, name string, filters ...[]synth.Spe
 	for _, specs := range filters {
 		d := &production.Design{Name: name, Boards: boards, Rank: 1, Settings: production.SettingsOf(opt)}
 		for i, sp := range specs {
-			res, err := optimize.Fit(items, sp, opt)
+			res, err := optimize.Fit(context.Background(), items, sp, opt)
 			if err != nil || len(res.Candidates) == 0 {
 				t.Fatalf("fit %v: %v", sp, err)
 			}

@@ -96,14 +96,15 @@ func (u usageError) Unwrap() error { return u.error }
 // Main runs drawerfit with the process's arguments and streams and returns
 // the exit status.
 func Main() int {
-	ctx, stop := signalContext()
+	ctx, stop := signalContext(os.Stderr)
 	defer stop()
 	env := &Env{In: os.Stdin, Out: os.Stdout, Err: os.Stderr, Getenv: os.Getenv, Now: time.Now, Ctx: ctx}
 	return Run(env, os.Args[1:])
 }
 
 // Run executes one command line against env and returns the exit status:
-// 0 success, 1 failure, 2 usage or invalid input.
+// 0 success, 1 failure, 2 usage or invalid input, 130 when env.Ctx was
+// cancelled (SIGINT or SIGTERM) before the command finished.
 func Run(env *Env, args []string) int {
 	if env.Getenv == nil {
 		env.Getenv = os.Getenv
@@ -116,9 +117,15 @@ func Run(env *Env, args []string) int {
 	}
 	root := NewRoot(env)
 	root.SetArgs(args)
-	err := root.ExecuteContext(env.Ctx)
+	cmd, err := root.ExecuteContextC(env.Ctx)
 	if err == nil {
 		return 0
+	}
+	if env.Ctx.Err() != nil {
+		// Whatever the command was doing stopped with the context; the
+		// commands write files and the database only once complete.
+		fmt.Fprintln(env.Err, "drawerfit: "+interruptedMessage(env.Ctx, strings.TrimPrefix(cmd.CommandPath(), root.Name()+" "), err))
+		return exitInterrupted
 	}
 	var silent exitError
 	if errors.As(err, &silent) {

@@ -240,7 +240,7 @@ func parseYieldFraction(s string) (float64, error) {
 // runYield analyses candidate c against spec and prints the report. name
 // says which design it is ("design 12", "candidate 3").
 func runYield(env *Env, o *yieldOptions, name string, c *optimize.Candidate, spec synth.Spec) error {
-	rep, err := yieldAnalysis(o, name, c, spec)
+	rep, err := yieldAnalysis(env.Ctx, o, name, c, spec)
 	if err != nil {
 		return err
 	}
@@ -252,7 +252,7 @@ func runYield(env *Env, o *yieldOptions, name string, c *optimize.Candidate, spe
 }
 
 // yieldAnalysis runs every check the options ask for.
-func yieldAnalysis(o *yieldOptions, name string, c *optimize.Candidate, spec synth.Spec) (*yieldReport, error) {
+func yieldAnalysis(ctx context.Context, o *yieldOptions, name string, c *optimize.Candidate, spec synth.Spec) (*yieldReport, error) {
 	topt, err := o.tolOptions()
 	if err != nil {
 		return nil, err
@@ -261,7 +261,7 @@ func yieldAnalysis(o *yieldOptions, name string, c *optimize.Candidate, spec syn
 	if err != nil {
 		return nil, err
 	}
-	res, err := tolerance.Run(c, spec, topt)
+	res, err := tolerance.Run(ctx, c, spec, topt)
 	if err != nil {
 		return nil, err
 	}

@@ -80,7 +80,7 @@ func runBoardYield(env *Env, o *yieldOptions, id string, filters []boardFilter) 
 	topt.Brief, topt.Boards = true, 0
 	rep := &boardYield{Design: id, Yield: 1, CILow: 1, CIHigh: 1, Method: boardYieldMethod, Caution: tolerance.Caution}
 	for i, f := range filters {
-		r, err := tolerance.Run(f.Candidate, f.Spec, topt)
+		r, err := tolerance.Run(env.Ctx, f.Candidate, f.Spec, topt)
 		if err != nil {
 			return fmt.Errorf("filter %d (%s): %w", i+1, f.Label, err)
 		}
