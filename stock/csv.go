@@ -17,7 +17,8 @@ import (
 // CSV columns, in the order WriteCSV writes them. kind, value and quantity
 // are required in a file; the others may be left out.
 var (
-	CSVColumns      = []string{"kind", "value", "tolerance", "quantity", "package", "dielectric", "location", "note"}
+	CSVColumns      = []string{"kind", "value", "tolerance", "quantity", "package", "dielectric", "location", "note",
+		"voltage", "price", "min", "pack", "supplier-ref"}
 	requiredColumns = []string{"kind", "value", "quantity"}
 )
 
@@ -120,7 +121,10 @@ var bom = []byte{0xEF, 0xBB, 0xBF}
 //
 // Cells are read as the rest of the package reads them: kind by ParseKind,
 // value by ParseValue, tolerance by ParseToleranceFor (empty: not stated),
-// quantity as a whole number >= 0, dielectric normalised. Text cells
+// quantity, min and pack as whole numbers >= 0 (empty min or pack: none),
+// voltage by ParseVoltage and price by ParsePrice (empty: not rated, not
+// known; a price is read exactly as decimal text, with a point, never a
+// comma), dielectric normalised. Text cells
 // neutralised against spreadsheet formulas by WriteCSV are restored.
 //
 // It returns every row or none: if anything is wrong the error is a
@@ -295,6 +299,30 @@ func readRow(rec []string, cols map[string]int, bad func(col, reason string)) (I
 	} else {
 		it.Quantity = q
 	}
+	if v, err := ParseVoltage(cell("voltage")); err != nil {
+		fail("voltage", reasonOf(err))
+	} else {
+		it.Voltage = v
+	}
+	if p, err := ParsePrice(cell("price")); err != nil {
+		fail("price", reasonOf(err))
+	} else {
+		it.Price = p
+	}
+	for _, c := range []struct {
+		col string
+		dst *int
+	}{{"min", &it.Min}, {"pack", &it.Pack}} {
+		if t := strings.TrimSpace(cell(c.col)); t != "" {
+			n, err := parseCount(c.col, t)
+			if err != nil {
+				fail(c.col, err.Error())
+			} else {
+				*c.dst = n
+			}
+		}
+	}
+	it.SupplierRef = restore(strings.TrimSpace(cell("supplier-ref")))
 	it.Package = restore(strings.TrimSpace(cell("package")))
 	it.Dielectric = restore(strings.TrimSpace(cell("dielectric")))
 	it.Location = restore(strings.TrimSpace(cell("location")))
@@ -303,7 +331,7 @@ func readRow(rec []string, cols map[string]int, bad func(col, reason string)) (I
 	if kindOK {
 		for _, p := range it.Problems() {
 			switch p.Field {
-			case "value", "tolerance", "quantity":
+			case "value", "tolerance", "quantity", "voltage", "price", "min", "pack":
 				// Reported above from the text, with the text quoted.
 			default:
 				fail(p.Field, p.Reason)
@@ -315,25 +343,40 @@ func readRow(rec []string, cols map[string]int, bad func(col, reason string)) (I
 
 // parseQuantity reads a whole number of parts: digits only, 0 to
 // MaxQuantity.
-func parseQuantity(s string) (int, error) {
+func parseQuantity(s string) (int, error) { return parseCount("quantity", s) }
+
+// parseCount reads a whole number of parts named what (quantity, min,
+// pack): digits only, 0 to MaxQuantity.
+func parseCount(what, s string) (int, error) {
 	t := strings.TrimSpace(s)
 	if t == "" {
-		return 0, fmt.Errorf("quantity is empty")
+		return 0, fmt.Errorf("%s is empty", what)
 	}
 	for _, r := range t {
 		if r < '0' || r > '9' {
 			if r == '-' {
-				return 0, fmt.Errorf("quantity %q is negative", s)
+				return 0, fmt.Errorf("%s %q is negative", what, s)
 			}
-			return 0, fmt.Errorf("quantity %q is not a whole number", s)
+			return 0, fmt.Errorf("%s %q is not a whole number", what, s)
 		}
 	}
 	if len(t) > 10 {
-		return 0, fmt.Errorf("quantity %q is above %d", s, MaxQuantity)
+		return 0, fmt.Errorf("%s %q is above %d", what, s, MaxQuantity)
 	}
 	n, err := strconv.Atoi(t)
 	if err != nil || n > MaxQuantity {
-		return 0, fmt.Errorf("quantity %q is above %d", s, MaxQuantity)
+		return 0, fmt.Errorf("%s %q is above %d", what, s, MaxQuantity)
+	}
+	return n, nil
+}
+
+// ParseCount reads a minimum or pack size named what as ReadCSV does: a
+// whole number from 0 to MaxQuantity. Errors are fault.Invalid and quote
+// the text.
+func ParseCount(what, s string) (int, error) {
+	n, err := parseCount(what, s)
+	if err != nil {
+		return 0, fault.Invalidf("%v", err)
 	}
 	return n, nil
 }
@@ -347,6 +390,21 @@ func ParseQuantity(s string) (int, error) {
 	}
 	return n, nil
 }
+
+// countCell writes a minimum or pack size; 0 (none) is an empty cell.
+func countCell(n int) string {
+	if n == 0 {
+		return ""
+	}
+	return strconv.Itoa(n)
+}
+
+// GuardCell is the one guard of every text cell drawerfit writes to a CSV
+// file that a spreadsheet may open: a cell that would run as a formula
+// (starting with =, +, -, @, a tab or a carriage return) or that starts
+// with an apostrophe gets a leading apostrophe. ReadCSV removes exactly
+// what it added.
+func GuardCell(s string) string { return neutralise(s) }
 
 // WriteCSV writes items in the format ReadCSV reads: a header with all of
 // CSVColumns, then one row per item, LF line ends. Values and tolerances
@@ -374,6 +432,11 @@ func WriteCSV(w io.Writer, items []Item) error {
 			neutralise(it.Dielectric),
 			neutralise(it.Location),
 			neutralise(it.Note),
+			compactVoltage(it.Voltage),
+			it.Price.String(),
+			countCell(it.Min),
+			countCell(it.Pack),
+			neutralise(it.SupplierRef),
 		}
 		if err := cw.Write(rec); err != nil {
 			return fmt.Errorf("write CSV: %w", err)

@@ -87,6 +87,28 @@ func TestReadCSVRefuses(t *testing.T) {
 		{"line numbers after a quoted line break", "kind,value,quantity,note\nR,1k,1,\"a\nb\"\nR,0,1,\n", []CSVProblem{{4, "value", "zero"}}},
 		{"invalid UTF-8", "kind,value,quantity,note\nR,1k,1,\xff\n", []CSVProblem{{2, "note", "UTF-8"}}},
 		{"control character", "kind,value,quantity,location\nR,1k,1,A\x011\n", []CSVProblem{{2, "location", "control character"}}},
+		{"shop attributes",
+			"kind,value,quantity,voltage,price,min,pack,supplier-ref\n" +
+				"C,10n,10,50V,0.012,50,100,bag 7\n" +
+				"C,10n,10,high,-1,-5,0,\n" + // line 3: voltage, price, min
+				"C,22n,10,16,\"1,2\",1.5,x,\n" + // line 4: a comma-decimal price; min and pack not whole
+				"C,47n,10,-50V,0.0000001,,,\n" + // line 5: negative voltage, too many places
+				"C,47n,10,2MV,1e3,,,\n" + // line 6: unknown prefix, exponent
+				"C,47n,10,200kV,1000001,,,\n", // line 7: above the bounds
+			[]CSVProblem{
+				{3, "voltage", `voltage "high" is not a number`},
+				{3, "price", `price "-1" is negative`},
+				{3, "min", `min "-5" is negative`},
+				{4, "price", `price "1,2" has a comma`},
+				{4, "min", `min "1.5" is not a whole number`},
+				{4, "pack", `pack "x" is not a whole number`},
+				{5, "voltage", "is negative"},
+				{5, "price", "more than 6 decimal places"},
+				{6, "voltage", `unknown prefix or unit "MV"`},
+				{6, "price", "not a decimal number"},
+				{7, "voltage", "outside 100 mV to 100 kV"},
+				{7, "price", "above 1000000"},
+			}},
 		{"small capacitor letter tolerance", "kind,value,quantity,tolerance\nC,4p7,1,C\n", []CSVProblem{{2, "tolerance", "absolute tolerance in pF"}}},
 	}
 	for _, c := range cases {
@@ -127,12 +149,18 @@ func TestReadCSVCapsTheList(t *testing.T) {
 
 func TestCSVRoundTrip(t *testing.T) {
 	items := []Item{
-		{Kind: Resistor, Value: 4700, Tolerance: 0.01, Quantity: 50, Package: "0805", Location: "A1"},
+		{Kind: Resistor, Value: 4700, Tolerance: 0.01, Quantity: 50, Package: "0805", Location: "A1",
+			Price: MoneyFromMicros(12_000), Min: 50, Pack: 1000, SupplierRef: "bench order 4K7/0805"},
 		{Kind: Resistor, Value: 47300, Tolerance: 0.001, Quantity: 3, Package: "axial", Location: "A2", Note: "E192 spare"},
 		{Kind: Resistor, Value: 0.47, Tolerance: 0.05, Quantity: 10, Location: "-shunts-"},
-		{Kind: Capacitor, Value: 2.2e-9, Tolerance: 0.05, Quantity: 20, Dielectric: "C0G", Location: "B3", Note: "+ for the 1 kHz low-pass"},
-		{Kind: Capacitor, Value: 0.68e-12, Quantity: 5, Dielectric: "NP0", Location: "@top", Note: "'quoted"},
-		{Kind: Capacitor, Value: 4700e-6, Tolerance: 0.2, Quantity: 2, Dielectric: "electrolytic", Package: "radial", Note: "=1+1"},
+		{Kind: Capacitor, Value: 2.2e-9, Tolerance: 0.05, Quantity: 20, Dielectric: "C0G", Location: "B3", Note: "+ for the 1 kHz low-pass",
+			Voltage: 50, Price: MoneyFromMicros(300_000), Min: 10},
+		{Kind: Capacitor, Value: 0.68e-12, Quantity: 5, Dielectric: "NP0", Location: "@top", Note: "'quoted",
+			Voltage: 500, SupplierRef: "=HYPERLINK(\"x\")"},
+		{Kind: Capacitor, Value: 4700e-6, Tolerance: 0.2, Quantity: 2, Dielectric: "electrolytic", Package: "radial", Note: "=1+1",
+			Voltage: 6.3, Price: MoneyFromMicros(0), Pack: 1},
+		{Kind: Capacitor, Value: 1e-6, Quantity: 4, Dielectric: "PP", Voltage: 1.5e3, Price: MoneyFromMicros(1_000_000_000_000)},
+		{Kind: Capacitor, Value: 1e-9, Quantity: 4, Dielectric: "PP", Voltage: 0.1, Price: MoneyFromMicros(1)},
 		{Kind: Capacitor, Value: 1.0 / 3 * 1e-6, Tolerance: 0.0025, Quantity: 1, Dielectric: "PP", Note: "line one\nline two, \"quoted\""},
 		{Kind: Capacitor, Value: 2.5, Quantity: 1, Note: "''=both"},
 	}
@@ -141,8 +169,11 @@ func TestCSVRoundTrip(t *testing.T) {
 		t.Fatal(err)
 	}
 	out := buf.String()
-	for _, want := range []string{"kind,value,tolerance,quantity,package,dielectric,location,note\n",
-		"resistor,4.7k,1%,50,0805,,A1,\n", "capacitor,2.2nF,5%,20,,C0G,B3,'+ for", ",'@top,''quoted\n", ",'=1+1\n"} {
+	for _, want := range []string{"kind,value,tolerance,quantity,package,dielectric,location,note,voltage,price,min,pack,supplier-ref\n",
+		"resistor,4.7k,1%,50,0805,,A1,,,0.012,50,1000,bench order 4K7/0805\n",
+		"capacitor,2.2nF,5%,20,,C0G,B3,'+ for the 1 kHz low-pass,50V,0.30,10,,\n",
+		",'@top,''quoted,500V,,,,\"'=HYPERLINK(\"\"x\"\")\"\n", ",'=1+1,6.3V,0.00,,1,\n",
+		",PP,,,1500V,1000000.00,,,\n", ",PP,,,100mV,0.000001,,,\n"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("output lacks %q:\n%s", want, out)
 		}

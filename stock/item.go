@@ -40,6 +40,24 @@ type Item struct {
 	Location string
 	// Note is free text.
 	Note string
+
+	// The shop's attributes: not part of the row's identity.
+
+	// Voltage is the rated voltage in volts (for capacitors; a resistor's
+	// working voltage may be kept too); 0 means not rated.
+	Voltage float64
+	// Price is the unit price in the shop's one currency (no conversion is
+	// done); the zero Money means not known.
+	Price Money
+	// Min is the minimum stock: below it the row should be reordered; 0
+	// means no minimum.
+	Min int
+	// Pack is the pack size the row is bought in (a reel, a bag of 100);
+	// 0 means single parts.
+	Pack int
+	// SupplierRef is free text the shop reorders by (its own code or the
+	// supplier's order code).
+	SupplierRef string
 }
 
 // Identity is what makes two stock rows the same row: kind, value,
@@ -97,21 +115,24 @@ func (it Item) Normalize() Item {
 	it.Dielectric = NormalizeDielectric(it.Dielectric)
 	it.Location = squash(it.Location)
 	it.Note = strings.TrimSpace(it.Note)
+	it.SupplierRef = squash(it.SupplierRef)
 	return it
 }
 
 // FieldError is a problem with one field of an item.
 type FieldError struct {
-	Field  string // column name: kind, value, tolerance, quantity, package, dielectric, location, note
+	Field  string // column name: kind, value, tolerance, quantity, package, dielectric, location, note, voltage, price, min, pack, supplier-ref
 	Reason string
 }
 
 // Problems lists everything wrong with it (after Normalize, which callers
 // should apply first), or nil. Rules: a valid kind; a finite value within
 // the kind's bounds; a tolerance of 0 (not stated) or in (0, MaxTolerance];
-// a quantity in [0, MaxQuantity]; no dielectric on a resistor; text fields
-// valid UTF-8, free of control characters (the note may hold line breaks
-// and tabs) and at most MaxText characters.
+// a quantity, minimum and pack size in [0, MaxQuantity]; a voltage of 0
+// (not rated) or in [MinVoltage, MaxVoltage]; a price of at most MaxPrice;
+// no dielectric on a resistor; text fields valid UTF-8, free of control
+// characters (the note may hold line breaks and tabs) and at most MaxText
+// characters.
 func (it Item) Problems() []FieldError {
 	var out []FieldError
 	add := func(f, r string) { out = append(out, FieldError{f, r}) }
@@ -135,11 +156,29 @@ func (it Item) Problems() []FieldError {
 	} else if it.Quantity > MaxQuantity {
 		add("quantity", "quantity "+strconv.Itoa(it.Quantity)+" is above "+strconv.Itoa(MaxQuantity))
 	}
+	if it.Voltage != 0 && (math.IsNaN(it.Voltage) || it.Voltage < MinVoltage || it.Voltage > MaxVoltage) {
+		add("voltage", "voltage "+strconv.FormatFloat(it.Voltage, 'g', -1, 64)+" V is outside "+
+			FormatVoltage(MinVoltage)+" to "+FormatVoltage(MaxVoltage))
+	}
+	if it.Price.Micros() > MaxPrice*moneyScale {
+		add("price", "price "+it.Price.String()+" is above "+strconv.Itoa(MaxPrice))
+	}
+	for _, f := range []struct {
+		name string
+		n    int
+	}{{"min", it.Min}, {"pack", it.Pack}} {
+		if f.n < 0 {
+			add(f.name, f.name+" "+strconv.Itoa(f.n)+" is negative")
+		} else if f.n > MaxQuantity {
+			add(f.name, f.name+" "+strconv.Itoa(f.n)+" is above "+strconv.Itoa(MaxQuantity))
+		}
+	}
 	if it.Kind == Resistor && it.Dielectric != "" {
 		add("dielectric", "a resistor has no dielectric (put the resistor type in the note)")
 	}
 	for _, f := range []struct{ name, v string }{
 		{"package", it.Package}, {"dielectric", it.Dielectric}, {"location", it.Location}, {"note", it.Note},
+		{"supplier-ref", it.SupplierRef},
 	} {
 		if r := textProblem(f.v, f.name == "note"); r != "" {
 			add(f.name, r)

@@ -59,7 +59,14 @@ var seeds = map[int]string{
 	    INSERT INTO design_stock (design_id, stock_id, per_board) VALUES ('seed2a', 1, 1), ('seed2a', 2, 1);
 	    INSERT INTO build (design_id, boards, built_at) VALUES ('seed2a', 2, '2029-05-04T10:00:00.000000000Z');
 	    INSERT INTO build_movement (build_id, movement_id, undo) VALUES (1, 2, 0);`,
+	// The shop's attributes: a price, minimum, pack and supplier-ref on the
+	// resistor, a rating on the capacitor.
+	shopVersion: `UPDATE stock SET price_micros = 12000, min_stock = 40, pack = 100, supplier_ref = 'bag 4K7' WHERE id = 1;
+	    UPDATE stock SET voltage = 50 WHERE id = 2;`,
 }
+
+// shopVersion is the schema version that added the shop's attributes.
+const shopVersion = 3
 
 // seedDesignDoc is a design document of format 1 (production.EncodeDesign)
 // for the version-2 seed: R1 from row 1, C1 from row 2.
@@ -116,6 +123,11 @@ func TestMigrationsFromEveryVersion(t *testing.T) {
 				h, _ := db.History(ctx, items[0].ID)
 				if len(h) != 2 || h[1].Balance != 48 {
 					t.Fatalf("seed ledger after migrating: %+v", h)
+				}
+			}
+			if v >= shopVersion {
+				if it := items[0]; it.Price.String() != "0.012" || it.Min != 40 || it.Pack != 100 || it.SupplierRef != "bag 4K7" || items[1].Voltage != 50 {
+					t.Fatalf("shop attributes after migrating: %+v", items)
 				}
 			}
 			// The migrated file works like a new one.

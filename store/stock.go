@@ -10,17 +10,36 @@ import (
 	"drawerfit/stock"
 )
 
-const itemColumns = `id, kind, value, tolerance, quantity, package, dielectric, location, note`
+const itemColumns = `id, kind, value, tolerance, quantity, package, dielectric, location, note,
+	voltage, price_micros, min_stock, pack, supplier_ref`
+
+// itemColumnsOf is itemColumns of the table aliased a.
+func itemColumnsOf(a string) string {
+	cols := strings.Split(itemColumns, ",")
+	for i, c := range cols {
+		cols[i] = a + "." + strings.TrimSpace(c)
+	}
+	return strings.Join(cols, ", ")
+}
 
 // scanner is *sql.Row or *sql.Rows.
 type scanner interface{ Scan(dest ...any) error }
 
-func scanItem(s scanner) (stock.Item, error) {
+func scanItem(s scanner, before ...any) (stock.Item, error) {
 	var it stock.Item
 	var kind string
-	if err := s.Scan(&it.ID, &kind, &it.Value, &it.Tolerance, &it.Quantity,
-		&it.Package, &it.Dielectric, &it.Location, &it.Note); err != nil {
+	var price sql.NullInt64
+	dest := append(before, &it.ID, &kind, &it.Value, &it.Tolerance, &it.Quantity,
+		&it.Package, &it.Dielectric, &it.Location, &it.Note,
+		&it.Voltage, &price, &it.Min, &it.Pack, &it.SupplierRef)
+	if err := s.Scan(dest...); err != nil {
 		return it, err
+	}
+	if price.Valid {
+		if price.Int64 < 0 {
+			return it, fmt.Errorf("row %d has price %d", it.ID, price.Int64)
+		}
+		it.Price = stock.MoneyFromMicros(price.Int64)
 	}
 	k, err := stock.ParseKind(kind)
 	if err != nil {
@@ -131,9 +150,11 @@ func cleanReason(reason, def string) (string, error) {
 func (tx *Tx) insert(ctx context.Context, it stock.Item, reason string) (stock.Item, error) {
 	at := formatTime(tx.at)
 	res, err := tx.ExecContext(ctx, `INSERT INTO stock
-		(kind, value, tolerance, quantity, package, dielectric, location, note, created_at, updated_at)
-		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
-		it.Kind.String(), it.Value, it.Tolerance, it.Quantity, it.Package, it.Dielectric, it.Location, it.Note, at, at)
+		(kind, value, tolerance, quantity, package, dielectric, location, note,
+		 voltage, price_micros, min_stock, pack, supplier_ref, created_at, updated_at)
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		it.Kind.String(), it.Value, it.Tolerance, it.Quantity, it.Package, it.Dielectric, it.Location, it.Note,
+		it.Voltage, priceArg(it.Price), it.Min, it.Pack, it.SupplierRef, at, at)
 	if err != nil {
 		return it, fmt.Errorf("add %s: %w", it.Label(), err)
 	}
@@ -145,6 +166,63 @@ func (tx *Tx) insert(ctx context.Context, it stock.Item, reason string) (stock.I
 		return it, err
 	}
 	return it, nil
+}
+
+// priceArg is the price_micros column's value: NULL when not known.
+func priceArg(m stock.Money) any {
+	if !m.Known() {
+		return nil
+	}
+	return m.Micros()
+}
+
+// writeAttrs stores the shop attributes of next on row old (same id) and,
+// when any changed, writes a ledger note (a movement of 0 at the row's
+// quantity) that says what changed, with reason. It returns the row as
+// stored.
+func (tx *Tx) writeAttrs(ctx context.Context, old, next stock.Item, reason string) (stock.Item, error) {
+	changes := stock.AttrChanges(old, next)
+	if len(changes) == 0 {
+		return old, nil
+	}
+	if _, err := tx.ExecContext(ctx, `UPDATE stock SET voltage = ?, price_micros = ?, min_stock = ?, pack = ?,
+		supplier_ref = ?, updated_at = ? WHERE id = ?`,
+		next.Voltage, priceArg(next.Price), next.Min, next.Pack, next.SupplierRef, formatTime(tx.at), old.ID); err != nil {
+		return old, fmt.Errorf("update row %d: %w", old.ID, err)
+	}
+	old.Voltage, old.Price, old.Min, old.Pack, old.SupplierRef = next.Voltage, next.Price, next.Min, next.Pack, next.SupplierRef
+	return old, tx.record(ctx, old.ID, 0, old.Quantity, strings.Join(changes, "; ")+" ("+reason+")")
+}
+
+// SetAttrs changes the shop attributes of row id (voltage, price, minimum,
+// pack size, supplier-ref) and writes what changed to the ledger as a note
+// with reason ("set" when empty). Changing nothing writes nothing. Errors:
+// fault.NotFound for an unknown row, fault.Invalid for a bad value.
+func (db *DB) SetAttrs(ctx context.Context, id int64, a stock.Attrs, reason string) (stock.Item, error) {
+	var it stock.Item
+	err := db.Tx(ctx, func(tx *Tx) error {
+		var err error
+		it, err = tx.SetAttrs(ctx, id, a, reason)
+		return err
+	})
+	return it, err
+}
+
+// SetAttrs is DB.SetAttrs inside the transaction.
+func (tx *Tx) SetAttrs(ctx context.Context, id int64, a stock.Attrs, reason string) (stock.Item, error) {
+	reason, err := cleanReason(reason, "set")
+	if err != nil {
+		return stock.Item{}, err
+	}
+	old, err := get(ctx, tx.Tx, id)
+	if err != nil {
+		return old, err
+	}
+	next, err := prepare(a.Apply(old))
+	if err != nil {
+		return old, err
+	}
+	return tx.writeAttrs(ctx, old, next, reason)
 }
 
 // record appends a ledger entry.
@@ -207,12 +285,19 @@ func (tx *Tx) Add(ctx context.Context, item stock.Item, reason string) (stock.It
 	if old.Quantity+it.Quantity > stock.MaxQuantity {
 		return old, true, fault.Invalidf("row %d would hold more than %d parts", old.ID, stock.MaxQuantity)
 	}
+	filled, err := stock.FillAttrs(old, it)
+	if err != nil {
+		return old, true, err
+	}
 	if old.Note == "" && it.Note != "" {
 		if _, err := tx.ExecContext(ctx, `UPDATE stock SET note = ?, updated_at = ? WHERE id = ?`,
 			it.Note, formatTime(tx.at), old.ID); err != nil {
 			return old, true, fmt.Errorf("update note of row %d: %w", old.ID, err)
 		}
 		old.Note = it.Note
+	}
+	if old, err = tx.writeAttrs(ctx, old, filled, reason); err != nil {
+		return old, true, err
 	}
 	old, err = tx.setQuantity(ctx, old, old.Quantity+it.Quantity, reason)
 	return old, true, err
@@ -382,6 +467,11 @@ func (tx *Tx) Import(ctx context.Context, items []stock.Item, replace bool) (sto
 			if prev.Note == "" {
 				prev.Note = it.Note
 			}
+			filled, err := stock.FillAttrs(prev, it)
+			if err != nil {
+				return sum, fault.Invalidf("item %d: %v", i+1, err)
+			}
+			prev.Voltage, prev.Price, prev.Min, prev.Pack, prev.SupplierRef = filled.Voltage, filled.Price, filled.Min, filled.Pack, filled.SupplierRef
 			merged[id] = prev
 			sum.Merged++
 			continue
@@ -411,6 +501,10 @@ func (tx *Tx) Import(ctx context.Context, items []stock.Item, replace bool) (sto
 					it.Note, formatTime(tx.at), old.ID); err != nil {
 					return sum, fmt.Errorf("update note of row %d: %w", old.ID, err)
 				}
+			}
+			// Replacing: the file's attributes are the truth.
+			if old, err = tx.writeAttrs(ctx, old, it, reason); err != nil {
+				return sum, err
 			}
 			if _, err := tx.setQuantity(ctx, old, it.Quantity, reason); err != nil {
 				return sum, err
@@ -442,6 +536,15 @@ func (tx *Tx) Import(ctx context.Context, items []stock.Item, replace bool) (sto
 					return sum, fmt.Errorf("update note of row %d: %w", old.ID, err)
 				}
 			}
+			// Likewise an attribute the row lacks comes from the file; one
+			// it has is kept (stock set, or import --replace, changes it).
+			filled, err := stock.FillAttrs(old, it)
+			if err != nil {
+				return sum, err
+			}
+			if old, err = tx.writeAttrs(ctx, old, filled, reason); err != nil {
+				return sum, err
+			}
 			if _, err := tx.setQuantity(ctx, old, old.Quantity+it.Quantity, reason); err != nil {
 				return sum, err
 			}
@@ -461,8 +564,7 @@ func (tx *Tx) Import(ctx context.Context, items []stock.Item, replace bool) (sto
 // removed), or of every row when id is 0, oldest first. An id that never
 // existed is fault.NotFound.
 func (db *DB) History(ctx context.Context, id int64) ([]stock.Movement, error) {
-	query := `SELECT m.id, m.stock_id, m.delta, m.balance, m.reason, m.at,
-		s.id, s.kind, s.value, s.tolerance, s.quantity, s.package, s.dielectric, s.location, s.note
+	query := `SELECT m.id, m.stock_id, m.delta, m.balance, m.reason, m.at, ` + itemColumnsOf("s") + `
 		FROM movement m JOIN stock s ON s.id = m.stock_id`
 	var args []any
 	if id != 0 {
@@ -485,14 +587,9 @@ func (db *DB) History(ctx context.Context, id int64) ([]stock.Movement, error) {
 	var out []stock.Movement
 	for rows.Next() {
 		var m stock.Movement
-		var at, kind string
-		p := &m.Part
-		if err := rows.Scan(&m.ID, &m.StockID, &m.Delta, &m.Balance, &m.Reason, &at,
-			&p.ID, &kind, &p.Value, &p.Tolerance, &p.Quantity, &p.Package, &p.Dielectric, &p.Location, &p.Note); err != nil {
+		var at string
+		if m.Part, err = scanItem(rows, &m.ID, &m.StockID, &m.Delta, &m.Balance, &m.Reason, &at); err != nil {
 			return nil, fmt.Errorf("read history: %w", err)
-		}
-		if p.Kind, err = stock.ParseKind(kind); err != nil {
-			return nil, fmt.Errorf("read history: row %d has kind %q", p.ID, kind)
 		}
 		if m.At, err = parseTime(at); err != nil {
 			return nil, fmt.Errorf("read history: entry %d has time %q", m.ID, at)

@@ -14,6 +14,7 @@ import (
 
 	"drawerfit/fault"
 	"drawerfit/stock"
+	"drawerfit/store"
 )
 
 func init() { register("stock", newStockCmd) }
@@ -53,21 +54,47 @@ the XDG data home; it is created on first use.`,
 }
 
 // itemJSON is the stable JSON form of a stock row (stock list --json).
+// The shop's attributes are null when not set: voltage in volts, price as
+// an exact decimal string in the shop's currency, min and pack as counts.
 type itemJSON struct {
-	ID         int64   `json:"id"`
-	Kind       string  `json:"kind"`
-	Value      float64 `json:"value"`
-	Tolerance  float64 `json:"tolerance"`
-	Quantity   int     `json:"quantity"`
-	Package    string  `json:"package"`
-	Dielectric string  `json:"dielectric"`
-	Location   string  `json:"location"`
-	Note       string  `json:"note"`
+	ID          int64    `json:"id"`
+	Kind        string   `json:"kind"`
+	Value       float64  `json:"value"`
+	Tolerance   float64  `json:"tolerance"`
+	Quantity    int      `json:"quantity"`
+	Package     string   `json:"package"`
+	Dielectric  string   `json:"dielectric"`
+	Location    string   `json:"location"`
+	Note        string   `json:"note"`
+	Voltage     *float64 `json:"voltage"`
+	Price       *string  `json:"price"`
+	Min         *int     `json:"min"`
+	Pack        *int     `json:"pack"`
+	SupplierRef string   `json:"supplier_ref"`
 }
 
 func toItemJSON(it stock.Item) itemJSON {
 	return itemJSON{ID: it.ID, Kind: it.Kind.String(), Value: it.Value, Tolerance: it.Tolerance,
-		Quantity: it.Quantity, Package: it.Package, Dielectric: it.Dielectric, Location: it.Location, Note: it.Note}
+		Quantity: it.Quantity, Package: it.Package, Dielectric: it.Dielectric, Location: it.Location, Note: it.Note,
+		Voltage: nonZero(it.Voltage), Price: moneyJSON(it.Price), Min: nonZero(it.Min), Pack: nonZero(it.Pack),
+		SupplierRef: it.SupplierRef}
+}
+
+// nonZero is nil for the zero value (an attribute not set), else &v.
+func nonZero[T int | float64](v T) *T {
+	if v == 0 {
+		return nil
+	}
+	return &v
+}
+
+// moneyJSON is an amount as an exact decimal string, nil when unknown.
+func moneyJSON(m stock.Money) *string {
+	if !m.Known() {
+		return nil
+	}
+	s := m.String()
+	return &s
 }
 
 // parseID reads a stock row id: a positive integer, optionally written #12.
@@ -94,14 +121,22 @@ func newStockImportCmd(env *Env) *cobra.Command {
 		Use:   "import FILE",
 		Short: "Add the rows of a CSV file to the stock (all or nothing)",
 		Long: `Import reads a CSV file with a header line. Columns kind, value and quantity
-are required; tolerance, package, dielectric, location and note are optional;
-any order, any letter case. kind is resistor, capacitor, R or C. The file may
+are required; tolerance, package, dielectric, location, note and the shop's
+columns voltage, price, min, pack and supplier-ref are optional; any order,
+any letter case. voltage is the rated voltage (50, 50V, 6.3 V, 1kV); price
+is the unit price as a decimal with a point (0.012), read exactly, in the
+shop's one currency (drawerfit converts no currencies); min is the quantity
+below which the row should be reordered; pack is the pack size it is
+bought in. kind is resistor, capacitor, R or C. The file may
 be UTF-8 with or without a byte order mark, with LF or CRLF line ends.
 
 If any row is bad nothing is imported: every problem is listed with its line,
 column and reason. A row whose kind, value, tolerance, package, dielectric
-and location match an existing row adds its quantity to that row. With
---replace the inventory becomes exactly the file's content, in one step.
+and location match an existing row adds its quantity to that row, and fills
+the voltage, price, min, pack and supplier-ref the row lacks (values it has
+are kept; two different voltage ratings are refused as different parts).
+With --replace the inventory becomes exactly the file's content, in one step,
+attributes included. Attribute changes are written to the ledger as notes.
 FILE "-" reads standard input.`,
 		Example: `  # First fill of the workshop's database from its spreadsheet export
   drawerfit stock import sample-stock.csv
@@ -172,10 +207,13 @@ func newStockListCmd(env *Env) *cobra.Command {
 		Use:   "list",
 		Short: "Show the stock rows",
 		Long: `List shows every stock row with its id (used by set, remove and history),
-formatted value, tolerance, quantity, package, dielectric, location and note.
+formatted value, tolerance, quantity, package, dielectric, location, the
+shop's voltage rating, unit price, minimum and pack size, and the note.
 On a terminal it draws a table; piped, it prints tab-separated lines. --json
 prints an array of objects with the keys id, kind, value (ohms or farads),
-tolerance (a fraction), quantity, package, dielectric, location and note.
+tolerance (a fraction), quantity, package, dielectric, location, note,
+voltage (volts), price (an exact decimal string), min, pack (null when not
+set) and supplier_ref.
 
 --csv FILE lists a CSV file instead of the database, without storing it:
 a quick look at a drawer, and a check that the file would import.`,
@@ -224,17 +262,25 @@ func runStockList(ctx context.Context, env *Env, o stockListOptions) error {
 		}
 		return nil
 	}
-	g := newGrid("ID", "Kind", "Value", "Tol", "Qty", "Package", "Dielectric", "Location", "Note").right(0, 2, 3, 4)
+	g := newGrid("ID", "Kind", "Value", "Tol", "Qty", "Package", "Dielectric", "Location", "Rated", "Price", "Min", "Note").right(0, 2, 3, 4, 8, 9, 10)
 	parts := 0
 	for _, it := range items {
 		g.add(strconv.FormatInt(it.ID, 10), it.Kind.String(), stock.FormatValue(it.Value, it.Kind),
 			stock.FormatTolerance(it.Tolerance), strconv.Itoa(it.Quantity), it.Package, it.Dielectric,
-			it.Location, oneLine(it.Note))
+			it.Location, stock.FormatVoltage(it.Voltage), it.Price.String(), countText(it.Min), oneLine(it.Note))
 		parts += it.Quantity
 	}
-	g.footer = []string{"", "", "", "", strconv.Itoa(parts), "", "", "", fmt.Sprintf("%d rows", len(items))}
+	g.footer = []string{"", "", "", "", strconv.Itoa(parts), "", "", "", "", "", "", fmt.Sprintf("%d rows", len(items))}
 	g.render(env, env.Out)
 	return nil
+}
+
+// countText writes a minimum or pack size; 0 (none) is empty.
+func countText(n int) string {
+	if n == 0 {
+		return ""
+	}
+	return strconv.Itoa(n)
 }
 
 // oneLine keeps a table cell on one line.
@@ -255,6 +301,74 @@ type stockAddOptions struct {
 	Note       string
 	Reason     string
 	JSON       bool
+	Attrs      attrFlags
+}
+
+// attrFlags are the flags of the shop's attributes, shared by stock add
+// and stock set; only those given are applied.
+type attrFlags struct {
+	Voltage, Price, Min, Pack, SupplierRef string
+	set                                    map[string]bool
+}
+
+func (a *attrFlags) bind(cmd *cobra.Command) {
+	fl := cmd.Flags()
+	fl.StringVar(&a.Voltage, "voltage", "", "rated voltage: 50, 50V, 6.3V, 1kV (\"none\" clears it)")
+	fl.StringVar(&a.Price, "price", "", "unit price, a decimal with a point: 0.012 (no currency conversion; \"none\" clears it)")
+	fl.StringVar(&a.Min, "min", "", "minimum stock: below it the row is on the reorder list (0 clears it)")
+	fl.StringVar(&a.Pack, "pack", "", "pack size the row is bought in (0: single parts)")
+	fl.StringVar(&a.SupplierRef, "supplier-ref", "", "text to reorder by (the shop's or supplier's order code)")
+}
+
+// mark records which attribute flags the command line gave.
+func (a *attrFlags) mark(cmd *cobra.Command) {
+	a.set = map[string]bool{}
+	for _, n := range []string{"voltage", "price", "min", "pack", "supplier-ref"} {
+		a.set[n] = cmd.Flags().Changed(n)
+	}
+}
+
+// attrs parses the flags given into a change of attributes.
+func (a *attrFlags) attrs() (stock.Attrs, error) {
+	var out stock.Attrs
+	clear := func(s string) bool { return strings.EqualFold(strings.TrimSpace(s), "none") }
+	if a.set["voltage"] {
+		v := 0.0
+		if !clear(a.Voltage) {
+			var err error
+			if v, err = stock.ParseVoltage(a.Voltage); err != nil {
+				return out, fault.Invalidf("--voltage: %w", err)
+			}
+		}
+		out.Voltage = &v
+	}
+	if a.set["price"] {
+		var p stock.Money
+		if !clear(a.Price) {
+			var err error
+			if p, err = stock.ParsePrice(a.Price); err != nil {
+				return out, fault.Invalidf("--price: %w", err)
+			}
+		}
+		out.Price = &p
+	}
+	for _, c := range []struct {
+		name, text string
+		dst        **int
+	}{{"min", a.Min, &out.Min}, {"pack", a.Pack, &out.Pack}} {
+		if a.set[c.name] {
+			n, err := stock.ParseCount(c.name, c.text)
+			if err != nil {
+				return out, fault.Invalidf("--%s: %w", c.name, err)
+			}
+			*c.dst = &n
+		}
+	}
+	if a.set["supplier-ref"] {
+		r := a.SupplierRef
+		out.SupplierRef = &r
+	}
+	return out, nil
 }
 
 func newStockAddCmd(env *Env) *cobra.Command {
@@ -270,13 +384,18 @@ it; otherwise a new row is made. VALUE is written as for import (4K7, 4.7k,
   drawerfit stock add 4K7 --kind R --qty 50 --tol 1% --package 0805 --location A3
 
   # Twenty 10 nF polypropylene film capacitors from the audio order
-  drawerfit stock add 10n --kind C --qty 20 --tol 5% --dielectric PP --package radial --location D2 --reason "audio order"`,
+  drawerfit stock add 10n --kind C --qty 20 --tol 5% --dielectric PP --package radial --location D2 --reason "audio order"
+
+  # A bag of 100 C0G capacitors rated 50 V, with its price and reorder point
+  drawerfit stock add 4n7 --kind C --qty 100 --tol 5% --dielectric C0G --location C2 --voltage 50V --price 0.045 --min 30 --pack 100`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			o.Value = args[0]
+			o.Attrs.mark(cmd)
 			return runStockAdd(cmd.Context(), env, o)
 		},
 	}
+	o.Attrs.bind(cmd)
 	fl := cmd.Flags()
 	fl.StringVar(&o.Kind, "kind", "", "resistor, capacitor, R or C (required)")
 	fl.IntVar(&o.Qty, "qty", 0, "number of parts (required)")
@@ -306,6 +425,11 @@ func runStockAdd(ctx context.Context, env *Env, o stockAddOptions) error {
 	}
 	it := stock.Item{Kind: k, Value: v, Quantity: o.Qty, Package: o.Package, Dielectric: o.Dielectric,
 		Location: o.Location, Note: o.Note}
+	attrs, err := o.Attrs.attrs()
+	if err != nil {
+		return err
+	}
+	it = attrs.Apply(it)
 	if strings.TrimSpace(o.Tol) != "" {
 		if it.Tolerance, err = stock.ParseToleranceFor(o.Tol, k, v); err != nil {
 			return err
@@ -336,30 +460,41 @@ func runStockAdd(ctx context.Context, env *Env, o stockAddOptions) error {
 type stockSetOptions struct {
 	ID     string
 	Qty    int
+	HasQty bool
 	Reason string
 	JSON   bool
+	Attrs  attrFlags
 }
 
 func newStockSetCmd(env *Env) *cobra.Command {
 	var o stockSetOptions
 	cmd := &cobra.Command{
-		Use:   "set ID --qty N --reason TEXT",
-		Short: "Set the quantity of one stock row (after a count, a loss, a use)",
+		Use:   "set ID [--qty N --reason TEXT] [--price P] [--min N] [--voltage V] [--pack N] [--supplier-ref TEXT]",
+		Short: "Set the quantity or the shop's attributes of one stock row",
 		Long: `Set writes a new quantity for the row with the given id (see stock list)
-and records the difference and the reason in the ledger.`,
+and records the difference and the reason (required with --qty) in the
+ledger. It also sets the row's rated voltage, unit price, minimum stock,
+pack size and supplier-ref; each change of these is written to the ledger
+as a note (an entry that changes no quantity), so stock history shows when
+a price or minimum changed and from what. "none" clears a voltage or price,
+0 a minimum or pack size.`,
 		Example: `  # The bin of 10 kΩ resistors (row 14) was counted: 37 left
-  drawerfit stock set 14 --qty 37 --reason "recounted bin A2"`,
+  drawerfit stock set 14 --qty 37 --reason "recounted bin A2"
+
+  # Keep at least 50 of row 14 and record this year's reel price
+  drawerfit stock set 14 --min 50 --price 0.012 --reason "spring price list"`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			o.ID = args[0]
+			o.HasQty = cmd.Flags().Changed("qty")
+			o.Attrs.mark(cmd)
 			return runStockSet(cmd.Context(), env, o)
 		},
 	}
-	cmd.Flags().IntVar(&o.Qty, "qty", 0, "the new quantity (required)")
-	cmd.Flags().StringVar(&o.Reason, "reason", "", "why the quantity changed (required)")
+	cmd.Flags().IntVar(&o.Qty, "qty", 0, "the new quantity")
+	cmd.Flags().StringVar(&o.Reason, "reason", "", "why it changed (required with --qty)")
 	cmd.Flags().BoolVar(&o.JSON, "json", false, "print the row as JSON")
-	cmd.MarkFlagRequired("qty")
-	cmd.MarkFlagRequired("reason")
+	o.Attrs.bind(cmd)
 	return cmd
 }
 
@@ -368,8 +503,18 @@ func runStockSet(ctx context.Context, env *Env, o stockSetOptions) error {
 	if err != nil {
 		return err
 	}
-	if o.Qty < 0 {
+	attrs, err := o.Attrs.attrs()
+	if err != nil {
+		return err
+	}
+	if !o.HasQty && attrs.Empty() {
+		return fault.Invalidf("nothing to set: give --qty with --reason, or --price, --min, --voltage, --pack or --supplier-ref")
+	}
+	if o.HasQty && o.Qty < 0 {
 		return fault.Invalidf("--qty %d is negative", o.Qty)
+	}
+	if o.HasQty && strings.TrimSpace(o.Reason) == "" {
+		return fault.Invalidf("a reason is required with --qty (why the quantity changed)")
 	}
 	db, err := env.openStore()
 	if err != nil {
@@ -380,12 +525,32 @@ func runStockSet(ctx context.Context, env *Env, o stockSetOptions) error {
 	if err != nil {
 		return err
 	}
-	got, err := db.SetQuantity(ctx, id, o.Qty, o.Reason)
+	got := before
+	err = db.Tx(ctx, func(tx *store.Tx) error {
+		if !attrs.Empty() {
+			if got, err = tx.SetAttrs(ctx, id, attrs, o.Reason); err != nil {
+				return err
+			}
+		}
+		if o.HasQty {
+			got, err = tx.SetQuantity(ctx, id, o.Qty, o.Reason)
+		}
+		return err
+	})
 	if err != nil {
 		return err
 	}
 	if o.JSON {
 		return writeJSON(env.Out, toItemJSON(got))
+	}
+	for _, c := range stock.AttrChanges(before, got) {
+		fmt.Fprintf(env.Out, "#%d %s: %s\n", got.ID, got.Label(), c)
+	}
+	if !o.HasQty {
+		if stock.SameAttrs(before, got) {
+			fmt.Fprintf(env.Out, "#%d %s: unchanged, nothing written\n", got.ID, got.Label())
+		}
+		return nil
 	}
 	if got.Quantity == before.Quantity {
 		fmt.Fprintf(env.Out, "#%d %s: already %d, nothing written\n", got.ID, got.Label(), got.Quantity)

@@ -86,13 +86,15 @@ func TestStockListJSONKeys(t *testing.T) {
 		keys = append(keys, k)
 	}
 	sort.Strings(keys)
-	want := []string{"dielectric", "id", "kind", "location", "note", "package", "quantity", "tolerance", "value"}
+	want := []string{"dielectric", "id", "kind", "location", "min", "note", "pack", "package", "price", "quantity",
+		"supplier_ref", "tolerance", "value", "voltage"}
 	if !reflect.DeepEqual(keys, want) {
 		t.Fatalf("keys %v, want %v", keys, want)
 	}
 	first := items[0]
 	if first["kind"] != "resistor" || first["value"] != 4700.0 || first["tolerance"] != 0.01 || first["quantity"] != 50.0 ||
-		first["package"] != "0805" || first["dielectric"] != "" || first["note"] != "" || first["id"] != 1.0 {
+		first["package"] != "0805" || first["dielectric"] != "" || first["note"] != "" || first["id"] != 1.0 ||
+		first["price"] != nil || first["min"] != nil || first["voltage"] != nil || first["pack"] != nil {
 		t.Fatalf("first item %v", first)
 	}
 	caps := s.listJSON("--kind", "C")
@@ -112,10 +114,10 @@ func TestStockListTable(t *testing.T) {
 	out := s.ok("stock", "list")
 	lines := strings.Split(strings.TrimSpace(out), "\n")
 	// Piped output: a header and one tab-separated line per row.
-	if len(lines) != 5 || lines[0] != "ID\tKind\tValue\tTol\tQty\tPackage\tDielectric\tLocation\tNote" {
+	if len(lines) != 5 || lines[0] != "ID\tKind\tValue\tTol\tQty\tPackage\tDielectric\tLocation\tRated\tPrice\tMin\tNote" {
 		t.Fatalf("table:\n%s", out)
 	}
-	if lines[1] != "1\tresistor\t4.7 kΩ\t1%\t50\t0805\t\tA1\t" || lines[3] != "3\tcapacitor\t2.2 nF\t5%\t20\t0805\tC0G\tC1\t" {
+	if lines[1] != "1\tresistor\t4.7 kΩ\t1%\t50\t0805\t\tA1\t\t\t\t" || lines[3] != "3\tcapacitor\t2.2 nF\t5%\t20\t0805\tC0G\tC1\t\t\t\t" {
 		t.Fatalf("rows:\n%s", out)
 	}
 	// --csv lists a file without touching the database.
@@ -184,7 +186,13 @@ func TestStockExportImportRoundTrip(t *testing.T) {
 	s := newStockEnv(t)
 	s.ok("stock", "import", s.write("drawer.csv", smallDrawer))
 	s.ok("stock", "add", "47K3", "--kind", "R", "--qty", "3", "--tol", "0.1%", "--note", "=trim pot spare", "--location", "+top")
-	s.ok("stock", "add", "p68", "--kind", "C", "--qty", "8", "--dielectric", "npo", "--note", "two, with \"quotes\"")
+	s.ok("stock", "add", "p68", "--kind", "C", "--qty", "8", "--dielectric", "npo", "--note", "two, with \"quotes\"",
+		"--voltage", "500V", "--price", "0.3", "--supplier-ref", "@order")
+	// Every shop attribute, set on an existing row.
+	s.ok("stock", "set", "1", "--min", "50", "--price", "0.012", "--pack", "100", "--voltage", "150", "--supplier-ref", "reel R-4K7")
+	if h := s.ok("stock", "history", "1"); !strings.Contains(h, "price none -> 0.012") || !strings.Contains(h, "min none -> 50") {
+		t.Fatalf("price and min changes not in the history:\n%s", h)
+	}
 	exported := filepath.Join(s.dir, "export.csv")
 	s.ok("stock", "export", exported)
 	fresh := newStockEnv(t)
@@ -203,7 +211,8 @@ func TestStockExportImportRoundTrip(t *testing.T) {
 	if out := s.ok("stock", "export"); out != string(file) {
 		t.Fatalf("stdout export differs from file export")
 	}
-	if !strings.Contains(string(file), ",'+top,'=trim pot spare\n") {
+	if !strings.Contains(string(file), ",'+top,'=trim pot spare,,,,,\n") || !strings.Contains(string(file), ",500V,0.30,,,'@order\n") ||
+		!strings.Contains(string(file), ",150V,0.012,50,100,reel R-4K7\n") {
 		t.Fatalf("formula cells not neutralised:\n%s", file)
 	}
 	// No temporary file is left beside the export.
