@@ -17,7 +17,7 @@ import (
 // CSV columns, in the order WriteCSV writes them. kind, value and quantity
 // are required in a file; the others may be left out.
 var (
-	CSVColumns      = []string{"kind", "value", "tolerance", "quantity", "package", "dielectric", "location", "note",
+	CSVColumns = []string{"kind", "value", "tolerance", "quantity", "package", "dielectric", "location", "note",
 		"voltage", "price", "min", "pack", "supplier-ref"}
 	requiredColumns = []string{"kind", "value", "quantity"}
 )
