@@ -21,8 +21,6 @@ import (
 	"errors"
 	"fmt"
 	"net/url"
-	"os"
-	"path/filepath"
 	"time"
 
 	_ "modernc.org/sqlite" // registers the "sqlite" driver
@@ -39,8 +37,10 @@ const BusyTimeout = 10 * time.Second
 
 // DB is an open stock database. Its methods are safe for concurrent use.
 type DB struct {
-	sql  *sql.DB
-	path string
+	sql      *sql.DB
+	path     string
+	created  bool
+	readOnly bool
 
 	// Now is the clock for ledger and row times (time.Now when nil). Tests
 	// set it before use.
@@ -49,55 +49,33 @@ type DB struct {
 
 var _ stock.Store = (*DB)(nil)
 
-// pragmas are applied to every pooled connection.
-func dsnQuery(wal bool) string {
+// dsnQuery is the connection string's query for a writable pool: the
+// settings every pooled connection needs. The journal mode is not among
+// them: it is written into the file, so Open sets it once, after checking
+// that the file is a drawerfit database.
+func dsnQuery() string {
 	q := url.Values{}
 	q.Add("_pragma", fmt.Sprintf("busy_timeout(%d)", BusyTimeout.Milliseconds()))
 	q.Add("_pragma", "foreign_keys(1)")
-	if wal {
-		q.Add("_pragma", "journal_mode(WAL)")
-		// FULL: a commit survives power loss too, not only a crash; the
-		// ledger is small, the fsync cheap.
-		q.Add("_pragma", "synchronous(FULL)")
-	}
+	// FULL: a commit survives power loss too, not only a crash; the
+	// ledger is small, the fsync cheap.
+	q.Add("_pragma", "synchronous(FULL)")
 	q.Set("_txlock", "immediate")
 	return q.Encode()
 }
 
-// Open opens the stock database at path, creating the file (not its
-// directory) if it does not exist, and brings its schema up to date. It
-// refuses a file whose schema is newer than this binary knows (a
-// fault.Conflict naming both versions) and a SQLite file that is not a
-// drawerfit database.
+// Open opens the stock database at path for reading and writing, creating
+// the file (never its folder) if it does not exist. It is OpenMode with
+// Create.
 func Open(path string) (*DB, error) {
-	if path == "" {
-		return nil, fault.Invalidf("no database path given")
-	}
-	abs, err := filepath.Abs(path)
-	if err != nil {
-		return nil, fmt.Errorf("open stock database %s: %w", path, err)
-	}
-	if fi, err := os.Stat(abs); err == nil && fi.IsDir() {
-		return nil, fault.Invalidf("stock database %s is a directory", path)
-	}
-	u := url.URL{Scheme: "file", Path: filepath.ToSlash(abs), RawQuery: dsnQuery(true)}
-	sdb, err := sql.Open("sqlite", u.String())
-	if err != nil {
-		return nil, fmt.Errorf("open stock database %s: %w", path, err)
-	}
-	db := &DB{sql: sdb, path: abs}
-	if err := db.init(context.Background()); err != nil {
-		sdb.Close()
-		return nil, err
-	}
-	return db, nil
+	return OpenMode(context.Background(), path, Create)
 }
 
 // OpenMemory opens a new, empty in-memory database with the current schema.
 // It uses a single connection (each SQLite connection to :memory: is its own
 // database). For tests and for one-shot runs on a CSV file.
 func OpenMemory() (*DB, error) {
-	sdb, err := sql.Open("sqlite", "file::memory:?"+dsnQuery(false))
+	sdb, err := sql.Open("sqlite", "file::memory:?"+dsnQuery())
 	if err != nil {
 		return nil, fmt.Errorf("open memory database: %w", err)
 	}
@@ -119,6 +97,13 @@ func (db *DB) init(ctx context.Context) error {
 	}
 	return migrate(ctx, db.sql, db.path, migrations.All())
 }
+
+// Created reports whether Open made a new database (the file did not
+// exist, or was empty).
+func (db *DB) Created() bool { return db.created }
+
+// ReadOnly reports whether the database was opened for reading only.
+func (db *DB) ReadOnly() bool { return db.readOnly }
 
 // Close closes the database.
 func (db *DB) Close() error { return db.sql.Close() }
@@ -166,9 +151,12 @@ func (tx *Tx) Now() time.Time { return tx.at }
 // and then write without another process changing the rows in between.
 // fn's error is returned unchanged.
 func (db *DB) Tx(ctx context.Context, fn func(tx *Tx) error) (err error) {
+	if db.readOnly {
+		return fault.Conflictf("the stock database at %s was opened for reading only; this step changes it", db.path)
+	}
 	stx, err := db.sql.BeginTx(ctx, nil)
 	if err != nil {
-		return fmt.Errorf("begin transaction: %w", err)
+		return Plain(fmt.Errorf("begin transaction: %w", err), db.path)
 	}
 	done := false
 	defer func() {
@@ -177,12 +165,12 @@ func (db *DB) Tx(ctx context.Context, fn func(tx *Tx) error) (err error) {
 		}
 	}()
 	if err := fn(&Tx{Tx: stx, at: db.now()}); err != nil {
-		return err
+		return Plain(err, db.path)
 	}
 	done = true
 	if err := stx.Commit(); err != nil {
 		_ = stx.Rollback()
-		return fmt.Errorf("commit: %w", err)
+		return Plain(fmt.Errorf("commit: %w", err), db.path)
 	}
 	return nil
 }

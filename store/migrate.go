@@ -46,20 +46,13 @@ func migrateStep(ctx context.Context, sdb *sql.DB, path string, ms []migrations.
 	}
 	defer tx.Rollback()
 
-	var hasSchema int
-	if err := tx.QueryRowContext(ctx,
-		`SELECT COUNT(*) FROM sqlite_schema WHERE type = 'table' AND name = 'schema_version'`).Scan(&hasSchema); err != nil {
-		return false, fmt.Errorf("open stock database %s: %w", path, err)
+	// The file was checked before any change; check again inside the
+	// transaction, which another process may have reached first.
+	state, _, err := fingerprint(ctx, tx, path)
+	if err != nil {
+		return false, err
 	}
-	if hasSchema == 0 {
-		var others int
-		if err := tx.QueryRowContext(ctx,
-			`SELECT COUNT(*) FROM sqlite_schema WHERE name NOT LIKE 'sqlite_%'`).Scan(&others); err != nil {
-			return false, fmt.Errorf("open stock database %s: %w", path, err)
-		}
-		if others > 0 {
-			return false, fault.Conflictf("%s is a SQLite database but not a drawerfit stock database (it has no schema_version table); give another --db file", path)
-		}
+	if state == stateNew {
 		if _, err := tx.ExecContext(ctx, schemaTable); err != nil {
 			return false, fmt.Errorf("create schema table in %s: %w", path, err)
 		}

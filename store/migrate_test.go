@@ -17,7 +17,7 @@ import (
 // puts the seed data of every version up to v into it.
 func buildAtVersion(t *testing.T, path string, v int) {
 	t.Helper()
-	u := url.URL{Scheme: "file", Path: filepath.ToSlash(path), RawQuery: dsnQuery(true)}
+	u := url.URL{Scheme: "file", Path: filepath.ToSlash(path), RawQuery: dsnQuery() + "&_pragma=journal_mode(WAL)"}
 	sdb, err := sql.Open("sqlite", u.String())
 	if err != nil {
 		t.Fatal(err)
@@ -171,7 +171,7 @@ func TestMigrationFailureRollsBack(t *testing.T) {
 	ctx := context.Background()
 	path := filepath.Join(t.TempDir(), "broken.db")
 	buildAtVersion(t, path, migrations.Latest())
-	u := url.URL{Scheme: "file", Path: filepath.ToSlash(path), RawQuery: dsnQuery(true)}
+	u := url.URL{Scheme: "file", Path: filepath.ToSlash(path), RawQuery: dsnQuery() + "&_pragma=journal_mode(WAL)"}
 	sdb, err := sql.Open("sqlite", u.String())
 	if err != nil {
 		t.Fatal(err)

@@ -97,7 +97,7 @@ func runBuild(env *Env, o *buildOptions, id string) error {
 	if o.boards < 1 {
 		return fault.Invalidf("--boards must be at least 1, not %d", o.boards)
 	}
-	db, d, err := env.openDesign(id)
+	db, d, err := env.openDesign(id, !o.dryRun)
 	if err != nil {
 		return err
 	}

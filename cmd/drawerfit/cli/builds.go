@@ -46,7 +46,7 @@ type jsonBuildInfo struct {
 }
 
 func runBuilds(env *Env, o *buildsOptions) error {
-	db, err := env.openStore()
+	db, err := env.openStoreForReading()
 	if err != nil {
 		return err
 	}

@@ -2,36 +2,125 @@ package cli
 
 import (
 	"context"
-	"drawerfit/production"
 	"fmt"
+	"net/url"
 	"os"
 	"path/filepath"
+	"strings"
+
+	"drawerfit/production"
 
 	"drawerfit/fault"
 	"drawerfit/stock"
 	"drawerfit/store"
 )
 
-// openStore opens the stock database (--db, else $DRAWERFIT_DB, else the
-// file in the XDG data home; see Env.DefaultDBPath), creating its directory
-// and the file on first use. The store's clock is e.Now. The caller closes
-// it.
-func (e *Env) openStore() (*store.DB, error) {
-	path, err := e.DefaultDBPath()
+// openStore opens the stock database for a command that changes it but
+// adds no stock (set, remove, build, designs remove, fit --save): the
+// database must exist. See openStoreAt for the location.
+func (e *Env) openStore() (*store.DB, error) { return e.openStoreMode(store.ReadWrite) }
+
+// openStoreForReading opens the stock database for a command that only
+// reads: read-only, without the write lock, running no migration, so it
+// works on a file the user may only read and while another process writes.
+func (e *Env) openStoreForReading() (*store.DB, error) { return e.openStoreMode(store.ReadOnly) }
+
+// openStoreCreating opens the stock database for a command that adds stock
+// (import, add): the only commands that create a missing database. It says
+// so on the error stream when it does.
+func (e *Env) openStoreCreating() (*store.DB, error) {
+	db, err := e.openStoreMode(store.Create)
 	if err != nil {
 		return nil, err
 	}
-	if dir := filepath.Dir(path); dir != "" {
-		if err := os.MkdirAll(dir, 0o755); err != nil {
-			return nil, fmt.Errorf("create the directory for the stock database: %w", err)
+	if db.Created() {
+		fmt.Fprintf(e.Err, "created a new stock database at %s\n", db.Path())
+	}
+	return db, nil
+}
+
+// openStoreMode opens the stock database (--db, else $DRAWERFIT_DB, else
+// the file in the XDG data home; see Env.DefaultDBPath) as mode says. Only
+// the default data folder is created when missing, and only by a command
+// that creates the database; a --db or $DRAWERFIT_DB in a missing folder is
+// refused, since it is most likely a typing mistake. A value with a URL
+// scheme is never taken as a file name. The store's clock is e.Now. The
+// caller closes it.
+func (e *Env) openStoreMode(mode store.Mode) (*store.DB, error) {
+	path, isDefault, err := e.dbLocation()
+	if err != nil {
+		return nil, err
+	}
+	if isDefault && mode == store.Create {
+		if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
+			return nil, fmt.Errorf("create the default data folder for the stock database: %w", err)
 		}
 	}
-	db, err := store.Open(path)
+	ctx := e.Ctx
+	if ctx == nil {
+		ctx = context.Background()
+	}
+	db, err := store.OpenMode(ctx, path, mode)
 	if err != nil {
+		if fault.KindOf(err) == fault.NotFound && mode != store.Create {
+			if _, serr := os.Stat(path); serr != nil {
+				abs, _ := filepath.Abs(path)
+				return nil, fault.NotFoundf("no stock database at %s; create one by adding stock: drawerfit stock import FILE (or drawerfit stock add); check --db and $DRAWERFIT_DB for a typing mistake", abs)
+			}
+		}
 		return nil, err
 	}
 	db.Now = e.Now
 	return db, nil
+}
+
+// dbLocation returns the stock database path and whether it is the
+// default location. A --db or $DRAWERFIT_DB value with a URL scheme
+// (letters, then a colon, as in postgres://...) is refused: it is never a
+// file name. A file whose name has such a colon can be given as ./NAME.
+func (e *Env) dbLocation() (string, bool, error) {
+	path, err := e.DefaultDBPath()
+	if err != nil {
+		return "", false, err
+	}
+	explicit := e.DBPath != "" || (e.Getenv != nil && e.Getenv("DRAWERFIT_DB") != "")
+	if scheme, ok := urlScheme(path); ok {
+		if strings.Contains(path, "://") {
+			return "", false, fault.Invalidf("the stock database %q is a URL with the scheme %q, which drawerfit does not know; give a file path", redactURL(path), scheme)
+		}
+		return "", false, fault.Invalidf("the stock database %q starts like a URL with the scheme %q; for a file whose name has a colon write ./%s", path, scheme, path)
+	}
+	return path, !explicit, nil
+}
+
+// urlScheme returns the scheme of s when s starts like a URL: a letter,
+// then letters, digits, +, - or ., then a colon (RFC 3986, section 3.1).
+// One letter before the colon is a drive letter (C:\...), not a scheme.
+func urlScheme(s string) (string, bool) {
+	i := strings.IndexByte(s, ':')
+	if i < 2 {
+		return "", false
+	}
+	for j, r := range s[:i] {
+		isAlpha := (r >= 'a' && r <= 'z') || (r >= 'A' && r <= 'Z')
+		if !isAlpha && (j == 0 || !(r >= '0' && r <= '9' || r == '+' || r == '-' || r == '.')) {
+			return "", false
+		}
+	}
+	return strings.ToLower(s[:i]), true
+}
+
+// redactURL hides the password a URL may hold.
+func redactURL(s string) string {
+	u, err := url.Parse(s)
+	if err != nil || u.User == nil {
+		return s
+	}
+	if _, has := u.User.Password(); has {
+		u.User = url.UserPassword(u.User.Username(), "xxxxx")
+		return u.String()
+	}
+	return s
 }
 
 // stockItems returns the inventory that a command works on: the rows of
@@ -42,7 +131,7 @@ func (e *Env) stockItems(ctx context.Context, csvPath string, f stock.Filter) ([
 	var db *store.DB
 	var err error
 	if csvPath == "" {
-		db, err = e.openStore()
+		db, err = e.openStoreForReading()
 	} else {
 		db, err = e.memoryStoreFrom(ctx, csvPath)
 	}
@@ -97,10 +186,14 @@ func (e *Env) readStockCSV(path string) ([]stock.Item, error) {
 	return items, nil
 }
 
-// openDesign opens the stock database and loads saved design id; the caller
-// closes the database.
-func (e *Env) openDesign(id string) (*store.DB, *production.Design, error) {
-	db, err := e.openStore()
+// openDesign opens the stock database (for reading only unless write) and
+// loads saved design id; the caller closes the database.
+func (e *Env) openDesign(id string, write bool) (*store.DB, *production.Design, error) {
+	open := e.openStoreForReading
+	if write {
+		open = e.openStore
+	}
+	db, err := open()
 	if err != nil {
 		return nil, nil, err
 	}

@@ -55,7 +55,7 @@ type jsonDesignInfo struct {
 }
 
 func runDesigns(env *Env, o *designsOptions) error {
-	db, err := env.openStore()
+	db, err := env.openStoreForReading()
 	if err != nil {
 		return err
 	}

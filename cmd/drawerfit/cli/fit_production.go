@@ -34,7 +34,7 @@ func init() { register("yield", newYieldCmdWith(openSavedDesigns)) }
 type savedDesigns struct{ db *store.DB }
 
 func openSavedDesigns(env *Env) (designSource, error) {
-	db, err := env.openStore()
+	db, err := env.openStoreForReading()
 	if err != nil {
 		return nil, err
 	}

@@ -96,9 +96,13 @@ func TestFitExitCodes(t *testing.T) {
 		{"bad-rank", []string{"fit", "lowpass", "--pass", "1k", "--order", "2", "--stock", tiny, "--rank", "cheapest"}, 2, "--rank"},
 		{"no-kind", []string{"fit", "--pass", "1k"}, 2, "lowpass or highpass"},
 		{"missing-file", []string{"fit", "lowpass", "--pass", "1k", "--order", "2", "--stock", filepath.Join(s.dir, "none.csv")}, 1, "none.csv"},
+		{"missing-database", []string{"fit", "lowpass", "--pass", "1k", "--order", "2"}, 1, "no stock database at"},
 		{"empty-database", []string{"fit", "lowpass", "--pass", "1k", "--order", "2"}, 1, "empty"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
+			if tc.name == "empty-database" {
+				s.createEmpty()
+			}
 			out, errs, code := s.run("", tc.args...)
 			if code != tc.code {
 				t.Fatalf("exit %d, want %d\nstdout:\n%s\nstderr:\n%s", code, tc.code, out, errs)

@@ -93,7 +93,7 @@ filter's sheet on its own pages); --split writes one file per filter
 
 // runReport loads saved design id and writes its sheets.
 func runReport(env *Env, o *reportOptions, id string) error {
-	db, d, err := env.openDesign(id)
+	db, d, err := env.openDesign(id, false)
 	if err != nil {
 		return err
 	}

@@ -17,6 +17,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"drawerfit/fault"
+	"drawerfit/store"
 )
 
 // Env carries what every command needs: its streams, the database location
@@ -133,6 +134,11 @@ func Run(env *Env, args []string) int {
 			fmt.Fprintln(env.Err, "drawerfit: "+silent.msg)
 		}
 		return silent.code
+	}
+	if path, _, perr := env.dbLocation(); perr == nil {
+		// Any SQLite error that reached here unexplained gets plain words
+		// and loses its numeric code.
+		err = store.Plain(err, path)
 	}
 	fmt.Fprintln(env.Err, "drawerfit: "+err.Error())
 	return exitCode(err)

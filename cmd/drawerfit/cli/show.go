@@ -96,7 +96,7 @@ type jsonShowBoard struct {
 }
 
 func runShow(env *Env, o *showOptions, id string) error {
-	db, d, err := env.openDesign(id)
+	db, d, err := env.openDesign(id, false)
 	if err != nil {
 		return err
 	}

@@ -34,7 +34,11 @@ since markings and old schematics read those differently. Tolerances are
 percentages (1%, ±0.5%) or IEC 60062 letters (F, G, J, K, M).
 
 The database file is --db, else $DRAWERFIT_DB, else drawerfit/stock.db in
-the XDG data home; it is created on first use.`,
+the XDG data home. Only the commands that add stock (import, add) create
+it; every other command refuses a missing database, so a mistyped --db
+makes nothing. Commands that only read (list, export, history, fit, show,
+designs, builds, report, yield) open it read-only: they work on a file you
+may only read, and while another process writes.`,
 		Example: `  # Fill a fresh database from the bench drawer's spreadsheet and look at it
   drawerfit stock import sample-stock.csv
   drawerfit stock list --kind capacitor
@@ -49,7 +53,7 @@ the XDG data home; it is created on first use.`,
 		RunE: func(cmd *cobra.Command, _ []string) error { return cmd.Help() },
 	}
 	cmd.AddCommand(newStockImportCmd(env), newStockListCmd(env), newStockAddCmd(env),
-		newStockSetCmd(env), newStockRemoveCmd(env), newStockExportCmd(env), newStockHistoryCmd(env))
+		newStockSetCmd(env), newStockRemoveCmd(env), newStockExportCmd(env), newStockHistoryCmd(env), newStockUpgradeCmd(env))
 	return cmd
 }
 
@@ -162,7 +166,7 @@ func runStockImport(ctx context.Context, env *Env, o stockImportOptions) error {
 		}
 		return err
 	}
-	db, err := env.openStore()
+	db, err := env.openStoreCreating()
 	if err != nil {
 		return err
 	}
@@ -435,7 +439,7 @@ func runStockAdd(ctx context.Context, env *Env, o stockAddOptions) error {
 			return err
 		}
 	}
-	db, err := env.openStore()
+	db, err := env.openStoreCreating()
 	if err != nil {
 		return err
 	}
@@ -624,7 +628,7 @@ file.`,
 }
 
 func runStockExport(ctx context.Context, env *Env, file string) error {
-	db, err := env.openStore()
+	db, err := env.openStoreForReading()
 	if err != nil {
 		return err
 	}
@@ -734,7 +738,7 @@ func runStockHistory(ctx context.Context, env *Env, o stockHistoryOptions) error
 			return err
 		}
 	}
-	db, err := env.openStore()
+	db, err := env.openStoreForReading()
 	if err != nil {
 		return err
 	}
@@ -762,6 +766,34 @@ func runStockHistory(ctx context.Context, env *Env, o stockHistoryOptions) error
 	}
 	g.render(env, env.Out)
 	return nil
+}
+
+// ---- upgrade ----
+
+func newStockUpgradeCmd(env *Env) *cobra.Command {
+	return &cobra.Command{
+		Use:   "upgrade",
+		Short: "Bring the stock database's schema up to this drawerfit's version",
+		Long: `Upgrade applies the schema steps that the stock database lacks, each in one
+transaction. Any command that changes the stock does the same on its way;
+commands that only read never change the file, and ask for this instead.`,
+		Example: `  # After installing a newer drawerfit, once, before reading the stock
+  drawerfit stock upgrade`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error {
+			db, err := env.openStore()
+			if err != nil {
+				return err
+			}
+			defer db.Close()
+			v, err := db.SchemaVersion(cmd.Context())
+			if err != nil {
+				return err
+			}
+			fmt.Fprintf(env.Out, "the stock database at %s is at schema version %d\n", db.Path(), v)
+			return nil
+		},
+	}
 }
 
 // plural writes n with the noun, adding an s unless n is 1: "1 part",
