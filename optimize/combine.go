@@ -159,6 +159,9 @@ type combiner struct {
 	stopIdx    int // grid index of fs, or -1
 	tdbTotal   []float64
 	ap, as     float64 // specification limits, dB
+	ripple     bool    // the passband is judged by its ripple (Chebyshev)
+	passFrom   int     // grid indices of the passband: passFrom..passTo
+	passTo     int
 	keepFail   bool
 	out        *topList
 	closest    *combo // best failing combo by error, for the explanation
@@ -341,7 +344,7 @@ func (c *combiner) leaf(parts int) {
 	c.minErr = math.Min(c.minErr, e)
 	pa := -(c.tdbTotal[c.passIdx] + sum[c.passIdx])
 	sa := math.NaN()
-	meets := pa <= c.ap+1e-9
+	meets := passFigure(c.ripple, c.passIdx, c.passFrom, c.passTo, func(i int) float64 { return c.tdbTotal[i] + sum[i] }) <= c.ap+1e-9
 	if c.stopIdx >= 0 {
 		sa = -(c.tdbTotal[c.stopIdx] + sum[c.stopIdx])
 		meets = meets && sa >= c.as-1e-9

@@ -259,8 +259,12 @@ func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []
 	}
 	cb := &combiner{lists: secLists, rows: rows, boards: o.Boards, rank: o.Rank,
 		goodEnough: o.GoodEnough, design: ji, passIdx: passIdx, stopIdx: stopIdx,
-		tdbTotal: tdbTotal, ap: spec.PassAtten, as: spec.StopAtten, keepFail: o.ShowFailing,
+		tdbTotal: tdbTotal, ap: spec.PassAtten, as: spec.StopAtten, keepFail: o.ShowFailing, ripple: spec.Approx == synth.Chebyshev,
 		out: top, budget: o.NodeBudget, stop: stop, rmid: math.Sqrt(o.RMin * o.RMax), minErr: math.Inf(1)}
+	cb.passFrom, cb.passTo = 0, passIdx
+	if spec.Kind == synth.HighPass {
+		cb.passFrom, cb.passTo = passIdx, len(grid.w)-1
+	}
 	for i := range d.Sections {
 		cb.resIdx = append(cb.resIdx, d.Sections[i].Topology.Indices(synth.Resistor))
 	}

@@ -312,3 +312,22 @@ func (t *target) boxAtLocked(k int) box {
 	t.boxes[k] = b
 	return b
 }
+
+// passFigure is a cascade's passband figure judged against Ap, from its
+// gain in dB at the passband's grid points (indices lo..hi, fp at passIdx)
+// and its unity gain at DC (infinite frequency for a high-pass): the
+// attenuation at fp, or with ripple set (Chebyshev, whose fp is the end of
+// the ripple band and Ap the ripple) the largest minus the smallest gain
+// there, as the yield analysis judges it. gain(i) is the cascade's gain in
+// dB at grid point i.
+func passFigure(ripple bool, passIdx, from, to int, gain func(i int) float64) float64 {
+	if !ripple {
+		return -gain(passIdx)
+	}
+	hi, lo := 0.0, 0.0 // DC
+	for i := from; i <= to; i++ {
+		g := gain(i)
+		hi, lo = math.Max(hi, g), math.Min(lo, g)
+	}
+	return hi - lo
+}

@@ -45,6 +45,10 @@ type docSpec struct {
 	Order      int     `json:"order"`
 	Odd        string  `json:"odd"`
 	BesselNorm string  `json:"bessel_norm"`
+	// Placement is "inside" when the target was placed inside the
+	// specification; empty (documents before it existed) is the classical
+	// placement.
+	Placement string `json:"placement,omitempty"`
 }
 
 type docCandidate struct {
@@ -99,6 +103,9 @@ func specDoc(s synth.Spec) docSpec {
 	if s.Odd != synth.OddDefault {
 		d.Odd = s.Odd.String()
 	}
+	if s.Placement != synth.PlaceEdge {
+		d.Placement = s.Placement.String()
+	}
 	return d
 }
 
@@ -118,6 +125,11 @@ func (d docSpec) spec() (synth.Spec, error) {
 	}
 	if s.BesselNorm, err = synth.ParseBesselNorm(d.BesselNorm); err != nil {
 		return s, err
+	}
+	if d.Placement != "" {
+		if s.Placement, err = synth.ParsePlacement(d.Placement); err != nil {
+			return s, err
+		}
 	}
 	return s, nil
 }

@@ -42,6 +42,9 @@ type Design struct {
 	// Notes explain the design: how the edge was placed, the stopband
 	// margin, the Chebyshev even-order passband, an order below the minimum.
 	Notes []string
+	// Placing says where the target sits within the specification and the
+	// margins it leaves (Spec.Placement asks; see Placing).
+	Placing Placing
 
 	edgeW float64 // 2π·fp: the normalisation frequency of element values
 }
@@ -165,27 +168,37 @@ func NewDesign(s Spec, order int, odd Odd) (*Design, error) {
 	if order == 0 {
 		order = minN
 	}
-	d, err := buildDesign(s, order, odd)
+	pl := placed{k: 1, r: s.Ripple}
+	switch {
+	case s.Placement != PlaceInside:
+		pl.why = "the classical placement was asked for"
+	case minN != 0 && order < minN:
+		pl.why = fmt.Sprintf("order %d is below the minimum %d, so there is no slack", order, minN)
+	default:
+		pl = placement(&s, order)
+	}
+	d, err := buildPlaced(s, order, odd, pl.k, pl.r)
 	if err != nil {
 		return nil, err
 	}
+	d.place(pl)
 	d.explain(minN)
 	return d, nil
 }
 
-// buildDesign computes the poles, places the edge and groups the sections.
+// buildDesign computes the poles with the classical placement (Ap exactly at
+// fp) and groups the sections.
 func buildDesign(s Spec, n int, odd Odd) (*Design, error) {
-	poles := Prototype(s.Approx, n, s.Ripple, s.BesselNorm)
-	// Edge placement: scale the prototype so that the attenuation at the
-	// normalised edge 1 rad/s is exactly Ap.
-	k := 1.0
-	switch {
-	case s.Approx == Butterworth:
-		// DOMAIN.md: the -3 dB frequency is fp·(10^(Ap/10)-1)^(-1/(2n)).
-		k = math.Pow(math.Pow(10, s.PassAtten/10)-1, -1/(2*float64(n)))
-	case s.Approx == Bessel && s.BesselNorm == BesselMag && s.PassAtten != HalfPowerDB:
-		k = 1 / attenCrossing(poles, s.PassAtten)
-	}
+	return buildPlaced(s, n, odd, 1, s.Ripple)
+}
+
+// buildPlaced computes the poles (Chebyshev with ripple r), places the edge
+// classically, scales the frequencies by k on the low-pass prototype axis
+// (k > 1 moves a low-pass edge up and a high-pass edge down) and groups the
+// sections.
+func buildPlaced(s Spec, n int, odd Odd, k, r float64) (*Design, error) {
+	poles := Prototype(s.Approx, n, r, s.BesselNorm)
+	scaleClassical(&s, n, poles)
 	for i := range poles {
 		poles[i] *= complex(k, 0)
 	}
@@ -321,14 +334,17 @@ func Attenuation(h complex128) float64 { return -20 * math.Log10(cmplx.Abs(h)) }
 func (d *Design) explain(minN int) {
 	s := &d.Spec
 	ap := d.AttenuationAt(s.Pass)
+	inside := d.Placing.Used == PlaceInside
 	switch {
+	case inside:
+		d.note("%s", d.Placing.Why)
+		if s.Approx == Chebyshev && d.Order%2 == 0 {
+			d.note("even order with unity-gain sections: the %s gain is the ripple minimum, so the passband rises up to %.3g dB above it; the passband is judged by its ripple", dcName(s.Kind), d.Placing.Ripple)
+		}
 	case s.Approx == Chebyshev:
 		d.note("fp %s is the edge of the %.4g dB ripple band", hzString(s.Pass), s.Ripple)
 		if d.Order%2 == 0 {
-			ref := "DC"
-			if s.Kind == HighPass {
-				ref = "high-frequency"
-			}
+			ref := dcName(s.Kind)
 			d.note("even order with unity-gain sections: the %s gain is the ripple minimum, so the passband rises up to %.4g dB above it and the attenuation at fp is 0 dB relative to the %s gain", ref, s.Ripple, ref)
 		}
 	case s.Approx == Bessel && s.BesselNorm == BesselDelay:
@@ -341,6 +357,9 @@ func (d *Design) explain(minN int) {
 			d.note("edge placed to meet the passband exactly: %.4g dB at fp %s, -3 dB at %s", ap, hzString(s.Pass), hzString(d.halfPower()))
 		}
 	}
+	if !inside && s.Placement == PlaceInside {
+		d.note("%s", d.Placing.Why)
+	}
 	if s.Stop == 0 {
 		return
 	}
@@ -350,11 +369,21 @@ func (d *Design) explain(minN int) {
 		d.note("no order up to %d meets %.4g dB at fs %s; order %d gives %.2f dB there", MaxOrder, s.StopAtten, hzString(s.Stop), d.Order, as)
 	case d.Order < minN:
 		d.note("order %d is below the minimum %d: %.2f dB at fs %s, %.2f dB short of the required %.4g dB", d.Order, minN, as, hzString(s.Stop), s.StopAtten-as, s.StopAtten)
+	case inside && d.Order > minN:
+		d.note("order %d is above the minimum %d: %.2f dB at fs %s, margin %.2f dB", d.Order, minN, as, hzString(s.Stop), as-s.StopAtten)
 	case d.Order > minN:
 		d.note("order %d is above the minimum %d: the passband edge is met exactly and the slack goes to the stopband: %.2f dB at fs %s, margin %.2f dB", d.Order, minN, as, hzString(s.Stop), as-s.StopAtten)
 	default:
 		d.note("minimum order %d: %.2f dB at fs %s, margin %.2f dB over the required %.4g dB", d.Order, as, hzString(s.Stop), as-s.StopAtten, s.StopAtten)
 	}
+}
+
+// dcName names where a unity-gain cascade has its passband gain reference.
+func dcName(k Kind) string {
+	if k == HighPass {
+		return "high-frequency"
+	}
+	return "DC"
 }
 
 func (d *Design) note(format string, args ...any) {

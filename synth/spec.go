@@ -170,6 +170,11 @@ type Spec struct {
 	Odd       Odd     // arrangement of the real pole of an odd order
 	// BesselNorm is the Bessel frequency normalisation (ignored otherwise).
 	BesselNorm BesselNorm
+	// Placement says where the target sits within the specification: the
+	// zero value PlaceEdge is the classical placement, PlaceInside centres
+	// it when the order leaves slack. The specification itself (fp, Ap, fs,
+	// As) is what every candidate is judged against either way.
+	Placement Placement
 }
 
 func finitePositive(x float64) bool { return x > 0 && !math.IsInf(x, 1) }
@@ -187,6 +192,9 @@ func (s *Spec) Normalize() error {
 	}
 	if s.Approx > Bessel {
 		return fault.Invalidf("unknown approximation %d", s.Approx)
+	}
+	if s.Placement > PlaceInside {
+		return fault.Invalidf("unknown placement %d", s.Placement)
 	}
 	if s.BesselNorm > BesselDelay {
 		return fault.Invalidf("unknown Bessel normalisation %d", s.BesselNorm)

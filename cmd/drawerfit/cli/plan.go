@@ -29,6 +29,7 @@ type planOptions struct {
 	order      int
 	odd        string
 	besselNorm string
+	placement  string // "inside" or "edge"; empty: edge (board plan files)
 	anchor     string
 	json       bool
 	netlist    string
@@ -52,9 +53,14 @@ middle of 1 kΩ to 1 MΩ, or gives each section's largest capacitor the
 --anchor value.
 
 Give the passband edge and either a stopband edge with its attenuation (the
-minimum order is computed) or an order. Butterworth and Bessel place the
--3 dB point (or --pass-atten) exactly at the passband edge; for Chebyshev the
-edge is the end of the ripple band. Frequencies accept 1500, 1.5k, 1.5kHz.
+minimum order is computed) or an order. When the order leaves slack (a
+stopband limit with margin), the target is placed inside the specification
+(--placement inside, the default): centred in frequency, so that the built
+filter may drift the same factor either way before it fails at fp or fs, and
+for Chebyshev with a smaller ripple too. --placement edge, and every
+specification without slack, keeps the classical placement: Butterworth and
+Bessel put the -3 dB point (or --pass-atten) exactly at the passband edge;
+for Chebyshev the edge is the end of the full ripple band. Frequencies accept 1500, 1.5k, 1.5kHz.
 Odd orders build the real pole as its own RC section (--odd 1pole) or with
 the lowest-Q pair in one 3-pole section (--odd 3pole).
 
@@ -106,6 +112,7 @@ func bindSpecFlags(f *pflag.FlagSet, o *planOptions) {
 	f.IntVar(&o.order, "order", 0, "filter order 1..12 (default: the minimum that meets --stop/--atten)")
 	f.StringVar(&o.odd, "odd", "1pole", "odd-order real pole: 1pole (own RC section) or 3pole (with the lowest-Q pair)")
 	f.StringVar(&o.besselNorm, "bessel-norm", "mag", "Bessel normalisation: mag (-3 dB at fp) or delay (unit delay scaled to fp)")
+	f.StringVar(&o.placement, "placement", "inside", "where the target sits: inside (centred in the specification when the order leaves slack) or edge (classical: Ap exactly at fp)")
 }
 
 // planSpec turns the options into a specification; every mistake is a
@@ -171,6 +178,11 @@ func planSpec(o *planOptions) (synth.Spec, error) {
 	}
 	if s.BesselNorm, err = synth.ParseBesselNorm(o.besselNorm); err != nil {
 		return s, err
+	}
+	if o.placement != "" {
+		if s.Placement, err = synth.ParsePlacement(o.placement); err != nil {
+			return s, fault.Invalidf("--placement: %v", err)
+		}
 	}
 	if s.Stop == 0 && s.Order == 0 {
 		return s, fault.Invalidf("give a stopband (--stop and --atten) or an order (--order)")
