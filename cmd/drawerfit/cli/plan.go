@@ -206,6 +206,36 @@ type planJSON struct {
 	AttenuationDB planAttenuationDB `json:"attenuation_db"`
 	Notes         []string          `json:"notes"`
 	Netlist       string            `json:"netlist"`
+	Placement     placementJSON     `json:"placement"`
+}
+
+// placementJSON says where the target was placed (plan and fit).
+type placementJSON struct {
+	Used          string   `json:"used"` // "inside" or "edge"
+	EdgeHz        float64  `json:"edge_hz"`
+	RippleDB      *float64 `json:"ripple_db,omitempty"`
+	PassMarginDB  float64  `json:"pass_margin_db"`
+	StopMarginDB  *float64 `json:"stop_margin_db,omitempty"`
+	ShiftFraction *float64 `json:"shift,omitempty"`
+	Why           string   `json:"why"`
+}
+
+func placementOf(d *synth.Design) placementJSON {
+	p := d.Placing
+	j := placementJSON{Used: p.Used.String(), EdgeHz: p.Edge, PassMarginDB: p.PassMargin, Why: p.Why}
+	if d.Spec.Approx == synth.Chebyshev {
+		r := p.Ripple
+		j.RippleDB = &r
+	}
+	if !math.IsNaN(p.StopMargin) {
+		m := p.StopMargin
+		j.StopMarginDB = &m
+	}
+	if !math.IsNaN(p.Shift) {
+		sh := p.Shift
+		j.ShiftFraction = &sh
+	}
+	return j
 }
 
 type planSectionJSON struct {
@@ -281,6 +311,7 @@ func runPlan(env *Env, o *planOptions) error {
 			AttenuationDB: planAttenuationDB{Pass: passAtt, Stop: stopAtt},
 			Notes:         append(append([]string{}, d.Notes...), warnings...),
 			Netlist:       netlist,
+			Placement:     placementOf(d),
 		}
 		if spec.Stop > 0 {
 			out.StopHz, out.StopAttenDB = &spec.Stop, &spec.StopAtten
