@@ -53,7 +53,11 @@ func BoardHTML(b *Board) ([]byte, error) {
 	var style string
 	var bodies []string
 	for i, s := range b.Sheets {
-		page, err := HTML(s)
+		// Every filter's element ids get their own prefix, so that ids
+		// stay unique on the board's page.
+		sc := *s
+		sc.idPrefix = fmt.Sprintf("f%d-", i+1)
+		page, err := HTML(&sc)
 		if err != nil {
 			return nil, fmt.Errorf("filter %d: %w", i+1, err)
 		}

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"regexp"
 	"strings"
 	"testing"
 	"time"
@@ -13,7 +14,7 @@ func TestBoardHTML(t *testing.T) {
 		StockDB: "stock.db", DesignID: "ab12cd",
 		Labels: []string{"anti-alias", "drift <script>alert(1)</script>"},
 		Sheets: []*Sheet{{Title: "anti-alias", Candidate: lp, Boards: 25}, {Title: "drift high-pass", Candidate: hp, Boards: 25}},
-		Picks:  []PickLine{{Location: "A1", StockID: 3, Value: "10 kΩ 1 %", Quantity: 50, Refs: []string{"F1.R1", "F2.R2"}}},
+		Picks:  []PickLine{{Location: "A1", StockID: 3, Value: "10 kΩ 1% 0603", Quantity: 50, Refs: []string{"F1.R1", "F2.R2"}}},
 	}
 	page, err := BoardHTML(b)
 	if err != nil {
@@ -38,7 +39,26 @@ func TestBoardHTML(t *testing.T) {
 	if strings.Count(doc, `class="schematic`) < 2 && strings.Count(doc, "<svg") < 4 {
 		t.Error("the filters' drawings are missing")
 	}
+	// Every element id once on the page, and every part described one way
+	// (the stock's "1%", never "1 %").
+	ids := map[string]int{}
+	for _, m := range idAttr.FindAllStringSubmatch(doc, -1) {
+		ids[m[1]]++
+	}
+	for id, n := range ids {
+		if n > 1 {
+			t.Errorf("id %q appears %d times", id, n)
+		}
+	}
+	if len(ids) < 50 {
+		t.Errorf("only %d ids found; the pattern is wrong", len(ids))
+	}
+	if strings.Contains(doc, "1 %") || strings.Contains(doc, "5 %") {
+		t.Error(`a part is described with "1 %" or "5 %" (the stock writes "1%")`)
+	}
 	if _, err := BoardHTML(&Board{}); err == nil {
 		t.Error("a board without filters was accepted")
 	}
 }
+
+var idAttr = regexp.MustCompile(`\bid="([^"]*)"`)

@@ -11,6 +11,9 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"drawerfit/optimize"
+	"drawerfit/synth"
 )
 
 // chromiumPath is where Debian's chromium package installs the browser
@@ -60,11 +63,7 @@ func TestBrowser(t *testing.T) {
 	}
 	lp := lowpass4(t)
 	note := `<script>document.title="hijacked"</script> keep C3 away from the heatsink`
-	s := &Sheet{
-		Title: "Logger input anti-alias, board rev C", Boards: 25, Date: date,
-		StockDB: "bench-drawer.db", Candidate: lp, Yield: sampleYield(lp), Notes: []string{note},
-		Warnings: []string{"C3 is below 100 pF: stray capacitance matters."},
-	}
+	s := browserSheet(lp, note)
 	page, err := HTML(s)
 	if err != nil {
 		t.Fatal(err)
@@ -153,14 +152,117 @@ func TestBrowser(t *testing.T) {
 			if !bytes.HasPrefix(b, []byte("%PDF-")) {
 				t.Fatal("not a PDF")
 			}
+			printedText(t, pdf, s)
 			pages := len(pageObject.FindAll(b, -1))
-			// Two sections of a 4th-order design: response and yield, the
-			// schematics, and the pick list on its own page; more than six
-			// pages means the print layout broke (a judgement, no source).
-			if pages < 2 || pages > 6 {
-				t.Errorf("%d pages, want 2 to 6", pages)
+			// Two sections of a 4th-order design: header and warnings,
+			// response and yield, the schematics, the parts lists and the
+			// printed netlist; more than eight pages means the print layout
+			// broke (a judgement, no source).
+			if pages < 2 || pages > 8 {
+				t.Errorf("%d pages, want 2 to 8", pages)
 			}
 			t.Logf("%s: %d pages", paper.name, pages)
 		})
+	}
+}
+
+// browserSheet is the sheet the browser prints: the fixture with yield,
+// warnings, bias resistors (one of two parts) and two op-amp channels of one
+// stocked dual package with its pinout.
+func browserSheet(lp *optimize.Candidate, note string) *Sheet {
+	rows := stockRows{ids: map[string]int64{}, next: 500}
+	r := func(v float64) optimize.Part { return rows.part(synth.Resistor, v) }
+	bias1 := optimize.Component{Ref: NextDesignator(lp, "R", 0), Kind: synth.Resistor, Arrangement: synth.Series,
+		Parts: []optimize.Part{r(56e3), r(8.2e3)}, Value: 64.2e3}
+	bias2 := optimize.Component{Ref: NextDesignator(lp, "R", 1), Kind: synth.Resistor, Arrangement: synth.Single,
+		Parts: []optimize.Part{r(68e3)}, Value: 68e3}
+	// Channel A and B of the common dual op-amp pinout (outputs 1 and 7,
+	// - inputs 2 and 6, + inputs 3 and 5, V- 4, V+ 8; from memory).
+	dual := "dual op-amp, invented part DX-2, SOIC-8"
+	return &Sheet{
+		Title: "Logger input anti-alias, board rev C", Boards: 25, Date: date,
+		StockDB: "bench-drawer.db", Candidate: lp, Yield: sampleYield(lp), Notes: []string{note},
+		Warnings: []string{
+			"C3 is below 100 pF: stray capacitance matters.",
+			"the nominal response sits on the passband limit (0.025 dB inside it at fp 1 kHz): 49% of the boards fail there",
+		},
+		BiasResistors: []BiasResistor{
+			{Section: 1, Component: bias1, Ohms: 64.5e3, Path: "R1+R2"},
+			{Section: 2, Component: bias2, Ohms: 66e3, Path: "R3+R4"},
+		},
+		Amplifiers: []Amplifier{
+			{Ref: "U1", Channel: "A", Section: 1, Part: dual, Location: "IC-1", StockID: 900,
+				Pins: &Pins{Plus: "3", Minus: "2", Out: "1", VPos: "8", VNeg: "4"}},
+			{Ref: "U1", Channel: "B", Section: 2, Part: dual, Location: "IC-1", StockID: 900,
+				Pins: &Pins{Plus: "5", Minus: "6", Out: "7", VPos: "8", VNeg: "4"}},
+		},
+		Checks: []Check{{What: "With the op-amp model (single pole, 1 MHz gain-bandwidth, 100 dB DC gain)",
+			Verdict: "meets the specification (passband 3.02 dB); gain-bandwidth rule met in every section", Status: CheckPassed}},
+	}
+}
+
+// pdftotextPath is where Debian's poppler-utils installs pdftotext (.ci/run
+// installs it).
+const pdftotextPath = "/usr/bin/pdftotext"
+
+var spaces = regexp.MustCompile(`\s+`)
+
+// printedText checks the text of the printed PDF: the whole netlist, every
+// designator of every part and amplifier, and every warning must be on
+// paper (a closed <details> element, for one, prints only its summary).
+func printedText(t *testing.T, pdf string, s *Sheet) {
+	t.Helper()
+	if _, err := os.Stat(pdftotextPath); err != nil {
+		t.Logf("printed text not checked: %s not found (apt-get install poppler-utils)", pdftotextPath)
+		return
+	}
+	out, err := exec.Command(pdftotextPath, "-enc", "UTF-8", pdf, "-").Output()
+	if err != nil {
+		t.Fatalf("pdftotext: %v", err)
+	}
+	text := spaces.ReplaceAllString(string(out), " ")
+	flat := func(s string) string { return spaces.ReplaceAllString(strings.TrimSpace(s), " ") }
+
+	// The netlist, line by line (the printed page may wrap a long line).
+	netlist := withBiasComments(synth.Netlist(s.Candidate.Stages(),
+		synth.NetlistOptions{Title: s.Title, Refs: PartRefs(s.Candidate)}), s.BiasResistors)
+	for _, line := range strings.Split(strings.TrimSpace(netlist), "\n") {
+		if !strings.Contains(text, flat(line)) {
+			t.Errorf("the printed netlist lacks %q", line)
+		}
+	}
+	// Every designator, as a word of its own.
+	var refs []string
+	for i, sf := range s.Candidate.Sections {
+		for j, comp := range sf.Components {
+			refs = append(refs, comp.Ref)
+			for k := range comp.Parts {
+				refs = append(refs, PartRefs(s.Candidate)(i, j, k))
+			}
+		}
+	}
+	for _, b := range s.BiasResistors {
+		refs = append(refs, b.Component.Ref)
+	}
+	for _, a := range s.Amplifiers {
+		refs = append(refs, a.Name())
+	}
+	for _, r := range refs {
+		if !regexp.MustCompile(`(^|[^A-Za-z0-9])` + regexp.QuoteMeta(r) + `($|[^A-Za-z0-9])`).MatchString(text) {
+			t.Errorf("the printed sheet lacks designator %s", r)
+		}
+	}
+	for _, w := range s.Warnings {
+		if !strings.Contains(text, flat(w)) {
+			t.Errorf("the printed sheet lacks the warning %q", w)
+		}
+	}
+	for _, want := range []string{DecouplingNote, "see the part's data sheet", "Not ready to build"} {
+		if want == "see the part's data sheet" {
+			continue // every amplifier here has its pinout
+		}
+		if !strings.Contains(text, flat(want)) {
+			t.Errorf("the printed sheet lacks %q", want)
+		}
 	}
 }

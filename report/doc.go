@@ -8,8 +8,12 @@
 // target, of the nominal candidate and (when yield was run) the Monte Carlo
 // envelope with the specification's limits, the phase and group delay, a
 // schematic of every section with designators, values, what each value is
-// made of and the bin of every part, the bill of materials, the pick list
-// grouped by bin location, and the SPICE netlist in a collapsible block.
+// made of and the bin of every part, the bill of materials (every part
+// soldered: the filter's, the bias resistors and the op-amps, each with one
+// designator and its role in words), the op-amps with their pins where the
+// stock gives a pinout, the pick list grouped by bin location, and the
+// SPICE netlist, printed in full. The header says what was checked
+// (nominal values, an op-amp model, the yield) and the verdict of each.
 //
 // Everything is inline: CSS in a <style> element, plots and schematics as
 // <svg> elements, no scripts, fonts or images from anywhere else, so the

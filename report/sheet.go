@@ -54,9 +54,56 @@ type Sheet struct {
 	Warnings []string
 	// Cautions are added to the standard cautions, which are always shown.
 	Cautions []string
-	// Picks is the pick list; nil means one derived from the candidate and
-	// Boards (see DerivePicks).
+	// Picks is the pick list; nil means one derived from everything the
+	// sheet puts on the board (see SheetPicks).
 	Picks []PickLine
+
+	// BiasResistors are the bias-current compensation resistors fitted for
+	// the sections (none: not asked for).
+	BiasResistors []BiasResistor
+	// Amplifiers are the op-amp channels, one per section; nil means one
+	// op-amp per section not chosen from stock (U1, U2, ...).
+	Amplifiers []Amplifier
+	// Checks are the verdicts of further checks (an op-amp model, ...);
+	// the nominal check and the yield's verdict are added by the sheet.
+	Checks []Check
+
+	// idPrefix prefixes every element id, so that several sheets can
+	// share one page (a board sheet).
+	idPrefix string
+}
+
+// Check is one verdict in the sheet's header: what was checked and what
+// came out.
+type Check struct {
+	// What names the check, e.g. "With the op-amp model (1 MHz, 100 dB)".
+	What string
+	// Verdict says what came out, e.g. "meets the specification".
+	Verdict string
+	// Status is CheckPassed, CheckFailed or CheckNotRun.
+	Status CheckStatus
+}
+
+// CheckStatus is the outcome of a check.
+type CheckStatus int
+
+const (
+	// CheckNotRun means the check was not asked for.
+	CheckNotRun CheckStatus = iota
+	// CheckPassed means the design passed it.
+	CheckPassed
+	// CheckFailed means the design failed it (the warnings say why).
+	CheckFailed
+)
+
+func (c CheckStatus) String() string {
+	switch c {
+	case CheckPassed:
+		return "passed"
+	case CheckFailed:
+		return "failed"
+	}
+	return "not run"
 }
 
 // YieldSummary is what the sheet shows of a Monte Carlo yield analysis.
@@ -75,6 +122,9 @@ type YieldSummary struct {
 	Blame []BlameLine
 	// Advice are sentences for people.
 	Advice []string
+	// Target is the yield the design is judged against (0: none); below
+	// it the yield check fails.
+	Target float64
 	// Bands are the Monte Carlo envelopes of the magnitude response.
 	Bands []respplot.Band
 }
@@ -143,9 +193,14 @@ func Write(w io.Writer, s *Sheet) error {
 // view is the template's data: every string formatted, every drawing
 // rendered.
 type view struct {
+	P                                               string // element id prefix
 	Title, Spec, Date, StockDB, DesignID, Generator string
 	Boards                                          int
 	Summary                                         []Fact
+	Checks                                          []checkRow
+	Verdict                                         string
+	Amplifiers                                      []ampRow
+	Decoupling                                      string
 	Cautions, Warnings, Notes, DesignNotes          []string
 	Plots                                           []plotView
 	Yield                                           *yieldView
@@ -179,7 +234,15 @@ type sectionView struct {
 }
 
 type bomRow struct {
-	Ref, Section, Symbol, Value, MadeOf, Tolerance, Parts string
+	Ref, Section, Role, Value, MadeOf, Tolerance, Parts string
+}
+
+type checkRow struct {
+	What, Verdict, Status string
+}
+
+type ampRow struct {
+	Ref, Section, Part, Bin, Pins, Supply string
 }
 
 type pickRow struct {
@@ -214,6 +277,7 @@ func build(s *Sheet) (*view, error) {
 		boards = 1
 	}
 	v := &view{
+		P:     s.idPrefix,
 		Title: s.Title, Spec: s.Spec, StockDB: s.StockDB, DesignID: s.DesignID,
 		Generator: s.Generator, Boards: boards, Notes: s.Notes, Warnings: s.Warnings,
 		DesignNotes: c.Design.Notes,
@@ -235,7 +299,11 @@ func build(s *Sheet) (*view, error) {
 		v.Warnings = append([]string{"This candidate does not meet the specification with nominal part values: " +
 			"check the attenuation at fp and fs below before building it."}, v.Warnings...)
 	}
-	v.Summary = summary(c)
+	amps := s.amplifiers()
+	v.Summary = summary(c, s.BiasResistors, amps)
+	v.Checks, v.Verdict = checks(s)
+	v.Amplifiers = ampRows(amps)
+	v.Decoupling = DecouplingNote
 
 	// Plots.
 	stages := c.Stages()
@@ -257,23 +325,24 @@ func build(s *Sheet) (*view, error) {
 			return nil, fmt.Errorf("report: %w", err)
 		}
 		// The SVG comes from respplot, which escapes every text it draws.
-		v.Plots = append(v.Plots, plotView{Name: f.Name, Title: f.Title, Caption: captions[f.Name], SVG: template.HTML(b)})
+		svg := strings.Replace(string(b), `id="plot-`, `id="`+s.idPrefix+`plot-`, 1)
+		v.Plots = append(v.Plots, plotView{Name: f.Name, Title: f.Title, Caption: captions[f.Name], SVG: template.HTML(svg)})
 	}
 
 	// Sections and their schematics.
 	refs := PartRefs(c)
 	for i := range c.Sections {
-		sv, err := section(c, i, refs)
+		sv, err := section(s, i, amps)
 		if err != nil {
 			return nil, err
 		}
 		v.Sections = append(v.Sections, sv)
 	}
-	v.BOM = bom(c, refs)
+	v.BOM = bom(c, refs, s.BiasResistors, amps)
 
 	picks := s.Picks
 	if picks == nil {
-		picks = DerivePicks(c, boards)
+		picks = SheetPicks(s)
 	}
 	for _, p := range picks {
 		row := pickRow{Location: p.Location, Value: p.Value, Quantity: fmt.Sprint(p.Quantity),
@@ -289,6 +358,7 @@ func build(s *Sheet) (*view, error) {
 	if v.Netlist == "" && len(stages) > 0 {
 		v.Netlist = synth.Netlist(stages, synth.NetlistOptions{Title: v.Title, Refs: refs})
 	}
+	v.Netlist = withBiasComments(v.Netlist, s.BiasResistors)
 	if s.Yield != nil {
 		v.Yield = yieldOf(s.Yield)
 	}
@@ -405,16 +475,11 @@ func num(x float64, sig int) string {
 	return s
 }
 
-func pct(x float64) string { return num(100*x, 3) + " %" }
+func pct(x float64) string { return num(100*x, 3) + "%" }
 
-func summary(c *optimize.Candidate) []Fact {
-	meets := "yes"
-	if !c.MeetsSpec {
-		meets = "no"
-	}
+func summary(c *optimize.Candidate, bias []BiasResistor, amps []Amplifier) []Fact {
 	f := []Fact{
 		{"Order and sections", fmt.Sprintf("%d: %s", c.Design.Order, sectionList(c))},
-		{"Meets the specification", meets},
 		{"Attenuation at fp", num(c.PassAtten, 3) + " dB"},
 	}
 	if c.Design.Spec.Stop > 0 && !math.IsNaN(c.StopAtten) {
@@ -422,8 +487,8 @@ func summary(c *optimize.Candidate) []Fact {
 	}
 	f = append(f,
 		Fact{"Largest deviation from the ideal target", num(c.ResponseError, 2) + " dB"},
-		Fact{"Parts per board", fmt.Sprintf("%d passive, %d op-amp", c.PartCount, len(c.Sections))},
-		Fact{"Distinct stock rows", fmt.Sprint(c.UniqueParts)},
+		Fact{"Parts per board", partsPerBoard(c, bias, amps)},
+		Fact{"Distinct stock rows", fmt.Sprint(distinctRows(c, bias, amps))},
 	)
 	if c.BoardsBuildable > 0 {
 		f = append(f, Fact{"Boards the stock covers", fmt.Sprint(c.BoardsBuildable)})
@@ -485,10 +550,37 @@ func PartRefs(c *optimize.Candidate) func(stage, elem, part int) string {
 	}
 }
 
-func section(c *optimize.Candidate, i int, refs func(int, int, int) string) (sectionView, error) {
+func section(s *Sheet, i int, amps []Amplifier) (sectionView, error) {
+	c := s.Candidate
 	sf := &c.Sections[i]
 	t := sf.Target.Topology
 	op := fmt.Sprintf("U%d", i+1)
+	var pins *schematic.Pins
+	opFact := Fact{op, "op-amp of your choice; pins: see the part's data sheet"}
+	if a, ok := amplifierFor(amps, i+1); ok {
+		row := ampRows([]Amplifier{a})[0]
+		op = a.Name()
+		opFact = Fact{op, row.Part + "; pins: " + row.Pins}
+		if a.Pins != nil {
+			pins = &schematic.Pins{Plus: a.Pins.Plus, Minus: a.Pins.Minus, Out: a.Pins.Out}
+		}
+	}
+	var bias *schematic.Label
+	for _, b := range s.BiasResistors {
+		if b.Section == i+1 {
+			lb := schematic.Label{Ref: b.Component.Ref, Value: "not in stock"}
+			if len(b.Component.Parts) > 0 {
+				lb.Value = Value(b.Component)
+				if len(b.Component.Parts) > 1 {
+					lb.Makeup = MadeOf(b.Component)
+				}
+				for _, p := range b.Component.Parts {
+					lb.Bins = append(lb.Bins, p.Location)
+				}
+			}
+			bias = &lb
+		}
+	}
 	labels := make([]schematic.Label, len(sf.Components))
 	for j, comp := range sf.Components {
 		lb := schematic.Label{Ref: comp.Ref, Value: Value(comp)}
@@ -502,14 +594,14 @@ func section(c *optimize.Candidate, i int, refs func(int, int, int) string) (sec
 	}
 	in, out := "in", "out"
 	if i > 0 {
-		in = fmt.Sprintf("from U%d", i)
+		in = "from section " + fmt.Sprint(i)
 	}
 	if i < len(c.Sections)-1 {
 		out = fmt.Sprintf("to section %d", i+2)
 	}
 	svg, err := schematic.SVG(t, schematic.Options{
-		ID: fmt.Sprintf("sch-%d", i+1), Title: fmt.Sprintf("Section %d: %s", i+1, t.Name),
-		Labels: labels, OpAmp: op, In: in, Out: out,
+		ID: fmt.Sprintf("%ssch-%d", s.idPrefix, i+1), Title: fmt.Sprintf("Section %d: %s", i+1, t.Name),
+		Labels: labels, OpAmp: op, In: in, Out: out, Bias: bias, Pins: pins,
 	})
 	if err != nil {
 		return sectionView{}, fmt.Errorf("report: section %d: %w", i+1, err)
@@ -530,23 +622,58 @@ func section(c *optimize.Candidate, i int, refs func(int, int, int) string) (sec
 			sv.Facts = append(sv.Facts, Fact{"Real pole target", hz(sf.Target.RealF0)}, Fact{"Real pole built", hz(sf.RealF0)})
 		}
 	}
+	sv.Facts = append(sv.Facts, opFact)
 	return sv, nil
 }
 
-func bom(c *optimize.Candidate, refs func(int, int, int) string) []bomRow {
+func bom(c *optimize.Candidate, refs func(int, int, int) string, bias []BiasResistor, amps []Amplifier) []bomRow {
 	var rows []bomRow
+	partsOf := func(comp optimize.Component, ref func(k int) string) string {
+		var parts []string
+		for k, p := range comp.Parts {
+			parts = append(parts, fmt.Sprintf("%s: %s from %s", ref(k), PartDesc(comp.Kind, p), locOrDash(p.Location)))
+		}
+		return strings.Join(parts, "; ")
+	}
 	for i := range c.Sections {
 		sf := &c.Sections[i]
+		t := sf.Target.Topology
 		for j, comp := range sf.Components {
-			var parts []string
-			for k, p := range comp.Parts {
-				parts = append(parts, fmt.Sprintf("%s: %s from %s", refs(i, j, k), partDesc(comp.Kind, p), locOrDash(p.Location)))
-			}
 			rows = append(rows, bomRow{
-				Ref: comp.Ref, Section: fmt.Sprint(i + 1), Symbol: comp.Symbol,
+				Ref: comp.Ref, Section: fmt.Sprint(i + 1), Role: ElementRole(t, t.Elements[j]),
 				Value: Value(comp), MadeOf: MadeOf(comp), Tolerance: pct(comp.Tolerance()),
-				Parts: strings.Join(parts, "; "),
+				Parts: partsOf(comp, func(k int) string { return refs(i, j, k) }),
 			})
+		}
+		for _, b := range bias {
+			if b.Section != i+1 {
+				continue
+			}
+			comp := b.Component
+			row := bomRow{Ref: comp.Ref, Section: fmt.Sprint(i + 1),
+				Role:  "bias-current compensation resistor, output to - input (optional)",
+				Value: "not in stock", MadeOf: "-", Tolerance: "-",
+				Parts: "nothing suitable in stock: wanted " + respplot.FormatEng(b.Ohms, "Ω", 4)}
+			if len(comp.Parts) > 0 {
+				row.Value, row.MadeOf, row.Tolerance = Value(comp), MadeOf(comp), pct(comp.Tolerance())
+				row.Parts = partsOf(comp, func(k int) string {
+					if len(comp.Parts) == 1 {
+						return comp.Ref
+					}
+					return comp.Ref + string(rune('a'+k))
+				})
+			}
+			rows = append(rows, row)
+		}
+		if a, ok := amplifierFor(amps, i+1); ok {
+			part := a.Part
+			if part == "" {
+				part = "op-amp of your choice (not chosen from stock)"
+			} else {
+				part += " from " + locOrDash(a.Location)
+			}
+			rows = append(rows, bomRow{Ref: a.Name(), Section: fmt.Sprint(i + 1), Role: "op-amp, unity-gain follower",
+				Value: "-", MadeOf: "-", Tolerance: "-", Parts: part})
 		}
 	}
 	return rows
@@ -557,22 +684,6 @@ func locOrDash(l string) string {
 		return "(no location)"
 	}
 	return l
-}
-
-// partDesc describes a part as stocked: value, tolerance, dielectric and
-// package, e.g. "3.3 nF 5 % C0G 0805".
-func partDesc(k synth.PartKind, p optimize.Part) string {
-	f := []string{PartValue(k, p)}
-	if p.Tolerance > 0 {
-		f = append(f, pct(p.Tolerance))
-	}
-	if p.Dielectric != "" {
-		f = append(f, p.Dielectric)
-	}
-	if p.Package != "" {
-		f = append(f, p.Package)
-	}
-	return strings.Join(f, " ")
 }
 
 // DerivePicks returns the pick list of c for a batch of boards: one line per
@@ -593,7 +704,7 @@ func DerivePicks(c *optimize.Candidate, boards int) []PickLine {
 	for i := range c.Sections {
 		for j, comp := range c.Sections[i].Components {
 			for k, p := range comp.Parts {
-				kk := key{p.StockID, p.Location, partDesc(comp.Kind, p)}
+				kk := key{p.StockID, p.Location, PartDesc(comp.Kind, p)}
 				n, ok := idx[kk]
 				if !ok {
 					n = len(out)

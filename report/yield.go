@@ -23,7 +23,7 @@ func YieldFrom(r *tolerance.Result) *YieldSummary {
 	}
 	y := &YieldSummary{
 		Yield: r.Yield, CILow: r.CILow, CIHigh: r.CIHigh, Trials: r.Trials, Seed: r.Seed,
-		Dist: string(r.Dist), Advice: r.Advice,
+		Dist: string(r.Dist), Advice: r.Advice, Target: r.TargetYield,
 	}
 	if r.Edge != nil {
 		kind := r.EdgeKind

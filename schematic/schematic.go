@@ -41,6 +41,19 @@ type Options struct {
 	OpAmp string
 	// In and Out label the section's terminals; empty means "in" and "out".
 	In, Out string
+	// Bias, when not nil, is a resistor in the follower's loop from the
+	// op-amp's output to its - input (bias-current compensation); it is
+	// drawn as an element with the id suffix "bias".
+	Bias *Label
+	// Pins are the op-amp's pin numbers, drawn beside its inputs and
+	// output; nil draws none (the caller says where to find them).
+	Pins *Pins
+}
+
+// Pins are an op-amp channel's pin numbers as its package's pinout gives
+// them (text, e.g. "3"); an empty field is not drawn.
+type Pins struct {
+	Plus, Minus, Out string
 }
 
 // Geometry of the drawing in SVG user units (px at 96 dpi). The numbers are
@@ -324,11 +337,24 @@ func SVG(t *synth.Topology, o Options) ([]byte, error) {
 	outPin := pt{opX + opWidth, outY}
 	outNode := pt{outX, outY}
 	outTerm := pt{outX + termRun, outY}
-	c.opamp(o.ID, o.OpAmp, plusPin, minusPin, outPin)
+	c.opamp(o.ID, o.OpAmp, o.Pins, o.Bias != nil, plusPin, minusPin, outPin)
 	c.wire("out", outPin, outTerm)
 	loopX := opX - 14
-	c.wire("out", outNode, pt{outX, chainY + loopDrop}, pt{loopX, chainY + loopDrop},
-		pt{loopX, minusPin.y}, minusPin)
+	if o.Bias == nil {
+		c.wire("out", outNode, pt{outX, chainY + loopDrop}, pt{loopX, chainY + loopDrop},
+			pt{loopX, minusPin.y}, minusPin)
+	} else {
+		// The loop's bottom run carries the resistor; its label sits to
+		// the right of the output node's drop, clear of the shunt labels.
+		from, to := pt{outX, chainY + loopDrop}, pt{loopX, chainY + loopDrop}
+		c.wire("out", outNode, from)
+		e := synth.Element{Ref: "bias", Symbol: "Rbias", Kind: synth.Resistor, From: "out", To: "minus",
+			Role: "bias-current compensation, output to - input"}
+		c.element(o.ID, e, *o.Bias, from, to, func() {
+			c.labels(*o.Bias, pt{outX + 8, chainY + loopDrop + 16}, "start")
+		})
+		c.wire("minus", to, pt{loopX, minusPin.y}, minusPin)
+	}
 	c.junction(outNode)
 	if len(railXs) > 0 {
 		slices.Sort(railXs)
@@ -475,17 +501,35 @@ func (c *canvas) ground(p pt) {
 	c.extend(pt{p.x, p.y + 10})
 }
 
-func (c *canvas) opamp(id, ref string, plus, minus, out pt) {
+func (c *canvas) opamp(id, ref string, pins *Pins, bias bool, plus, minus, out pt) {
 	top := pt{plus.x, plus.y - opHalfH + opMinusDY/2 - 2}
 	bottom := pt{plus.x, minus.y + opHalfH - opMinusDY/2 + 2}
-	c.printf(`<g id="%s-%s" class="opamp" data-ref="%s" data-pin-plus="%s" data-pin-minus="%s" data-pin-out="%s">`+"\n",
-		esc(id), esc(ref), esc(ref), plus, minus, out)
+	minusNet := "out"
+	if bias {
+		minusNet = "minus"
+	}
+	c.printf(`<g id="%s-%s" class="opamp" data-ref="%s" data-pin-plus="%s" data-pin-minus="%s" data-pin-out="%s" data-net-minus="%s">`+"\n",
+		esc(id), esc(ref), esc(ref), plus, minus, out, minusNet)
 	c.printf("<title>%s</title>\n", esc(ref+": unity-gain follower"))
 	c.printf(`<polygon class="body" points="%s %s %s" fill="white"/>`+"\n", top, out, bottom)
 	c.printf(`<text class="pin-sign" x="%s" y="%s" fill="black" stroke="none">+</text>`+"\n", num(plus.x+4), num(plus.y+4))
 	c.printf(`<text class="pin-sign" x="%s" y="%s" fill="black" stroke="none">&#8722;</text>`+"\n", num(minus.x+4), num(minus.y+4))
 	c.printf(`<text class="label" x="%s" y="%s" fill="black" stroke="none"><tspan class="ref" font-weight="bold">%s</tspan></text>`+"\n",
 		num(plus.x+14), num(top.y-4), esc(ref))
+	pin := func(p pt, n string, dy float64) {
+		if n != "" {
+			c.printf(`<text class="pin" x="%s" y="%s" text-anchor="end" font-size="8" fill="black" stroke="none">%s</text>`+"\n",
+				num(p.x-2), num(p.y+dy), esc(n))
+		}
+	}
+	if pins != nil {
+		pin(plus, pins.Plus, -3)
+		pin(minus, pins.Minus, 10)
+		if pins.Out != "" {
+			c.printf(`<text class="pin" x="%s" y="%s" font-size="8" fill="black" stroke="none">%s</text>`+"\n",
+				num(out.x+2), num(out.y-3), esc(pins.Out))
+		}
+	}
 	c.printf("</g>\n")
 	c.extend(top)
 	c.extend(pt{top.x, top.y - 14})

@@ -211,8 +211,26 @@ func onSegment(p, a, b [2]float64) bool {
 // the net of its node, distinct nodes on distinct nets.
 func TestConnectivity(t *testing.T) {
 	for _, top := range synth.Topologies {
-		t.Run(top.ID, func(t *testing.T) {
-			svg, err := SVG(top, Options{Labels: sampleLabels(top)})
+		for _, bias := range []bool{false, true} {
+			name := top.ID
+			opt := Options{Labels: sampleLabels(top)}
+			if bias {
+				// A bias resistor splits the follower's loop: the - input
+				// becomes a node of its own.
+				name += "/bias-resistor"
+				opt.Bias = &Label{Ref: "R9", Value: "21 kΩ"}
+			}
+			connectivity(t, name, top, opt)
+		}
+	}
+}
+
+// connectivity rebuilds the nets from the drawing's geometry and compares
+// them with the topology (plus the bias resistor when drawn).
+func connectivity(t *testing.T, name string, top *synth.Topology, opt Options) {
+	{
+		t.Run(name, func(t *testing.T) {
+			svg, err := SVG(top, opt)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -238,7 +256,7 @@ func TestConnectivity(t *testing.T) {
 				case n.hasClass("opamp"):
 					pins = append(pins,
 						pin{parsePt(t, n.attr["data-pin-plus"]), top.Plus, "+ input"},
-						pin{parsePt(t, n.attr["data-pin-minus"]), "out", "- input"},
+						pin{parsePt(t, n.attr["data-pin-minus"]), n.attr["data-net-minus"], "- input"},
 						pin{parsePt(t, n.attr["data-pin-out"]), "out", "output"})
 				case n.hasClass("wire"):
 					pts := strings.Fields(n.attr["points"])
@@ -337,8 +355,12 @@ func TestConnectivity(t *testing.T) {
 					}
 				}
 			})
-			if groups != len(top.Elements) {
-				t.Errorf("%d element groups, want %d", groups, len(top.Elements))
+			want := len(top.Elements)
+			if opt.Bias != nil {
+				want++
+			}
+			if groups != want {
+				t.Errorf("%d element groups, want %d", groups, want)
 			}
 		})
 	}
@@ -477,5 +499,20 @@ func TestReversedElement(t *testing.T) {
 	// The second shunt on p sits to the right of the first.
 	if pins["C2"][1][0] <= pins["C1"][1][0] {
 		t.Errorf("C2 at %v not right of C1 at %v", pins["C2"], pins["C1"])
+	}
+}
+
+func TestPins(t *testing.T) {
+	t.Parallel()
+	// Pin numbers of channel A of the common dual op-amp pinout (out 1,
+	// - input 2, + input 3; from memory): drawn as given, and no "see data
+	// sheet" remark.
+	svg, err := SVG(&synth.FirstOrderLowPass, Options{OpAmp: "U1A", Pins: &Pins{Plus: "3", Minus: "2", Out: "1"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := parse(t, svg).allText()
+	if !strings.Contains(got, "3 2 1") || strings.Contains(got, "data sheet") {
+		t.Errorf("text %q", got)
 	}
 }

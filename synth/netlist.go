@@ -171,7 +171,13 @@ func Netlist(stages []Stage, o NetlistOptions) string {
 			}
 			from, to := node(e.From), node(e.To)
 			if len(p.Parts) > 1 {
-				w("* %s %s = %s: %d parts in %s", e.Ref, e.Symbol, strconv.FormatFloat(vals[j], 'g', 6, 64), len(p.Parts), p.Arrangement)
+				// Name the parts as the netlist does (their designators), not
+				// by the topology's own element names.
+				parts := make([]string, len(p.Parts))
+				for k := range p.Parts {
+					parts[k] = name(k)
+				}
+				w("* %s = %s: %d parts in %s", strings.Join(parts, " + "), strconv.FormatFloat(vals[j], 'g', 6, 64), len(p.Parts), p.Arrangement)
 			}
 			if p.Arrangement == Series && len(p.Parts) > 1 {
 				prev := from

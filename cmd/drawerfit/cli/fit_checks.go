@@ -333,11 +333,12 @@ func fitBiasResistors(c *optimize.Candidate, run *fitRun) ([]fittedBias, string)
 	}
 	near := optimize.NewNearest(run.items, run.opts, used)
 	out := make([]fittedBias, 0, len(brs))
-	for _, b := range brs {
+	for i, b := range brs {
 		fb := fittedBias{BiasResistor: b}
 		fb.Part, _ = near.Take(b.Ohms)
-		fb.Part.Ref = fmt.Sprintf("Rfb%d", b.Section)
-		fb.Part.Symbol = "Rfb"
+		// The next free resistor designators of the board: one name per part.
+		fb.Part.Ref = report.NextDesignator(c, "R", i)
+		fb.Part.Symbol = ""
 		fb.Part.Kind = synth.Resistor
 		out = append(out, fb)
 	}
@@ -583,19 +584,12 @@ func checkSheet(env *Env, c *optimize.Candidate, cc *candidateChecks, boards int
 	if op := cc.opAmp; op != nil {
 		s.Notes = append(s.Notes, fmt.Sprintf("Op-amp check: a single-pole op-amp of %s gain-bandwidth and %.0f dB DC gain changes the response by up to %.3f dB (%.3f dB in the passband); gain-bandwidth rule of %s.",
 			yieldHz(op.GBW), 20*math.Log10(op.DCGain), op.BandError, op.PassbandError, op.Rule))
+		s.Checks = append(s.Checks, opAmpCheck(op))
 	}
 	if len(cc.bias) > 0 {
-		s.Picks = report.DerivePicks(c, s.Boards)
+		s.Notes = append(s.Notes, "Bias-current compensation resistors (optional, for bipolar-input op-amps): one per follower from its output to its - input, equal to the section's DC source resistance; they do not change the response.")
 		for _, b := range cc.bias {
-			if len(b.Part.Parts) == 0 {
-				s.Notes = append(s.Notes, fmt.Sprintf("Bias-current compensation, section %d: %s (%s) wanted from the follower's output to its - input; nothing suitable is left in stock.",
-					b.Section, stock.FormatValuePrec(b.Ohms, stock.Resistor, 4), b.Path))
-				continue
-			}
-			s.Notes = append(s.Notes, fmt.Sprintf("Bias-current compensation (optional, for bipolar-input op-amps), section %d: %s = %s (%s, bins %s) from the follower's output to its - input, matching the DC source resistance %s (%s); it does not change the response.",
-				b.Section, b.Part.Ref, report.Value(b.Part), report.MadeOf(b.Part), biasBins(b.Part),
-				stock.FormatValuePrec(b.Ohms, stock.Resistor, 4), b.Path))
-			s.Picks = addBiasPicks(s.Picks, b.Part, s.Boards)
+			s.BiasResistors = append(s.BiasResistors, report.BiasResistor{Section: b.Section, Component: b.Part, Ohms: b.Ohms, Path: b.Path})
 		}
 	}
 	if r := cc.yield; r != nil {
@@ -605,49 +599,31 @@ func checkSheet(env *Env, c *optimize.Candidate, cc *candidateChecks, boards int
 	return s
 }
 
-func biasBins(c optimize.Component) string {
-	var bins []string
-	for _, p := range c.Parts {
-		bins = append(bins, orDash(p.Location))
-	}
-	return strings.Join(bins, ", ")
-}
-
-// addBiasPicks adds the parts of a bias resistor to a pick list, on the
-// line of their stock row when there is one.
-func addBiasPicks(picks []report.PickLine, comp optimize.Component, boards int) []report.PickLine {
-	for k, p := range comp.Parts {
-		ref := comp.Ref
-		if len(comp.Parts) > 1 {
-			ref += string(rune('a' + k))
-		}
-		found := false
-		for i := range picks {
-			if picks[i].StockID == p.StockID && picks[i].Location == p.Location {
-				picks[i].Quantity += boards
-				picks[i].Refs = append(picks[i].Refs, ref)
-				found = true
-				break
-			}
-		}
-		if !found {
-			v := report.PartValue(synth.Resistor, p)
-			if p.Tolerance > 0 {
-				v += " " + strconv.FormatFloat(100*p.Tolerance, 'g', 3, 64) + " %"
-			}
-			if p.Package != "" {
-				v += " " + p.Package
-			}
-			picks = append(picks, report.PickLine{Location: p.Location, StockID: p.StockID, Value: v, Quantity: boards, Refs: []string{ref}})
+// opAmpCheck is the sheet's verdict of the op-amp model: failed when the
+// design misses the specification with it or a section is below the
+// gain-bandwidth rule.
+func opAmpCheck(op *tolerance.OpAmpReport) report.Check {
+	ch := report.Check{What: fmt.Sprintf("With the op-amp model (single pole, %s gain-bandwidth, %.0f dB DC gain)",
+		yieldHz(op.GBW), 20*math.Log10(op.DCGain)), Status: report.CheckPassed}
+	var below []string
+	for _, s := range op.Sections {
+		if !s.OK {
+			below = append(below, strconv.Itoa(s.Section))
 		}
 	}
-	sort.SliceStable(picks, func(a, b int) bool {
-		if picks[a].Location != picks[b].Location {
-			return picks[a].Location < picks[b].Location
-		}
-		return picks[a].StockID < picks[b].StockID
-	})
-	return picks
+	if op.WithOpAmp.Pass {
+		ch.Verdict = "meets the specification"
+	} else {
+		ch.Verdict, ch.Status = "does not meet the specification", report.CheckFailed
+	}
+	ch.Verdict += fmt.Sprintf(" (passband %.3g dB)", op.WithOpAmp.PassAtten)
+	if len(below) > 0 {
+		ch.Status = report.CheckFailed
+		ch.Verdict += "; below the gain-bandwidth rule in section " + strings.Join(below, ", ")
+	} else {
+		ch.Verdict += "; gain-bandwidth rule met in every section"
+	}
+	return ch
 }
 
 // writeFitSheet writes --report and --png for the best candidate.

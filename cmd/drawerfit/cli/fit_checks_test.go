@@ -380,7 +380,7 @@ func TestFitBiasResistor(t *testing.T) {
 		if code != 0 {
 			t.Fatalf("exit %d: %s", code, errs)
 		}
-		for _, want := range []string{"Bias-current compensation", "Rfb1", "R1+R2", "does not change the response"} {
+		for _, want := range []string{"Bias-current compensation", "R3", "R1+R2", "does not change the response"} {
 			if !strings.Contains(out, want) {
 				t.Errorf("output lacks %q:\n%s", want, out)
 			}
@@ -469,7 +469,7 @@ func TestFitReport(t *testing.T) {
 	html := string(b)
 	for _, want := range []string{
 		"<!DOCTYPE html>", `class="schematic"`, `id="fig-magnitude"`, `id="fig-phase"`, `id="fig-group-delay"`,
-		"<svg", "simulated boards", "5 boards", "2031-05-14", checksStock, "Rfb1", "Op-amp check",
+		"<svg", "simulated boards", "5 boards", "2031-05-14", checksStock, "bias-current compensation resistor", "Op-amp check", "With the op-amp model",
 		"Verify the circuit on the bench",
 	} {
 		if !strings.Contains(html, want) {

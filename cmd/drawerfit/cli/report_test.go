@@ -97,7 +97,7 @@ func TestReportSavedDesign(t *testing.T) {
 		html := string(b)
 		for _, want := range []string{
 			`class="schematic"`, `id="fig-magnitude"`, "Tide gauge front end", "design " + ids[0], "4 boards",
-			"simulated boards", "Rfb1", "Op-amp check", "&lt;script&gt;alert(1)&lt;/script&gt; fit C2 last",
+			"simulated boards", "bias-current compensation resistor", "Op-amp check", "With the op-amp model", "&lt;script&gt;alert(1)&lt;/script&gt; fit C2 last",
 		} {
 			if !strings.Contains(html, want) {
 				t.Errorf("the sheet lacks %q", want)
