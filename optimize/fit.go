@@ -316,6 +316,9 @@ func usableRows(items []stock.Item, o Options) ([]Row, string, int) {
 	var short, diel, rng int
 	var shortKind [2]int
 	for _, it := range items {
+		if !it.Kind.Passive() {
+			continue // amplifiers are placed by the amplifier assignment, not as elements
+		}
 		k := synth.Resistor
 		lo, hi := o.RMin, o.RMax
 		if it.Kind == stock.Capacitor {

@@ -217,6 +217,9 @@ func preferredSeries(k synth.PartKind) []stock.Series {
 }
 
 func inPreferred(it stock.Item) bool {
+	if !it.Kind.Passive() {
+		return false
+	}
 	k := synth.Resistor
 	if it.Kind == stock.Capacitor {
 		k = synth.Capacitor
@@ -289,6 +292,9 @@ func usableValues(items []stock.Item, o optimize.Options) (res, caps []float64, 
 	}
 	have = map[synth.PartKind]map[float64]bool{synth.Resistor: {}, synth.Capacitor: {}}
 	for _, it := range items {
+		if !it.Kind.Passive() {
+			continue
+		}
 		if it.Kind == stock.Capacitor {
 			if !stock.IsPrecisionDielectric(it.Dielectric) && !allowed[stock.NormalizeDielectric(it.Dielectric)] {
 				continue

@@ -15,10 +15,11 @@ import (
 )
 
 // CSV columns, in the order WriteCSV writes them. kind, value and quantity
-// are required in a file; the others may be left out.
+// are required in a file; the others may be left out. channels, gbw,
+// dc-gain, slew and supply are for amplifier rows only.
 var (
 	CSVColumns = []string{"kind", "value", "tolerance", "quantity", "package", "dielectric", "location", "note",
-		"voltage", "price", "min", "pack", "supplier-ref"}
+		"voltage", "price", "min", "pack", "supplier-ref", "channels", "gbw", "dc-gain", "slew", "supply"}
 	requiredColumns = []string{"kind", "value", "quantity"}
 )
 
@@ -280,14 +281,24 @@ func readRow(rec []string, cols map[string]int, bad func(col, reason string)) (I
 		fail("kind", reasonOf(err))
 	}
 	it.Kind = kind
-	if kindOK {
+	if kindOK && kind == OpAmp {
+		it.Name = restore(strings.TrimSpace(cell("value")))
+		readAmpCells(&it, cell, fail)
+	} else if kindOK {
+		for _, c := range []string{"channels", "gbw", "dc-gain", "slew", "supply"} {
+			if strings.TrimSpace(cell(c)) != "" {
+				fail(c, "only amplifier rows have "+c+" (this row is a "+kind.String()+")")
+			}
+		}
 		if v, err := ParseValue(cell("value"), kind); err != nil {
 			fail("value", reasonOf(err))
 		} else {
 			it.Value = v
 		}
 	}
-	if t := strings.TrimSpace(cell("tolerance")); t != "" {
+	if t := strings.TrimSpace(cell("tolerance")); t != "" && kind == OpAmp {
+		fail("tolerance", "an amplifier has no tolerance")
+	} else if t != "" {
 		if f, err := ParseToleranceFor(t, kind, it.Value); err != nil {
 			fail("tolerance", reasonOf(err))
 		} else {
@@ -331,14 +342,36 @@ func readRow(rec []string, cols map[string]int, bad func(col, reason string)) (I
 	if kindOK {
 		for _, p := range it.Problems() {
 			switch p.Field {
-			case "value", "tolerance", "quantity", "voltage", "price", "min", "pack":
+			case "tolerance", "quantity", "voltage", "price", "min", "pack", "channels", "gbw", "dc-gain", "slew":
 				// Reported above from the text, with the text quoted.
+			case "value":
+				if kind == OpAmp { // a label: nothing was parsed above
+					fail(p.Field, p.Reason)
+				}
 			default:
 				fail(p.Field, p.Reason)
 			}
 		}
 	}
 	return it, ok
+}
+
+// readAmpCells reads an amplifier row's own columns into it.
+func readAmpCells(it *Item, cell func(string) string, fail func(col, reason string)) {
+	var err error
+	if it.Channels, err = ParseChannels(cell("channels")); err != nil {
+		fail("channels", reasonOf(err))
+	}
+	if it.GBW, err = ParseGBW(cell("gbw")); err != nil {
+		fail("gbw", reasonOf(err))
+	}
+	if it.DCGain, err = ParseDCGain(cell("dc-gain")); err != nil {
+		fail("dc-gain", reasonOf(err))
+	}
+	if it.Slew, err = ParseSlew(cell("slew")); err != nil {
+		fail("slew", reasonOf(err))
+	}
+	it.Supply = restore(strings.TrimSpace(cell("supply")))
 }
 
 // parseQuantity reads a whole number of parts: digits only, 0 to
@@ -425,7 +458,7 @@ func WriteCSV(w io.Writer, items []Item) error {
 		}
 		rec := []string{
 			it.Kind.String(),
-			compactValue(it.Value, it.Kind),
+			"",
 			FormatTolerance(it.Tolerance),
 			strconv.Itoa(it.Quantity),
 			neutralise(it.Package),
@@ -437,6 +470,14 @@ func WriteCSV(w io.Writer, items []Item) error {
 			countCell(it.Min),
 			countCell(it.Pack),
 			neutralise(it.SupplierRef),
+			"", "", "", "", "",
+		}
+		if it.Kind == OpAmp {
+			rec[1] = neutralise(it.Name)
+			copy(rec[13:], []string{strconv.Itoa(it.Channels), compactGBW(it.GBW), compactFigure(it.DCGain),
+				compactFigure(it.Slew), neutralise(it.Supply)})
+		} else {
+			rec[1] = compactValue(it.Value, it.Kind)
 		}
 		if err := cw.Write(rec); err != nil {
 			return fmt.Errorf("write CSV: %w", err)

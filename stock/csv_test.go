@@ -163,17 +163,27 @@ func TestCSVRoundTrip(t *testing.T) {
 		{Kind: Capacitor, Value: 1e-9, Quantity: 4, Dielectric: "PP", Voltage: 0.1, Price: MoneyFromMicros(1)},
 		{Kind: Capacitor, Value: 1.0 / 3 * 1e-6, Tolerance: 0.0025, Quantity: 1, Dielectric: "PP", Note: "line one\nline two, \"quoted\""},
 		{Kind: Capacitor, Value: 2.5, Quantity: 1, Note: "''=both"},
+		// Amplifier rows: invented labels; every figure stated, none, and
+		// figures that need every digit to read back.
+		{Kind: OpAmp, Name: "GP-quad", Quantity: 6, Package: "DIP-14", Location: "D1", Channels: 4,
+			GBW: 1e6, DCGain: 100, Slew: 0.5, Supply: "±15 V", Note: "slow, general purpose"},
+		{Kind: OpAmp, Name: "=odd label", Quantity: 0, Channels: 1},
+		{Kind: OpAmp, Name: "QA-10", Quantity: 12, Package: "SO-8", Location: "D2", Channels: 2,
+			GBW: 10.37e6, DCGain: 96.5, Slew: 1.0 / 3, Supply: "3–5.5 V"},
+		{Kind: OpAmp, Name: "odd-gbw", Quantity: 1, Channels: 1, GBW: 1.0 / 3 * 1e7},
 	}
 	var buf bytes.Buffer
 	if err := WriteCSV(&buf, items); err != nil {
 		t.Fatal(err)
 	}
 	out := buf.String()
-	for _, want := range []string{"kind,value,tolerance,quantity,package,dielectric,location,note,voltage,price,min,pack,supplier-ref\n",
-		"resistor,4.7k,1%,50,0805,,A1,,,0.012,50,1000,bench order 4K7/0805\n",
-		"capacitor,2.2nF,5%,20,,C0G,B3,'+ for the 1 kHz low-pass,50V,0.30,10,,\n",
-		",'@top,''quoted,500V,,,,\"'=HYPERLINK(\"\"x\"\")\"\n", ",'=1+1,6.3V,0.00,,1,\n",
-		",PP,,,1500V,1000000.00,,,\n", ",PP,,,100mV,0.000001,,,\n"} {
+	for _, want := range []string{"kind,value,tolerance,quantity,package,dielectric,location,note,voltage,price,min,pack,supplier-ref,channels,gbw,dc-gain,slew,supply\n",
+		"resistor,4.7k,1%,50,0805,,A1,,,0.012,50,1000,bench order 4K7/0805,,,,,\n",
+		"capacitor,2.2nF,5%,20,,C0G,B3,'+ for the 1 kHz low-pass,50V,0.30,10,,,,,,,\n",
+		",'@top,''quoted,500V,,,,\"'=HYPERLINK(\"\"x\"\")\",,,,,\n", ",'=1+1,6.3V,0.00,,1,,,,,,\n",
+		",PP,,,1500V,1000000.00,,,,,,,,\n", ",PP,,,100mV,0.000001,,,,,,,,\n",
+		"opamp,GP-quad,,6,DIP-14,,D1,\"slow, general purpose\",,,,,,4,1M,100,0.5,±15 V\n",
+		"opamp,'=odd label,,0,,,,,,,,,,1,,,,\n", "opamp,QA-10,,12,SO-8,,D2,,,,,,,2,10.37M,96.5,"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("output lacks %q:\n%s", want, out)
 		}
@@ -187,6 +197,53 @@ func TestCSVRoundTrip(t *testing.T) {
 	}
 	if err := WriteCSV(&buf, []Item{{Kind: Resistor, Value: 0, Quantity: 1}}); !fault.Is(err, fault.Invalid) {
 		t.Fatalf("invalid item written: %v", err)
+	}
+}
+
+// TestReadCSVAmplifierProblems checks that bad amplifier figures are
+// refused with their line and column, and that amplifier columns on a
+// passive row are refused.
+func TestReadCSVAmplifierProblems(t *testing.T) {
+	t.Parallel()
+	in := "kind,value,quantity,channels,gbw,dc-gain,slew,supply\n" +
+		"opamp,QA-10,4,3,10M,100,,\n" + // line 2: three channels
+		"op-amp,QA-11,4,2,fast,,,\n" + // line 3: gbw not a frequency
+		"amp,QA-12,4,1,1M,-20,,\n" + // line 4: negative gain
+		"opamp,,4,1,1M,,,\n" + // line 5: no label
+		"resistor,4k7,10,2,,,,\n" + // line 6: channels on a resistor
+		"opamp,QA-13,1,4,2.5MHz,110 dB,7 V/us,±5 V\n" // good
+	_, err := ReadCSV(strings.NewReader(in))
+	ce := csvProblems(t, err)
+	want := []CSVProblem{
+		{2, "channels", `channels "3" is not 1, 2 or 4`},
+		{3, "gbw", `gain-bandwidth "fast" is not a frequency`},
+		{4, "dc-gain", `DC gain "-20" must be above 0 dB`},
+		{5, "value", "needs a label"},
+		{6, "channels", "only amplifier rows have channels"},
+	}
+	if len(ce.Problems) != len(want) {
+		t.Fatalf("problems:\n%v\nwant %d", ce, len(want))
+	}
+	for i, w := range want {
+		p := ce.Problems[i]
+		if p.Line != w.Line || p.Column != w.Column || !strings.Contains(p.Reason, w.Reason) {
+			t.Errorf("problem %d = %+v, want %+v", i, p, w)
+		}
+	}
+	items, err := ReadCSV(strings.NewReader("kind,value,quantity,channels,gbw,dc-gain,slew,supply\n" +
+		"opamp,QA-13,1,4,2.5MHz,110 dB,7 V/us,±5 V\nAMP,plain,2,,,,,\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	wantItems := []Item{
+		{Kind: OpAmp, Name: "QA-13", Quantity: 1, Channels: 4, GBW: 2.5e6, DCGain: 110, Slew: 7, Supply: "±5 V"},
+		{Kind: OpAmp, Name: "plain", Quantity: 2, Channels: 1}, // channels default to a single
+	}
+	if !reflect.DeepEqual(items, wantItems) {
+		t.Fatalf("got %+v\nwant %+v", items, wantItems)
+	}
+	if got := items[1].DCGainDB(); got != DefaultDCGainDB {
+		t.Errorf("default DC gain %v dB", got)
 	}
 }
 

@@ -77,9 +77,9 @@ func ExampleReadCSV() {
 	// Output:
 	// 4.7 kΩ 1% @A1 × 50
 	// 2.2 nF 5% C0G @C2 × 20
-	// kind,value,tolerance,quantity,package,dielectric,location,note,voltage,price,min,pack,supplier-ref
-	// resistor,4.7k,1%,50,,,A1,,,,,,
-	// capacitor,2.2nF,5%,20,,C0G,C2,,,,,,
+	// kind,value,tolerance,quantity,package,dielectric,location,note,voltage,price,min,pack,supplier-ref,channels,gbw,dc-gain,slew,supply
+	// resistor,4.7k,1%,50,,,A1,,,,,,,,,,,
+	// capacitor,2.2nF,5%,20,,C0G,C2,,,,,,,,,,,
 	// the CSV file has 2 problems:
 	//   line 2, value: resistor value "4k7k": ambiguous: a second multiplier "k" after a letter code
 	//   line 3, quantity: quantity "-3" is negative

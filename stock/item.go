@@ -23,9 +23,10 @@ const MaxQuantity = 1_000_000_000
 type Item struct {
 	// ID is the row's number in the store; 0 for a row not yet stored.
 	ID int64
-	// Kind says whether this is a resistor or a capacitor.
+	// Kind says whether this is a resistor, a capacitor or an amplifier.
 	Kind Kind
-	// Value is in ohms for resistors and farads for capacitors; > 0.
+	// Value is in ohms for resistors and farads for capacitors; > 0. It is
+	// 0 for amplifiers, which Name identifies.
 	Value float64
 	// Tolerance is a fraction (0.01 is ±1 %); 0 means not stated.
 	Tolerance float64
@@ -58,12 +59,31 @@ type Item struct {
 	// SupplierRef is free text the shop reorders by (its own code or the
 	// supplier's order code).
 	SupplierRef string
+
+	// Amplifier figures; all zero or empty for resistors and capacitors.
+	// See amp.go for their rules.
+
+	// Name is an amplifier's label, the user's own free text (the CSV
+	// value column); required for amplifiers.
+	Name string
+	// Channels is the number of amplifiers in one package: 1, 2 or 4.
+	Channels int
+	// GBW is the gain-bandwidth product in Hz; 0 means not stated.
+	GBW float64
+	// DCGain is the open-loop DC gain in dB; 0 means not stated, and
+	// DefaultDCGainDB is assumed.
+	DCGain float64
+	// Slew is the slew rate in V/µs; 0 means not stated.
+	Slew float64
+	// Supply is the supply range as free text ("±15 V", "3–5.5 V").
+	Supply string
 }
 
 // Identity is what makes two stock rows the same row: kind, value,
-// tolerance, package, dielectric and location. Text fields compare without
-// regard to ASCII letter case ("a1" is bin "A1"), as the store's unique
-// index does. Quantity and note are not part of it.
+// tolerance, package, dielectric and location, and an amplifier's label.
+// Text fields compare without regard to ASCII letter case ("a1" is bin
+// "A1"), as the store's unique index does. Quantity, note and an
+// amplifier's figures are not part of it.
 type Identity struct {
 	Kind       Kind
 	Value      float64
@@ -71,6 +91,7 @@ type Identity struct {
 	Package    string // ASCII lower case
 	Dielectric string // ASCII lower case
 	Location   string // ASCII lower case
+	Name       string // ASCII lower case
 }
 
 // asciiLower folds A-Z only, matching SQLite's NOCASE collation.
@@ -88,12 +109,17 @@ func (it Item) Identity() Identity {
 	return Identity{
 		Kind: it.Kind, Value: it.Value, Tolerance: it.Tolerance,
 		Package: asciiLower(it.Package), Dielectric: asciiLower(it.Dielectric), Location: asciiLower(it.Location),
+		Name: asciiLower(it.Name),
 	}
 }
 
 // Label is a short human description of the row without its quantity and
-// note: "4.7 kΩ 1% 0805 @A1" or "2.2 nF 5% C0G 0805 @B3".
+// note: "4.7 kΩ 1% 0805 @A1", "2.2 nF 5% C0G 0805 @B3" or, for an
+// amplifier, "QA-10 dual 10 MHz SO-8 @D1".
 func (it Item) Label() string {
+	if it.Kind == OpAmp {
+		return it.ampLabel()
+	}
 	parts := []string{FormatValue(it.Value, it.Kind)}
 	for _, s := range []string{FormatTolerance(it.Tolerance), it.Dielectric, it.Package} {
 		if s != "" {
@@ -116,12 +142,14 @@ func (it Item) Normalize() Item {
 	it.Location = squash(it.Location)
 	it.Note = strings.TrimSpace(it.Note)
 	it.SupplierRef = squash(it.SupplierRef)
+	it.Name = squash(it.Name)
+	it.Supply = squash(it.Supply)
 	return it
 }
 
 // FieldError is a problem with one field of an item.
 type FieldError struct {
-	Field  string // column name: kind, value, tolerance, quantity, package, dielectric, location, note, voltage, price, min, pack, supplier-ref
+	Field  string // column name: kind, value, tolerance, quantity, package, dielectric, location, note, voltage, price, min, pack, supplier-ref, channels, gbw, dc-gain, slew, supply
 	Reason string
 }
 
@@ -132,12 +160,15 @@ type FieldError struct {
 // (not rated) or in [MinVoltage, MaxVoltage]; a price of at most MaxPrice;
 // no dielectric on a resistor; text fields valid UTF-8, free of control
 // characters (the note may hold line breaks and tabs) and at most MaxText
-// characters.
+// characters. Amplifiers follow ampProblems: a label instead of a value,
+// and their own figures.
 func (it Item) Problems() []FieldError {
 	var out []FieldError
 	add := func(f, r string) { out = append(out, FieldError{f, r}) }
 	if !it.Kind.Valid() {
 		add("kind", "unknown kind "+it.Kind.String())
+	} else if it.Kind == OpAmp {
+		out = append(out, it.ampProblems()...)
 	} else {
 		lo, hi := MinResistance, MaxResistance
 		if it.Kind == Capacitor {
@@ -176,9 +207,12 @@ func (it Item) Problems() []FieldError {
 	if it.Kind == Resistor && it.Dielectric != "" {
 		add("dielectric", "a resistor has no dielectric (put the resistor type in the note)")
 	}
+	if it.Kind.Passive() {
+		out = append(out, it.passiveAmpFields()...)
+	}
 	for _, f := range []struct{ name, v string }{
 		{"package", it.Package}, {"dielectric", it.Dielectric}, {"location", it.Location}, {"note", it.Note},
-		{"supplier-ref", it.SupplierRef},
+		{"supplier-ref", it.SupplierRef}, {"value", it.Name}, {"supply", it.Supply},
 	} {
 		if r := textProblem(f.v, f.name == "note"); r != "" {
 			add(f.name, r)

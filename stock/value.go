@@ -67,6 +67,9 @@ func ParseValue(s string, k Kind) (float64, error) {
 	if !k.Valid() {
 		return 0, fault.Invalidf("value %q: unknown part kind %v", s, k)
 	}
+	if !k.Passive() {
+		return 0, fault.Invalidf("value %q: an amplifier is named by a label, not a number value", s)
+	}
 	v, err := parseValue(s, k)
 	if err != nil {
 		return 0, fault.Invalidf("%s value %q: %s", k, s, err.msg)

@@ -39,8 +39,26 @@ func migrate(ctx context.Context, sdb *sql.DB, path string, ms []migrations.Migr
 
 // migrateStep applies the next migration, if any, and reports whether it
 // did.
-func migrateStep(ctx context.Context, sdb *sql.DB, path string, ms []migrations.Migration, known int) (bool, error) {
-	tx, err := sdb.BeginTx(ctx, nil)
+//
+// A step runs on one connection with foreign-key enforcement off, as the
+// SQLite manual's procedure for rebuilding a table requires (the pragma
+// cannot change inside a transaction); PRAGMA foreign_key_check then
+// refuses a step that leaves a broken reference, before the commit.
+func migrateStep(ctx context.Context, sdb *sql.DB, path string, ms []migrations.Migration, known int) (applied bool, err error) {
+	conn, err := sdb.Conn(ctx)
+	if err != nil {
+		return false, fmt.Errorf("open stock database %s: %w", path, err)
+	}
+	defer conn.Close()
+	if _, err := conn.ExecContext(ctx, `PRAGMA foreign_keys = OFF`); err != nil {
+		return false, fmt.Errorf("open stock database %s: %w", path, err)
+	}
+	defer func() {
+		if _, rerr := conn.ExecContext(context.Background(), `PRAGMA foreign_keys = ON`); rerr != nil && err == nil {
+			applied, err = false, fmt.Errorf("open stock database %s: %w", path, rerr)
+		}
+	}()
+	tx, err := conn.BeginTx(ctx, nil)
 	if err != nil {
 		return false, fmt.Errorf("open stock database %s: %w", path, err)
 	}

@@ -6,6 +6,7 @@ import (
 	"net/url"
 	"path/filepath"
 	"strconv"
+	"strings"
 	"testing"
 
 	"drawerfit/migrations"
@@ -63,6 +64,11 @@ var seeds = map[int]string{
 	// resistor, a rating on the capacitor.
 	shopVersion: `UPDATE stock SET price_micros = 12000, min_stock = 40, pack = 100, supplier_ref = 'bag 4K7' WHERE id = 1;
 	    UPDATE stock SET voltage = 50 WHERE id = 2;`,
+	// An amplifier row (invented label) with its first ledger entry.
+	shopVersion + 1: `INSERT INTO stock (kind, value, quantity, package, location, label, channels, gbw, dc_gain, created_at, updated_at)
+	        VALUES ('opamp', 0, 5, 'SO-8', 'E1', 'seed dual', 2, 1e7, 110, '2029-05-05T10:00:00.000000000Z', '2029-05-05T10:00:00.000000000Z');
+	    INSERT INTO movement (stock_id, delta, balance, reason, at)
+	        VALUES (3, 5, 5, 'import', '2029-05-05T10:00:00.000000000Z');`,
 }
 
 // shopVersion is the schema version that added the shop's attributes.
@@ -115,6 +121,13 @@ func TestMigrationsFromEveryVersion(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
+			if v >= shopVersion+1 {
+				// The version-4 amplifier row survives every later migration.
+				if len(items) != 3 || items[2].Name != "seed dual" || items[2].Channels != 2 || items[2].GBW != 1e7 || items[2].DCGain != 110 {
+					t.Fatalf("seed amplifier after migrating: %+v", items)
+				}
+				items = items[:2]
+			}
 			if v >= 1 {
 				// The version-1 seed survives every later migration.
 				if len(items) != 2 || items[0].Quantity != 48 || items[0].Note != "seed" || items[1].Dielectric != "C0G" {
@@ -163,6 +176,40 @@ func TestMigrationsFromEveryVersion(t *testing.T) {
 			}
 		}
 	})
+}
+
+// TestMigrationBreakingForeignKeysRefused: steps run with enforcement off
+// (to allow table rebuilds), so the runner's check must refuse a step that
+// leaves the ledger pointing at a row that is gone.
+func TestMigrationBreakingForeignKeysRefused(t *testing.T) {
+	ctx := context.Background()
+	path := filepath.Join(t.TempDir(), "dangling.db")
+	buildAtVersion(t, path, migrations.Latest())
+	u := url.URL{Scheme: "file", Path: filepath.ToSlash(path), RawQuery: dsnQuery() + "&_pragma=journal_mode(WAL)"}
+	sdb, err := sql.Open("sqlite", u.String())
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer sdb.Close()
+	dangling := append(migrations.All(), migrations.Migration{
+		Version: migrations.Latest() + 1, Name: "9999_dangling.sql",
+		SQL: `DELETE FROM build_movement; DELETE FROM design_stock; DELETE FROM stock WHERE id = 1;`,
+	})
+	if err := migrate(ctx, sdb, path, dangling); err == nil || !strings.Contains(err.Error(), "foreign keys") {
+		t.Fatalf("migration leaving dangling ledger rows: %v", err)
+	}
+	var v, rows int
+	sdb.QueryRow(`SELECT MAX(version) FROM schema_version`).Scan(&v)
+	sdb.QueryRow(`SELECT COUNT(*) FROM stock WHERE id = 1`).Scan(&rows)
+	if v != migrations.Latest() || rows != 1 {
+		t.Fatalf("after the refused step: version %d, row 1 present %d", v, rows)
+	}
+	// Enforcement is back on for the connections the pool hands out.
+	var fk int
+	sdb.QueryRow(`PRAGMA foreign_keys`).Scan(&fk)
+	if fk != 1 {
+		t.Fatalf("foreign_keys = %d after migrating", fk)
+	}
 }
 
 // TestMigrationFailureRollsBack applies a broken migration after the real

@@ -11,7 +11,8 @@ import (
 )
 
 const itemColumns = `id, kind, value, tolerance, quantity, package, dielectric, location, note,
-	voltage, price_micros, min_stock, pack, supplier_ref`
+	voltage, price_micros, min_stock, pack, supplier_ref,
+	label, channels, gbw, dc_gain, slew, supply`
 
 // itemColumnsOf is itemColumns of the table aliased a.
 func itemColumnsOf(a string) string {
@@ -31,7 +32,8 @@ func scanItem(s scanner, before ...any) (stock.Item, error) {
 	var price sql.NullInt64
 	dest := append(before, &it.ID, &kind, &it.Value, &it.Tolerance, &it.Quantity,
 		&it.Package, &it.Dielectric, &it.Location, &it.Note,
-		&it.Voltage, &price, &it.Min, &it.Pack, &it.SupplierRef)
+		&it.Voltage, &price, &it.Min, &it.Pack, &it.SupplierRef,
+		&it.Name, &it.Channels, &it.GBW, &it.DCGain, &it.Slew, &it.Supply)
 	if err := s.Scan(dest...); err != nil {
 		return it, err
 	}
@@ -55,8 +57,9 @@ type querier interface {
 	QueryRowContext(ctx context.Context, q string, args ...any) *sql.Row
 }
 
-// List returns the rows in the inventory that f selects: resistors first,
-// then by value, tolerance, package, dielectric, location and id.
+// List returns the rows in the inventory that f selects: resistors, then
+// capacitors, then amplifiers, each by value (amplifiers by label),
+// tolerance, package, dielectric, location and id.
 func (db *DB) List(ctx context.Context, f stock.Filter) ([]stock.Item, error) {
 	return list(ctx, db.sql, f)
 }
@@ -68,7 +71,8 @@ func list(ctx context.Context, q querier, f stock.Filter) ([]stock.Item, error) 
 		query += ` AND kind = ?`
 		args = append(args, f.Kind.String())
 	}
-	query += ` ORDER BY CASE kind WHEN 'resistor' THEN 0 ELSE 1 END, value, tolerance,
+	query += ` ORDER BY CASE kind WHEN 'resistor' THEN 0 WHEN 'capacitor' THEN 1 ELSE 2 END, value,
+		label COLLATE NOCASE, tolerance,
 		package COLLATE NOCASE, dielectric COLLATE NOCASE, location COLLATE NOCASE, id`
 	rows, err := q.QueryContext(ctx, query, args...)
 	if err != nil {
@@ -111,9 +115,9 @@ func get(ctx context.Context, q querier, id int64) (stock.Item, error) {
 // findIdentity returns the row in the inventory with it's identity, if any.
 func findIdentity(ctx context.Context, q querier, it stock.Item) (stock.Item, bool, error) {
 	got, err := scanItem(q.QueryRowContext(ctx, `SELECT `+itemColumns+` FROM stock
-		WHERE removed_at IS NULL AND kind = ? AND value = ? AND tolerance = ?
+		WHERE removed_at IS NULL AND kind = ? AND value = ? AND label = ? COLLATE NOCASE AND tolerance = ?
 		  AND package = ? COLLATE NOCASE AND dielectric = ? COLLATE NOCASE AND location = ? COLLATE NOCASE`,
-		it.Kind.String(), it.Value, it.Tolerance, it.Package, it.Dielectric, it.Location))
+		it.Kind.String(), it.Value, it.Name, it.Tolerance, it.Package, it.Dielectric, it.Location))
 	if isNoRows(err) {
 		return stock.Item{}, false, nil
 	}
@@ -121,6 +125,17 @@ func findIdentity(ctx context.Context, q querier, it stock.Item) (stock.Item, bo
 		return stock.Item{}, false, fmt.Errorf("look up %s: %w", it.Label(), err)
 	}
 	return got, true, nil
+}
+
+// sameFigures refuses to merge an amplifier row into a stored row of the
+// same identity whose figures differ: adding the quantity would silently
+// keep the one and drop the other.
+func sameFigures(old, it stock.Item) error {
+	if old.Kind != stock.OpAmp || stock.SameAmpFigures(old, it) {
+		return nil
+	}
+	return fault.Conflictf("row %d (%s) has the same label, package and location as %s but other figures; "+
+		"give the new parts another label or location, or correct the row", old.ID, old.Label(), it.Label())
 }
 
 // prepare normalises and validates an item for storing.
@@ -151,10 +166,12 @@ func (tx *Tx) insert(ctx context.Context, it stock.Item, reason string) (stock.I
 	at := formatTime(tx.at)
 	res, err := tx.ExecContext(ctx, `INSERT INTO stock
 		(kind, value, tolerance, quantity, package, dielectric, location, note,
-		 voltage, price_micros, min_stock, pack, supplier_ref, created_at, updated_at)
-		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		 voltage, price_micros, min_stock, pack, supplier_ref, created_at, updated_at,
+		 label, channels, gbw, dc_gain, slew, supply)
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
 		it.Kind.String(), it.Value, it.Tolerance, it.Quantity, it.Package, it.Dielectric, it.Location, it.Note,
-		it.Voltage, priceArg(it.Price), it.Min, it.Pack, it.SupplierRef, at, at)
+		it.Voltage, priceArg(it.Price), it.Min, it.Pack, it.SupplierRef, at, at,
+		it.Name, it.Channels, it.GBW, it.DCGain, it.Slew, it.Supply)
 	if err != nil {
 		return it, fmt.Errorf("add %s: %w", it.Label(), err)
 	}
@@ -281,6 +298,9 @@ func (tx *Tx) Add(ctx context.Context, item stock.Item, reason string) (stock.It
 	if !found {
 		it, err = tx.insert(ctx, it, reason)
 		return it, false, err
+	}
+	if err := sameFigures(old, it); err != nil {
+		return old, true, err
 	}
 	if old.Quantity+it.Quantity > stock.MaxQuantity {
 		return old, true, fault.Invalidf("row %d would hold more than %d parts", old.ID, stock.MaxQuantity)
@@ -460,6 +480,9 @@ func (tx *Tx) Import(ctx context.Context, items []stock.Item, replace bool) (sto
 		}
 		id := it.Identity()
 		if prev, ok := merged[id]; ok {
+			if err := sameFigures(prev, it); err != nil {
+				return sum, fault.Invalidf("item %d (%s): an earlier item has the same label, package and location but other figures", i+1, it.Label())
+			}
 			prev.Quantity += it.Quantity
 			if prev.Quantity > stock.MaxQuantity {
 				return sum, fault.Invalidf("item %d (%s): the rows of this identity hold more than %d parts", i+1, it.Label(), stock.MaxQuantity)
@@ -506,6 +529,13 @@ func (tx *Tx) Import(ctx context.Context, items []stock.Item, replace bool) (sto
 			if old, err = tx.writeAttrs(ctx, old, it, reason); err != nil {
 				return sum, err
 			}
+			if old.Kind == stock.OpAmp && !stock.SameAmpFigures(old, it) {
+				// The file is the inventory now: its figures win.
+				if _, err := tx.ExecContext(ctx, `UPDATE stock SET channels = ?, gbw = ?, dc_gain = ?, slew = ?, supply = ?,
+					updated_at = ? WHERE id = ?`, it.Channels, it.GBW, it.DCGain, it.Slew, it.Supply, formatTime(tx.at), old.ID); err != nil {
+					return sum, fmt.Errorf("update figures of row %d: %w", old.ID, err)
+				}
+			}
 			if _, err := tx.setQuantity(ctx, old, it.Quantity, reason); err != nil {
 				return sum, err
 			}
@@ -525,6 +555,9 @@ func (tx *Tx) Import(ctx context.Context, items []stock.Item, replace bool) (sto
 			return sum, err
 		}
 		if found {
+			if err := sameFigures(old, it); err != nil {
+				return sum, err
+			}
 			if old.Quantity+it.Quantity > stock.MaxQuantity {
 				return sum, fault.Invalidf("row %d (%s) would hold more than %d parts", old.ID, old.Label(), stock.MaxQuantity)
 			}

@@ -27,6 +27,11 @@ func newStockCmd(env *Env) *cobra.Command {
 value, tolerance, package, dielectric and location, with a quantity. Every
 change of a quantity is written to a ledger with its reason and time.
 
+Amplifiers are rows too (kind opamp): the value is your own label for the
+part, the quantity counts packages, and the row may state channels (1, 2 or
+4 per package), gbw (gain-bandwidth, 10M or 10 MHz), dc-gain (dB; 100 when
+not stated), slew (V/µs) and supply (free text).
+
 Values are read as plain numbers (4700), with SI prefixes (4.7k, 47nF,
 0.047uF) or in the IEC 60062 code (4K7, R47, 1M0, 2n2, 4u7, p68).
 Capacitor values need a prefix or the unit F: a bare 103 or 0.1 is refused,
@@ -75,13 +80,21 @@ type itemJSON struct {
 	Min         *int     `json:"min"`
 	Pack        *int     `json:"pack"`
 	SupplierRef string   `json:"supplier_ref"`
+	// Amplifier rows only (value is 0 for them).
+	Label    string  `json:"label,omitempty"`
+	Channels int     `json:"channels,omitempty"`
+	GBW      float64 `json:"gbw_hz,omitempty"`
+	DCGain   float64 `json:"dc_gain_db,omitempty"`
+	Slew     float64 `json:"slew_v_per_us,omitempty"`
+	Supply   string  `json:"supply,omitempty"`
 }
 
 func toItemJSON(it stock.Item) itemJSON {
 	return itemJSON{ID: it.ID, Kind: it.Kind.String(), Value: it.Value, Tolerance: it.Tolerance,
 		Quantity: it.Quantity, Package: it.Package, Dielectric: it.Dielectric, Location: it.Location, Note: it.Note,
 		Voltage: nonZero(it.Voltage), Price: moneyJSON(it.Price), Min: nonZero(it.Min), Pack: nonZero(it.Pack),
-		SupplierRef: it.SupplierRef}
+		SupplierRef: it.SupplierRef,
+		Label:       it.Name, Channels: it.Channels, GBW: it.GBW, DCGain: it.DCGain, Slew: it.Slew, Supply: it.Supply}
 }
 
 // nonZero is nil for the zero value (an attribute not set), else &v.
@@ -131,8 +144,12 @@ any letter case. voltage is the rated voltage (50, 50V, 6.3 V, 1kV); price
 is the unit price as a decimal with a point (0.012), read exactly, in the
 shop's one currency (drawerfit converts no currencies); min is the quantity
 below which the row should be reordered; pack is the pack size it is
-bought in. kind is resistor, capacitor, R or C. The file may
-be UTF-8 with or without a byte order mark, with LF or CRLF line ends.
+bought in. kind is resistor, capacitor, R or C, or opamp (also op-amp or
+amp) for amplifier packages: their value is a label of your own, their
+quantity counts packages, and they may fill the columns channels (1, 2 or
+4; 1 when empty), gbw (Hz, 10M or 10 MHz), dc-gain (dB, 100 when empty),
+slew (V/us) and supply (free text). The file may be UTF-8 with or without a
+byte order mark, with LF or CRLF line ends.
 
 If any row is bad nothing is imported: every problem is listed with its line,
 column and reason. A row whose kind, value, tolerance, package, dielectric
@@ -217,7 +234,8 @@ On a terminal it draws a table; piped, it prints tab-separated lines. --json
 prints an array of objects with the keys id, kind, value (ohms or farads),
 tolerance (a fraction), quantity, package, dielectric, location, note,
 voltage (volts), price (an exact decimal string), min, pack (null when not
-set) and supplier_ref.
+set) and supplier_ref; amplifier rows (value 0) add label, channels,
+gbw_hz, dc_gain_db (when stated), slew_v_per_us and supply.
 
 --csv FILE lists a CSV file instead of the database, without storing it:
 a quick look at a drawer, and a check that the file would import.`,
@@ -228,11 +246,14 @@ a quick look at a drawer, and a check that the file would import.`,
   drawerfit stock list --csv sample-stock.csv
 
   # Resistors with fewer than ten left, for the next order
-  drawerfit stock list --kind R --json | jq '.[] | select(.quantity < 10)'`,
+  drawerfit stock list --kind R --json | jq '.[] | select(.quantity < 10)'
+
+  # The amplifier packages in the drawer
+  drawerfit stock list --kind opamp`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error { return runStockList(cmd.Context(), env, o) },
 	}
-	cmd.Flags().StringVar(&o.Kind, "kind", "", "only this kind: resistor, capacitor, R or C")
+	cmd.Flags().StringVar(&o.Kind, "kind", "", "only this kind: resistor, capacitor, R, C or opamp")
 	cmd.Flags().StringVar(&o.CSV, "csv", "", "list this CSV file instead of the database")
 	cmd.Flags().BoolVar(&o.JSON, "json", false, "print JSON")
 	return cmd
@@ -269,9 +290,9 @@ func runStockList(ctx context.Context, env *Env, o stockListOptions) error {
 	g := newGrid("ID", "Kind", "Value", "Tol", "Qty", "Package", "Dielectric", "Location", "Rated", "Price", "Min", "Note").right(0, 2, 3, 4, 8, 9, 10)
 	parts := 0
 	for _, it := range items {
-		g.add(strconv.FormatInt(it.ID, 10), it.Kind.String(), stock.FormatValue(it.Value, it.Kind),
+		g.add(strconv.FormatInt(it.ID, 10), it.Kind.String(), it.ValueText(),
 			stock.FormatTolerance(it.Tolerance), strconv.Itoa(it.Quantity), it.Package, it.Dielectric,
-			it.Location, stock.FormatVoltage(it.Voltage), it.Price.String(), countText(it.Min), oneLine(it.Note))
+			it.Location, stock.FormatVoltage(it.Voltage), it.Price.String(), countText(it.Min), oneLine(ampFigures(it, it.Note)))
 		parts += it.Quantity
 	}
 	g.footer = []string{"", "", "", "", strconv.Itoa(parts), "", "", "", "", "", "", fmt.Sprintf("%d rows", len(items))}
@@ -285,6 +306,36 @@ func countText(n int) string {
 		return ""
 	}
 	return strconv.Itoa(n)
+}
+
+// ampFigures puts an amplifier row's figures before its note: "dual,
+// 10 MHz, 100 dB (not stated), 7 V/µs, ±5 V; note".
+func ampFigures(it stock.Item, note string) string {
+	if it.Kind != stock.OpAmp {
+		return note
+	}
+	f := []string{stock.PackageWord(it.Channels)}
+	if it.GBW > 0 {
+		f = append(f, stock.FormatGBW(it.GBW))
+	} else {
+		f = append(f, "gbw not stated")
+	}
+	if it.DCGain > 0 {
+		f = append(f, strconv.FormatFloat(it.DCGain, 'g', -1, 64)+" dB")
+	} else {
+		f = append(f, fmt.Sprintf("%d dB assumed", stock.DefaultDCGainDB))
+	}
+	if it.Slew > 0 {
+		f = append(f, strconv.FormatFloat(it.Slew, 'g', 4, 64)+" V/µs")
+	}
+	if it.Supply != "" {
+		f = append(f, it.Supply)
+	}
+	text := strings.Join(f, ", ")
+	if note != "" {
+		text += "; " + note
+	}
+	return text
 }
 
 // oneLine keeps a table cell on one line.
@@ -306,6 +357,12 @@ type stockAddOptions struct {
 	Reason     string
 	JSON       bool
 	Attrs      attrFlags
+	// Amplifier rows only.
+	Channels string
+	GBW      string
+	DCGain   string
+	Slew     string
+	Supply   string
 }
 
 // attrFlags are the flags of the shop's attributes, shared by stock add
@@ -383,7 +440,10 @@ func newStockAddCmd(env *Env) *cobra.Command {
 		Long: `Add puts parts into the stock. If a row with the same kind, value,
 tolerance, package, dielectric and location exists, the quantity is added to
 it; otherwise a new row is made. VALUE is written as for import (4K7, 4.7k,
-2n2, 470pF).`,
+2n2, 470pF). For an amplifier (--kind opamp) VALUE is your own label for the
+part, --qty counts packages, and --channels, --gbw, --dc-gain, --slew and
+--supply describe it; adding to an existing amplifier row needs the same
+figures.`,
 		Example: `  # A strip of fifty 4.7 kΩ 1 % 0805 resistors for bin A3
   drawerfit stock add 4K7 --kind R --qty 50 --tol 1% --package 0805 --location A3
 
@@ -391,7 +451,10 @@ it; otherwise a new row is made. VALUE is written as for import (4K7, 4.7k,
   drawerfit stock add 10n --kind C --qty 20 --tol 5% --dielectric PP --package radial --location D2 --reason "audio order"
 
   # A bag of 100 C0G capacitors rated 50 V, with its price and reorder point
-  drawerfit stock add 4n7 --kind C --qty 100 --tol 5% --dielectric C0G --location C2 --voltage 50V --price 0.045 --min 30 --pack 100`,
+  drawerfit stock add 4n7 --kind C --qty 100 --tol 5% --dielectric C0G --location C2 --voltage 50V --price 0.045 --min 30 --pack 100
+
+  # Eight dual amplifiers of 10 MHz for bin E2, labelled as on the bag
+  drawerfit stock add "bag 7 dual" --kind opamp --qty 8 --channels 2 --gbw 10M --dc-gain 110 --package SO-8 --location E2`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			o.Value = args[0]
@@ -401,8 +464,8 @@ it; otherwise a new row is made. VALUE is written as for import (4K7, 4.7k,
 	}
 	o.Attrs.bind(cmd)
 	fl := cmd.Flags()
-	fl.StringVar(&o.Kind, "kind", "", "resistor, capacitor, R or C (required)")
-	fl.IntVar(&o.Qty, "qty", 0, "number of parts (required)")
+	fl.StringVar(&o.Kind, "kind", "", "resistor, capacitor, R, C or opamp (required)")
+	fl.IntVar(&o.Qty, "qty", 0, "number of parts; of packages for an amplifier (required)")
 	fl.StringVar(&o.Tol, "tol", "", "tolerance: 1%, ±0.5% or an IEC 60062 letter (F, J, K...)")
 	fl.StringVar(&o.Package, "package", "", "package, e.g. 0805, 1206, axial, radial")
 	fl.StringVar(&o.Dielectric, "dielectric", "", "capacitor dielectric: C0G, NP0, PP, PET, PS, mica, X7R, electrolytic...")
@@ -410,6 +473,11 @@ it; otherwise a new row is made. VALUE is written as for import (4K7, 4.7k,
 	fl.StringVar(&o.Note, "note", "", "free text")
 	fl.StringVar(&o.Reason, "reason", "added", "reason written to the ledger")
 	fl.BoolVar(&o.JSON, "json", false, "print the stored row as JSON")
+	fl.StringVar(&o.Channels, "channels", "", "amplifier: amplifiers per package, 1, 2 or 4 (default 1)")
+	fl.StringVar(&o.GBW, "gbw", "", "amplifier: gain-bandwidth product, e.g. 10M or 10MHz")
+	fl.StringVar(&o.DCGain, "dc-gain", "", fmt.Sprintf("amplifier: open-loop DC gain in dB (%d when not given)", stock.DefaultDCGainDB))
+	fl.StringVar(&o.Slew, "slew", "", "amplifier: slew rate in V/µs")
+	fl.StringVar(&o.Supply, "supply", "", `amplifier: supply range, free text ("±15 V")`)
 	cmd.MarkFlagRequired("kind")
 	cmd.MarkFlagRequired("qty")
 	return cmd
@@ -420,22 +488,36 @@ func runStockAdd(ctx context.Context, env *Env, o stockAddOptions) error {
 	if err != nil {
 		return err
 	}
-	v, err := stock.ParseValue(o.Value, k)
-	if err != nil {
-		return err
-	}
 	if o.Qty < 0 {
 		return fault.Invalidf("--qty %d is negative; use stock set to lower a count", o.Qty)
 	}
-	it := stock.Item{Kind: k, Value: v, Quantity: o.Qty, Package: o.Package, Dielectric: o.Dielectric,
-		Location: o.Location, Note: o.Note}
+	var it stock.Item
+	if k == stock.OpAmp {
+		if it, err = ampItem(o); err != nil {
+			return err
+		}
+	} else {
+		for _, f := range [][2]string{{"channels", o.Channels}, {"gbw", o.GBW}, {"dc-gain", o.DCGain}, {"slew", o.Slew}, {"supply", o.Supply}} {
+			if f[1] != "" {
+				return fault.Invalidf("--%s is for amplifier rows (--kind opamp), not a %s", f[0], k)
+			}
+		}
+		v, err := stock.ParseValue(o.Value, k)
+		if err != nil {
+			return err
+		}
+		it = stock.Item{Kind: k, Value: v}
+	}
+	it.Quantity, it.Package, it.Dielectric, it.Location, it.Note = o.Qty, o.Package, o.Dielectric, o.Location, o.Note
 	attrs, err := o.Attrs.attrs()
 	if err != nil {
 		return err
 	}
 	it = attrs.Apply(it)
-	if strings.TrimSpace(o.Tol) != "" {
-		if it.Tolerance, err = stock.ParseToleranceFor(o.Tol, k, v); err != nil {
+	if strings.TrimSpace(o.Tol) != "" && k == stock.OpAmp {
+		return fault.Invalidf("--tol: an amplifier has no tolerance")
+	} else if strings.TrimSpace(o.Tol) != "" {
+		if it.Tolerance, err = stock.ParseToleranceFor(o.Tol, k, it.Value); err != nil {
 			return err
 		}
 	}
@@ -457,6 +539,29 @@ func runStockAdd(ctx context.Context, env *Env, o stockAddOptions) error {
 		fmt.Fprintf(env.Out, "#%d %s: new row, %d on hand\n", got.ID, got.Label(), got.Quantity)
 	}
 	return nil
+}
+
+// ampItem reads an amplifier row from stock add's options, naming the
+// flag of a bad figure.
+func ampItem(o stockAddOptions) (stock.Item, error) {
+	it := stock.Item{Kind: stock.OpAmp, Name: o.Value, Supply: o.Supply}
+	var err error
+	if it.Channels, err = stock.ParseChannels(o.Channels); err != nil {
+		return it, fault.Invalidf("--channels: %w", err)
+	}
+	if it.GBW, err = stock.ParseGBW(o.GBW); err != nil {
+		return it, fault.Invalidf("--gbw: %w", err)
+	}
+	if it.DCGain, err = stock.ParseDCGain(o.DCGain); err != nil {
+		return it, fault.Invalidf("--dc-gain: %w", err)
+	}
+	if it.Slew, err = stock.ParseSlew(o.Slew); err != nil {
+		return it, fault.Invalidf("--slew: %w", err)
+	}
+	if strings.TrimSpace(it.Name) == "" {
+		return it, fault.Invalidf("an amplifier needs a label as VALUE (your own name for the part)")
+	}
+	return it, nil
 }
 
 // ---- set ----

@@ -3,6 +3,7 @@ package cli
 import (
 	"bytes"
 	"encoding/json"
+	"fmt"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -61,6 +62,16 @@ func (s *stockEnv) createEmpty() *stockEnv {
 	}
 	db.Close()
 	return s
+}
+
+// fail runs a command that must fail and returns its stderr.
+func (s *stockEnv) fail(args ...string) string {
+	s.t.Helper()
+	_, errs, code := s.run("", args...)
+	if code == 0 {
+		s.t.Fatalf("drawerfit %s succeeded", strings.Join(args, " "))
+	}
+	return errs
 }
 
 func (s *stockEnv) write(name, content string) string {
@@ -207,6 +218,9 @@ func TestStockExportImportRoundTrip(t *testing.T) {
 	if h := s.ok("stock", "history", "1"); !strings.Contains(h, "price none -> 0.012") || !strings.Contains(h, "min none -> 50") {
 		t.Fatalf("price and min changes not in the history:\n%s", h)
 	}
+	s.ok("stock", "add", "bag 7 dual", "--kind", "opamp", "--qty", "8", "--channels", "2", "--gbw", "10.5 MHz",
+		"--dc-gain", "96.5", "--slew", "7", "--supply", "±5 V", "--package", "SO-8", "--location", "E2")
+	s.ok("stock", "add", "=spare single", "--kind", "amp", "--qty", "1")
 	exported := filepath.Join(s.dir, "export.csv")
 	s.ok("stock", "export", exported)
 	fresh := newStockEnv(t)
@@ -225,8 +239,10 @@ func TestStockExportImportRoundTrip(t *testing.T) {
 	if out := s.ok("stock", "export"); out != string(file) {
 		t.Fatalf("stdout export differs from file export")
 	}
-	if !strings.Contains(string(file), ",'+top,'=trim pot spare,,,,,\n") || !strings.Contains(string(file), ",500V,0.30,,,'@order\n") ||
-		!strings.Contains(string(file), ",150V,0.012,50,100,reel R-4K7\n") {
+	if !strings.Contains(string(file), ",'+top,'=trim pot spare,,,,,,,,,,\n") || !strings.Contains(string(file), ",500V,0.30,,,'@order,,,,,\n") ||
+		!strings.Contains(string(file), ",150V,0.012,50,100,reel R-4K7,,,,,\n") ||
+		!strings.Contains(string(file), "opamp,bag 7 dual,,8,SO-8,,E2,,,,,,,2,10.5M,96.5,7,±5 V\n") ||
+		!strings.Contains(string(file), "opamp,'=spare single,,1,,,,,,,,,,1,,,,\n") {
 		t.Fatalf("formula cells not neutralised:\n%s", file)
 	}
 	// No temporary file is left beside the export.
@@ -235,6 +251,45 @@ func TestStockExportImportRoundTrip(t *testing.T) {
 		if strings.HasSuffix(e.Name(), ".tmp") {
 			t.Errorf("temporary file left: %s", e.Name())
 		}
+	}
+}
+
+// TestStockAmplifierRows: amplifier rows through add, list --kind, set and
+// history, and the refusals of bad figures naming the flag.
+func TestStockAmplifierRows(t *testing.T) {
+	s := newStockEnv(t)
+	s.ok("stock", "import", s.write("drawer.csv", smallDrawer))
+	out := s.ok("stock", "add", "QA-10", "--kind", "op-amp", "--qty", "6", "--channels", "dual", "--gbw", "10M", "--package", "SO-8", "--location", "E1")
+	if !strings.Contains(out, "QA-10 dual 10 MHz SO-8 @E1: new row, 6 on hand") {
+		t.Fatalf("add: %q", out)
+	}
+	// The same identity with the same figures merges; other figures refuse.
+	s.ok("stock", "add", "qa-10", "--kind", "opamp", "--qty", "2", "--channels", "2", "--gbw", "10M", "--package", "SO-8", "--location", "e1")
+	if msg := s.fail("stock", "add", "QA-10", "--kind", "opamp", "--qty", "1", "--channels", "4", "--gbw", "10M", "--package", "SO-8", "--location", "E1"); !strings.Contains(msg, "other figures") {
+		t.Fatalf("conflicting figures: %q", msg)
+	}
+	for _, c := range [][]string{
+		{"--channels", "3", "--channels"}, {"--gbw", "fast", "--gbw"}, {"--dc-gain", "-3", "--dc-gain"}, {"--tol", "1%", "--tol"},
+	} {
+		if msg := s.fail("stock", "add", "X", "--kind", "opamp", "--qty", "1", c[0], c[1]); !strings.Contains(msg, c[2]) {
+			t.Errorf("%v: %q", c, msg)
+		}
+	}
+	if msg := s.fail("stock", "add", "4k7", "--kind", "R", "--qty", "1", "--gbw", "1M"); !strings.Contains(msg, "--gbw is for amplifier rows") {
+		t.Errorf("gbw on a resistor: %q", msg)
+	}
+	items := s.listJSON("--kind", "opamp")
+	if len(items) != 1 || items[0]["label"] != "QA-10" || items[0]["quantity"] != 8.0 || items[0]["channels"] != 2.0 || items[0]["gbw_hz"] != 1e7 {
+		t.Fatalf("list --kind opamp: %v", items)
+	}
+	id := fmt.Sprint(items[0]["id"])
+	s.ok("stock", "set", id, "--qty", "5", "--reason", "three used on the bench")
+	hist := s.ok("stock", "history", id)
+	if !strings.Contains(hist, "three used on the bench") || !strings.Contains(hist, "QA-10") {
+		t.Fatalf("history:\n%s", hist)
+	}
+	if list := s.ok("stock", "list", "--kind", "amp"); !strings.Contains(list, "QA-10") || !strings.Contains(list, "100 dB assumed") {
+		t.Fatalf("list:\n%s", list)
 	}
 }
 
