@@ -7,6 +7,7 @@ import (
 )
 
 func TestEmbeddedSetIsNumberedWithoutGaps(t *testing.T) {
+	t.Parallel()
 	ms := All()
 	if len(ms) == 0 || Latest() != len(ms) {
 		t.Fatalf("Latest() = %d with %d migrations", Latest(), len(ms))
@@ -22,6 +23,7 @@ func TestEmbeddedSetIsNumberedWithoutGaps(t *testing.T) {
 }
 
 func TestLoadRejectsBadSets(t *testing.T) {
+	t.Parallel()
 	sql := &fstest.MapFile{Data: []byte("CREATE TABLE t (x);")}
 	cases := []struct {
 		name  string

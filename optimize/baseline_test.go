@@ -233,6 +233,7 @@ func yesNo(b bool) string {
 // table. It fails when the fit with single parts finds a best response error
 // worse than the hand procedure's, whose assignment is one the fit searches.
 func TestHandProcedureBaselineTable(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("seven orders, four fits each")
 	}

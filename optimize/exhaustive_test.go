@@ -144,6 +144,7 @@ func exhaustiveBest(d *synth.Design, res, caps []float64) float64 {
 }
 
 func TestFitMatchesExhaustiveSearch(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name   string
 		spec   synth.Spec
@@ -164,6 +165,7 @@ func TestFitMatchesExhaustiveSearch(t *testing.T) {
 	for _, tc := range cases {
 		for seed := uint64(1); seed <= 2; seed++ {
 			t.Run(tc.name+"-seed"+string(rune('0'+seed)), func(t *testing.T) {
+				t.Parallel()
 				items := smallStock(seed, tc.nr, tc.nc)
 				o := DefaultOptions()
 				o.Rank, o.ShowFailing, o.Top = RankError, true, 1
@@ -201,6 +203,7 @@ func TestFitMatchesExhaustiveSearch(t *testing.T) {
 // cancel each other's deviations (found in review: adding two rows made the
 // first fit worse). The fit must still find the exhaustive optimum.
 func TestFitPoorStockMatchesExhaustive(t *testing.T) {
+	t.Parallel()
 	var items []stock.Item
 	for i, v := range []float64{4.7e3, 15e3, 22e3, 47e3, 10e3} {
 		items = append(items, stock.Item{ID: int64(i + 1), Kind: stock.Resistor, Value: v, Tolerance: 0.01, Quantity: 50})

@@ -36,9 +36,8 @@ type Options struct {
 	Shortlist int
 	// NodeBudget bounds the cross-section search per design (0: default).
 	NodeBudget int
-	Workers    int                       // goroutines; 0 means GOMAXPROCS
-	Progress   func(done, total int)     // optional, called as sections finish (total: sections of all designs)
-	Extra      func(d *synth.Design) int // unused hook kept nil
+	Workers    int                   // goroutines; 0 means GOMAXPROCS
+	Progress   func(done, total int) // optional, called as sections finish (total: sections of all designs)
 }
 
 // DefaultOptions returns the documented defaults: pairs on, one board, the

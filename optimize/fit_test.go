@@ -60,6 +60,7 @@ func reanalyse(t *testing.T, c *Candidate, spec synth.Spec) (errDB, pass, stop f
 }
 
 func TestBestCandidateReanalysedFromNetlist(t *testing.T) {
+	t.Parallel()
 	items := sampleStock(t)
 	specs := []struct {
 		name string
@@ -71,6 +72,7 @@ func TestBestCandidateReanalysedFromNetlist(t *testing.T) {
 	}
 	for _, tc := range specs {
 		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
 			r := bestOf(t, items, tc.spec, DefaultOptions())
 			c := r.Candidates[0]
 			e, pa, sa := reanalyse(t, c, r.Spec)
@@ -92,6 +94,7 @@ func TestBestCandidateReanalysedFromNetlist(t *testing.T) {
 // ngspice (Debian package ngspice; installed by .ci/run) and compares the
 // attenuation at fp and fs with the fit's figures within 0.001 dB.
 func TestBestCandidateAgainstNgspice(t *testing.T) {
+	t.Parallel()
 	ng, err := exec.LookPath("ngspice")
 	if err != nil {
 		t.Skip("ngspice not installed; .ci/run installs it (apt-get install ngspice)")
@@ -134,6 +137,7 @@ func TestBestCandidateAgainstNgspice(t *testing.T) {
 }
 
 func TestCandidatesObeyStockAndFilters(t *testing.T) {
+	t.Parallel()
 	items := sampleStock(t)
 	byID := map[int64]stock.Item{}
 	for _, it := range items {
@@ -152,6 +156,7 @@ func TestCandidatesObeyStockAndFilters(t *testing.T) {
 		{"x7r-allowed", 1, 1, []string{"X7R"}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
+			t.Parallel()
 			o := DefaultOptions()
 			o.Combine, o.Boards, o.AllowDielectric = tc.combine, tc.boards, tc.allow
 			r := bestOf(t, items, spec, o)
@@ -196,6 +201,7 @@ func TestCandidatesObeyStockAndFilters(t *testing.T) {
 }
 
 func TestFitDeterministic(t *testing.T) {
+	t.Parallel()
 	items := sampleStock(t)
 	spec := synth.Spec{Kind: synth.HighPass, Approx: synth.Butterworth, Pass: 100, Order: 4}
 	a := bestOf(t, items, spec, DefaultOptions())
@@ -211,6 +217,7 @@ func TestFitDeterministic(t *testing.T) {
 }
 
 func TestFitBadInput(t *testing.T) {
+	t.Parallel()
 	items := sampleStock(t)
 	var resistorsOnly []stock.Item
 	for _, it := range items {
@@ -257,6 +264,7 @@ func TestFitBadInput(t *testing.T) {
 // TestFitNothingMeetsSpec: a stock whose capacitors are all far too small
 // for a 10 Hz filter gives no candidate and an explanation, not an error.
 func TestFitNothingMeetsSpec(t *testing.T) {
+	t.Parallel()
 	items := []stock.Item{
 		{ID: 1, Kind: stock.Resistor, Value: 10e3, Tolerance: 0.01, Quantity: 10},
 		{ID: 2, Kind: stock.Resistor, Value: 22e3, Tolerance: 0.01, Quantity: 10},
@@ -280,6 +288,7 @@ func TestFitNothingMeetsSpec(t *testing.T) {
 // about nine million combinations; the fit refuses with a clear message
 // instead of exhausting memory (singles still work).
 func TestHugeStockRefused(t *testing.T) {
+	t.Parallel()
 	var items []stock.Item
 	for i := 0; i < 3000; i++ {
 		items = append(items, stock.Item{ID: int64(i + 1), Kind: stock.Resistor, Value: 1e3 * math.Pow(1000, float64(i)/3000), Tolerance: 0.01, Quantity: 5})
@@ -301,6 +310,7 @@ func TestHugeStockRefused(t *testing.T) {
 // asked; the fit is not an error but a result without candidates whose
 // limits name the quantity.
 func TestFitTooFewPartsForBoards(t *testing.T) {
+	t.Parallel()
 	items := sampleStock(t)
 	o := DefaultOptions()
 	o.Boards = 10000

@@ -9,6 +9,7 @@ import (
 )
 
 func TestNearestTake(t *testing.T) {
+	t.Parallel()
 	// Invented rows.
 	items := []stock.Item{
 		{ID: 1, Kind: stock.Resistor, Value: 10e3, Quantity: 10},

@@ -286,18 +286,6 @@ func (s *sectionSearch) run(workers int) ([]sectionCand, sectionDiag) {
 	return out, diag
 }
 
-// maxLimit is the largest entry threshold over the part counts a section
-// with capacitor parts cp can reach (resistors add one or two parts each).
-func (w *worker) maxLimit(cp int8, nres int) float64 {
-	var m float64
-	for p := cp + int8(nres); p <= cp+int8(2*nres); p++ {
-		if l := w.list.limit(p, w.s.ceiling); l > m {
-			m = l
-		}
-	}
-	return m
-}
-
 // offer scores the element assignment in w.v/w.r and keeps it if good.
 func (w *worker) offer() {
 	s := w.s

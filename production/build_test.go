@@ -38,6 +38,7 @@ func boardDesign(t *testing.T) *Design {
 }
 
 func TestBatchPickList(t *testing.T) {
+	t.Parallel()
 	d := boardDesign(t)
 	b, err := NewBatch(d, 5)
 	if err != nil {
@@ -75,6 +76,7 @@ func TestBatchPickList(t *testing.T) {
 }
 
 func TestBatchCheck(t *testing.T) {
+	t.Parallel()
 	d := boardDesign(t)
 	item := func(id int64, k stock.Kind, v, tol float64, diel, loc string, qty int) stock.Item {
 		return stock.Item{ID: id, Kind: k, Value: v, Tolerance: tol, Dielectric: diel, Location: loc, Quantity: qty, Package: "0805"}

@@ -29,6 +29,7 @@ func fitSample(t *testing.T, spec synth.Spec, boards int) *optimize.Result {
 }
 
 func TestDesignDocumentRoundTrip(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name string
 		spec synth.Spec
@@ -82,6 +83,7 @@ func TestDesignDocumentRoundTrip(t *testing.T) {
 }
 
 func TestDecodeRefusesUnknownFormat(t *testing.T) {
+	t.Parallel()
 	for _, doc := range []string{`{"format":2,"filters":[]}`, `not json`, `{"format":1,"filters":[]}`} {
 		if _, err := DecodeDesign([]byte(doc)); fault.KindOf(err) != fault.Conflict {
 			t.Errorf("%s: %v", doc, err)
@@ -90,6 +92,7 @@ func TestDecodeRefusesUnknownFormat(t *testing.T) {
 }
 
 func TestEncodeRefusesUnstoredRows(t *testing.T) {
+	t.Parallel()
 	r := fitSample(t, synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2}, 1)
 	c := *r.Candidates[0]
 	c.Sections = append([]optimize.SectionFit(nil), c.Sections...)

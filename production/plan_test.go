@@ -73,6 +73,7 @@ func exhaustive(items []stock.Item, pr *PlanResult, pool int) []score {
 }
 
 func TestJointSearchMatchesExhaustive(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("three fits of the sample drawer")
 	}
@@ -151,6 +152,7 @@ func TestJointSearchMatchesExhaustive(t *testing.T) {
 // two filters' own best candidates together, at an error still within
 // the good-enough limit: the values chosen for one filter serve the other.
 func TestPlanSharesRows(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("two fits of the sample drawer")
 	}
@@ -234,6 +236,7 @@ func twinStock(t *testing.T, qty int) ([]stock.Item, synth.Spec) {
 }
 
 func TestIdenticalFiltersComeOutIdentical(t *testing.T) {
+	t.Parallel()
 	items, spec := twinStock(t, 100)
 	p := Plan{Name: "stereo", Boards: 10, Filters: []PlanFilter{{Label: "left", Spec: spec}, {Label: "right", Spec: spec}}}
 	pr, err := FitPlan(context.Background(), items, p, PlanOptions{Fit: singlePartOptions()})
@@ -251,6 +254,7 @@ func TestIdenticalFiltersComeOutIdentical(t *testing.T) {
 }
 
 func TestIdenticalFiltersSplitWhenStockForbids(t *testing.T) {
+	t.Parallel()
 	// Each bin holds one channel's parts for 10 boards, not two.
 	items, spec := twinStock(t, 10)
 	p := Plan{Name: "stereo", Boards: 10, Filters: []PlanFilter{{Label: "left", Spec: spec}, {Label: "right", Spec: spec}}}
@@ -268,6 +272,7 @@ func TestIdenticalFiltersSplitWhenStockForbids(t *testing.T) {
 }
 
 func TestPlanWithoutBoardSaysWhy(t *testing.T) {
+	t.Parallel()
 	items, spec := twinStock(t, 10)
 	// Three channels for 10 boards: 30 of each value, 20 on hand.
 	p := Plan{Name: "three-way", Boards: 10, Filters: []PlanFilter{{Label: "a", Spec: spec}, {Label: "b", Spec: spec}, {Label: "c", Spec: spec}}}
@@ -281,6 +286,7 @@ func TestPlanWithoutBoardSaysWhy(t *testing.T) {
 }
 
 func TestPlanValidate(t *testing.T) {
+	t.Parallel()
 	ok := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2}
 	cases := []struct {
 		name string
@@ -344,6 +350,7 @@ func benchPlan(b *testing.B, items []stock.Item, p Plan) {
 // seeds) and compares it with the exhaustive enumeration: the same best
 // boards in the same order and the same Pareto front.
 func TestJointSearchMatchesExhaustiveRandomPools(t *testing.T) {
+	t.Parallel()
 	for seed := int64(1); seed <= 6; seed++ {
 		t.Run(fmt.Sprintf("seed %d", seed), func(t *testing.T) {
 			rng := rand.New(rand.NewSource(seed))

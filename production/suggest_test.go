@@ -5,6 +5,7 @@ import (
 	"math"
 	"testing"
 
+	"drawerfit/internal/testkit"
 	"drawerfit/optimize"
 	"drawerfit/stock"
 	"drawerfit/synth"
@@ -55,28 +56,45 @@ func checkSuggestion(t *testing.T, s Suggestion, after Outcome, r ranker) {
 // TestSuggestionsDeliverWhatTheyClaim asks for suggestions for an invented
 // wind-noise low-pass on the sample drawer, for one board and for more
 // boards than the drawer covers, buys each suggestion on a copy of the
-// stock and fits again with the full search.
+// stock and fits again with the full search. The default suite searches
+// single parts (the same suggestion code, a tenth of the search); the long
+// sweep (DRAWERFIT_LONG=1) repeats it with series and parallel pairs.
 func TestSuggestionsDeliverWhatTheyClaim(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("several fits of the sample drawer")
+	}
+	// The drawer loses the resistor values of the best design's sections:
+	// all of them for single parts, the first section's with pairs (pairs
+	// find their way around one missing value more easily, so the gap must
+	// be smaller to leave a purchase worth suggesting, and the search is
+	// ten times dearer).
+	base, sections := singlePartOptions(), 0
+	if testkit.Long() {
+		base, sections = optimize.DefaultOptions(), 1
 	}
 	full := sampleStock(t)
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Stop: 3000, StopAtten: 40}
 	if err := spec.Normalize(); err != nil {
 		t.Fatal(err)
 	}
-	// The drawer without the resistor values of the best design's first
-	// section: the best design left is worse, and buying a value near the
-	// missing ones must help.
-	first, err := optimize.Fit(context.Background(), full, spec, optimize.DefaultOptions())
+	// Without those values the best design left is worse, and buying a
+	// value near the missing ones must help.
+	first, err := optimize.Fit(context.Background(), full, spec, base)
 	if err != nil || len(first.Candidates) == 0 {
 		t.Fatalf("fit: %v", err)
 	}
 	gone := map[int64]bool{}
-	for _, comp := range first.Candidates[0].Sections[0].Components {
-		if comp.Kind == synth.Resistor {
-			for _, p := range comp.Parts {
-				gone[p.StockID] = true
+	secs := first.Candidates[0].Sections
+	if sections > 0 {
+		secs = secs[:sections]
+	}
+	for _, sec := range secs {
+		for _, comp := range sec.Components {
+			if comp.Kind == synth.Resistor {
+				for _, p := range comp.Parts {
+					gone[p.StockID] = true
+				}
 			}
 		}
 	}
@@ -95,7 +113,8 @@ func TestSuggestionsDeliverWhatTheyClaim(t *testing.T) {
 		{"more boards than the drawer covers", 80, true},
 	} {
 		t.Run(c.name, func(t *testing.T) {
-			o := optimize.DefaultOptions()
+			t.Parallel()
+			o := base
 			o.Boards = c.boards
 			res, err := optimize.Fit(context.Background(), items, spec, o)
 			if err != nil {
@@ -126,6 +145,7 @@ func TestSuggestionsDeliverWhatTheyClaim(t *testing.T) {
 }
 
 func TestPlanSuggestionClosesShortfall(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("several fits of the sample drawer")
 	}
@@ -162,6 +182,7 @@ func TestPlanSuggestionClosesShortfall(t *testing.T) {
 }
 
 func TestCandidateValuesAreSeriesNeighbours(t *testing.T) {
+	t.Parallel()
 	o := optimize.DefaultOptions()
 	// 4.53 kΩ exactly needed: E24 brackets it with 4.3k and 4.7k (4.3k is
 	// in stock) and E96 has it (IEC 60063 E24 and E96 tables).

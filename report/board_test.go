@@ -8,6 +8,7 @@ import (
 )
 
 func TestBoardHTML(t *testing.T) {
+	t.Parallel()
 	lp, hp := lowpass4(t), highpass3(t)
 	b := &Board{
 		Title: "Tide gauge logger <rev B>", Boards: 25, Date: time.Date(2030, 3, 1, 0, 0, 0, 0, time.UTC),

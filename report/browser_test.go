@@ -51,6 +51,7 @@ var pageObject = regexp.MustCompile(`/Type\s*/Page\b`)
 // with <script> as text), and the printed PDF has a small number of pages on
 // Letter (Chromium's default paper) and on A4.
 func TestBrowser(t *testing.T) {
+	t.Parallel()
 	if _, err := os.Stat(chromiumPath); err != nil {
 		t.Skipf("browser test skipped: %s not found (apt-get install chromium)", chromiumPath)
 	}

@@ -65,6 +65,7 @@ func splitSections(page string) map[string]string {
 }
 
 func TestSectionsGolden(t *testing.T) {
+	t.Parallel()
 	for name, s := range sheets(t) {
 		t.Run(name, func(t *testing.T) {
 			b, err := HTML(s)
@@ -114,6 +115,7 @@ func TestSectionsGolden(t *testing.T) {
 }
 
 func TestUserTextEscaped(t *testing.T) {
+	t.Parallel()
 	c := lowpass4(t)
 	c.Sections[0].Components[0].Parts[0].Location = `<img src=x onerror=alert(2)>`
 	s := &Sheet{
@@ -151,6 +153,7 @@ func TestUserTextEscaped(t *testing.T) {
 // TestSelfContained checks that the page loads nothing: no scripts, links,
 // images, imports or URLs other than the SVG namespace.
 func TestSelfContained(t *testing.T) {
+	t.Parallel()
 	for name, s := range sheets(t) {
 		t.Run(name, func(t *testing.T) {
 			b, err := HTML(s)
@@ -179,6 +182,7 @@ func TestSelfContained(t *testing.T) {
 }
 
 func TestCautionsAlways(t *testing.T) {
+	t.Parallel()
 	b, err := HTML(&Sheet{Candidate: lowpass5(t), Cautions: []string{"Keep the input below 5 V."}})
 	if err != nil {
 		t.Fatal(err)
@@ -195,6 +199,7 @@ func TestCautionsAlways(t *testing.T) {
 }
 
 func TestDerivePicks(t *testing.T) {
+	t.Parallel()
 	c := lowpass4(t)
 	for _, boards := range []int{1, 25} {
 		t.Run(strings.Repeat("x", 0)+map[int]string{1: "one board", 25: "25 boards"}[boards], func(t *testing.T) {
@@ -231,6 +236,7 @@ func TestDerivePicks(t *testing.T) {
 }
 
 func TestMadeOf(t *testing.T) {
+	t.Parallel()
 	r := func(v float64) optimize.Part { return optimize.Part{Value: v} }
 	cases := []struct {
 		name string
@@ -251,6 +257,7 @@ func TestMadeOf(t *testing.T) {
 }
 
 func TestNetlistUsesPartNames(t *testing.T) {
+	t.Parallel()
 	c := lowpass4(t)
 	b, err := HTML(&Sheet{Candidate: c})
 	if err != nil {
@@ -275,6 +282,7 @@ func TestNetlistUsesPartNames(t *testing.T) {
 }
 
 func TestBadSheets(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name string
 		mod  func(s *Sheet)
@@ -298,6 +306,7 @@ func TestBadSheets(t *testing.T) {
 }
 
 func TestSpecLine(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name string
 		c    *optimize.Candidate
@@ -317,6 +326,7 @@ func TestSpecLine(t *testing.T) {
 }
 
 func TestWritePNGs(t *testing.T) {
+	t.Parallel()
 	dir := t.TempDir()
 	paths, err := WritePNGs(&Sheet{Candidate: lowpass4(t)}, dir, "lp")
 	if err != nil {
@@ -341,6 +351,7 @@ func TestWritePNGs(t *testing.T) {
 }
 
 func TestResponseSketch(t *testing.T) {
+	t.Parallel()
 	// The terminal sketch of a candidate: the nominal curve marks and the
 	// edges from the design's specification.
 	s, err := respplot.Sketch(Response(lowpass4(t), respplot.Limits{}), 60, 12)

@@ -12,6 +12,7 @@ import (
 )
 
 func TestEnvelope(t *testing.T) {
+	t.Parallel()
 	c := lowpass4(t)
 	st := c.Stages()
 	f := []float64{100, 1000, 3000}
@@ -69,6 +70,7 @@ func TestEnvelope(t *testing.T) {
 // TestYieldFromTolerance runs the real yield analysis on the fixture and
 // checks that the sheet's summary carries its figures.
 func TestYieldFromTolerance(t *testing.T) {
+	t.Parallel()
 	c := lowpass4(t)
 	r, err := tolerance.Run(context.Background(), c, c.Design.Spec, tolerance.Options{Trials: 300, Seed: 3, Brief: true, Workers: 1})
 	if err != nil {

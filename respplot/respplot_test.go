@@ -17,6 +17,7 @@ import (
 var update = flag.Bool("update", false, "rewrite the golden files under testdata/")
 
 func TestFormatEng(t *testing.T) {
+	t.Parallel()
 	// SI prefixes and their powers: the SI Brochure (BIPM, 9th edition,
 	// table 7). Expected strings are the plain decimal renderings.
 	cases := []struct {
@@ -50,6 +51,7 @@ func TestFormatEng(t *testing.T) {
 }
 
 func TestFreqTicks(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name     string
 		lo, hi   float64
@@ -87,6 +89,7 @@ func TestFreqTicks(t *testing.T) {
 }
 
 func TestSample(t *testing.T) {
+	t.Parallel()
 	// Butterworth: |H|² = 1/(1+w^(2n)) (DOMAIN.md), so -10·log10(2) dB at
 	// the edge for every order; the phase of an n-th order low-pass at its
 	// edge is -n·45°, and a first-order RC low-pass has group delay
@@ -128,6 +131,7 @@ func lowpassResponse() *Response {
 }
 
 func TestFiguresSVG(t *testing.T) {
+	t.Parallel()
 	r := lowpassResponse()
 	// A Monte Carlo band of ±0.5 dB around the nominal curve.
 	f := LogGrid(100, 9000, 60)
@@ -188,6 +192,7 @@ func TestFiguresSVG(t *testing.T) {
 }
 
 func TestPNG(t *testing.T) {
+	t.Parallel()
 	figs, err := Figures(lowpassResponse())
 	if err != nil {
 		t.Fatal(err)
@@ -227,6 +232,7 @@ func TestPNG(t *testing.T) {
 }
 
 func TestValidate(t *testing.T) {
+	t.Parallel()
 	good := lowpassResponse()
 	cases := []struct {
 		name string
@@ -259,6 +265,7 @@ func TestValidate(t *testing.T) {
 }
 
 func TestRange(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name   string
 		kind   synth.Kind
@@ -281,6 +288,7 @@ func TestRange(t *testing.T) {
 }
 
 func TestSketch(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name string
 		r    *Response
@@ -350,6 +358,7 @@ func golden(t *testing.T, path, got string) {
 }
 
 func TestShiftToZero(t *testing.T) {
+	t.Parallel()
 	// Whole turns only: the value at the anchor lands in (-180°, 180°].
 	cases := []struct {
 		name string
@@ -376,6 +385,7 @@ func TestShiftToZero(t *testing.T) {
 }
 
 func TestPercentileBand(t *testing.T) {
+	t.Parallel()
 	// Type-7 quantiles of 1..5: p5 = 1 + 0.05·4 = 1.2, p95 = 4.8 (the
 	// definition in Hyndman & Fan 1996, as numpy.percentile computes it).
 	f := []float64{100, 200}

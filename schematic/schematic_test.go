@@ -146,6 +146,7 @@ func outline(root *node) string {
 }
 
 func TestGolden(t *testing.T) {
+	t.Parallel()
 	for _, top := range synth.Topologies {
 		t.Run(top.ID, func(t *testing.T) {
 			svg, err := SVG(top, Options{ID: "s1", Labels: sampleLabels(top), OpAmp: "U3"})
@@ -210,6 +211,7 @@ func onSegment(p, a, b [2]float64) bool {
 // op-amp) and checks that it is exactly the topology's netlist: every pin on
 // the net of its node, distinct nodes on distinct nets.
 func TestConnectivity(t *testing.T) {
+	t.Parallel()
 	for _, top := range synth.Topologies {
 		for _, bias := range []bool{false, true} {
 			name := top.ID
@@ -271,8 +273,7 @@ func connectivity(t *testing.T, name string, top *synth.Topology, opt Options) {
 			for i := range parent {
 				parent[i] = i
 			}
-			var find func(int) int
-			find = func(i int) int {
+			find := func(i int) int {
 				for parent[i] != i {
 					parent[i] = parent[parent[i]]
 					i = parent[i]
@@ -367,6 +368,7 @@ func connectivity(t *testing.T, name string, top *synth.Topology, opt Options) {
 }
 
 func TestLabels(t *testing.T) {
+	t.Parallel()
 	top := &synth.SallenKeyLowPass
 	labels := sampleLabels(top)
 	labels[2].Makeup = `<script>alert("x")</script> & co`
@@ -421,6 +423,7 @@ func TestLabels(t *testing.T) {
 }
 
 func TestUnlabelled(t *testing.T) {
+	t.Parallel()
 	svg, err := SVG(&synth.FirstOrderHighPass, Options{})
 	if err != nil {
 		t.Fatal(err)
@@ -441,6 +444,7 @@ func custom(plus string, els ...synth.Element) *synth.Topology {
 }
 
 func TestUndrawable(t *testing.T) {
+	t.Parallel()
 	r := func(ref, a, b string) synth.Element {
 		return synth.Element{Ref: ref, Kind: synth.Resistor, From: a, To: b}
 	}
@@ -471,6 +475,7 @@ func TestUndrawable(t *testing.T) {
 // the op-amp and a shunt written ground-first: the pins must still land on
 // the right nodes.
 func TestReversedElement(t *testing.T) {
+	t.Parallel()
 	top := custom("p",
 		synth.Element{Ref: "R1", Kind: synth.Resistor, From: "a", To: "in"},
 		synth.Element{Ref: "R2", Kind: synth.Resistor, From: "a", To: "p"},

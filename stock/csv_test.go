@@ -24,6 +24,7 @@ func csvProblems(t *testing.T, err error) *CSVError {
 }
 
 func TestReadCSV(t *testing.T) {
+	t.Parallel()
 	in := "\ufeffKind,VALUE, Quantity ,tolerance,location,dielectric,package,note\r\n" +
 		"R,4k7,50,F,A1,,0805,\r\n" +
 		"capacitor,2n2,20,5%,B3,cog,0805,\"signal, C0G\"\r\n" +
@@ -47,6 +48,7 @@ func TestReadCSV(t *testing.T) {
 }
 
 func TestReadCSVMinimalColumns(t *testing.T) {
+	t.Parallel()
 	items, err := ReadCSV(strings.NewReader("quantity,value,kind\n7,10k,resistor\n"))
 	if err != nil || len(items) != 1 || items[0].Value != 10e3 || items[0].Quantity != 7 {
 		t.Fatalf("%+v %v", items, err)
@@ -54,6 +56,7 @@ func TestReadCSVMinimalColumns(t *testing.T) {
 }
 
 func TestReadCSVRefuses(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name string
 		in   string
@@ -132,6 +135,7 @@ func TestReadCSVRefuses(t *testing.T) {
 }
 
 func TestReadCSVCapsTheList(t *testing.T) {
+	t.Parallel()
 	var b strings.Builder
 	b.WriteString("kind,value,quantity\n")
 	for i := 0; i < MaxCSVProblems+15; i++ {
@@ -148,6 +152,7 @@ func TestReadCSVCapsTheList(t *testing.T) {
 }
 
 func TestCSVRoundTrip(t *testing.T) {
+	t.Parallel()
 	items := []Item{
 		{Kind: Resistor, Value: 4700, Tolerance: 0.01, Quantity: 50, Package: "0805", Location: "A1",
 			Price: MoneyFromMicros(12_000), Min: 50, Pack: 1000, SupplierRef: "bench order 4K7/0805"},
@@ -248,6 +253,7 @@ func TestReadCSVAmplifierProblems(t *testing.T) {
 }
 
 func TestNeutraliseRestore(t *testing.T) {
+	t.Parallel()
 	for _, s := range []string{"", "A1", "=A1", "+1", "-1", "@x", "\tx", "'", "''", "'=", "'x", "x'", "=", "'''"} {
 		if got := restore(neutralise(s)); got != s {
 			t.Errorf("restore(neutralise(%q)) = %q", s, got)
@@ -259,6 +265,7 @@ func TestNeutraliseRestore(t *testing.T) {
 }
 
 func TestParseQuantity(t *testing.T) {
+	t.Parallel()
 	for in, want := range map[string]int{"0": 0, "7": 7, " 120 ": 120, "1000000000": MaxQuantity} {
 		if got, err := ParseQuantity(in); err != nil || got != want {
 			t.Errorf("ParseQuantity(%q) = %v, %v", in, got, err)

@@ -11,6 +11,7 @@ var e24Standard = []float64{1.0, 1.1, 1.2, 1.3, 1.5, 1.6, 1.8, 2.0, 2.2, 2.4, 2.
 	3.3, 3.6, 3.9, 4.3, 4.7, 5.1, 5.6, 6.2, 6.8, 7.5, 8.2, 9.1}
 
 func TestSeriesLists(t *testing.T) {
+	t.Parallel()
 	// IEC 60063 via CHECK-VALUES.md: E6 and the values E12 adds.
 	if got := E6.Values(); !reflect.DeepEqual(got, []float64{1.0, 1.5, 2.2, 3.3, 4.7, 6.8}) {
 		t.Errorf("E6 = %v", got)
@@ -34,6 +35,7 @@ func TestSeriesLists(t *testing.T) {
 // TestE24DiffersFromFormula checks that E24 is the standard's list, not the
 // rounded formula: CHECK-VALUES.md names the eight values where they part.
 func TestE24DiffersFromFormula(t *testing.T) {
+	t.Parallel()
 	var differ []float64
 	for m, v := range E24.Values() {
 		f := math.Round(math.Pow(10, float64(m)/24)*10) / 10
@@ -51,6 +53,7 @@ func TestE24DiffersFromFormula(t *testing.T) {
 // figures, with IEC 60063's one exception: E192 m = 185 is 9.20, where the
 // formula gives 9.19 (CHECK-VALUES.md).
 func TestE192Formula(t *testing.T) {
+	t.Parallel()
 	for _, s := range []Series{E48, E96, E192} {
 		for m, v := range s.Values() {
 			f := math.Round(math.Pow(10, float64(m)/float64(s))*100) / 100
@@ -68,6 +71,7 @@ func TestE192Formula(t *testing.T) {
 }
 
 func TestSeriesNesting(t *testing.T) {
+	t.Parallel()
 	// E6 ⊂ E12 ⊂ E24 and E48 ⊂ E96 ⊂ E192, every other value (CHECK-VALUES.md).
 	for _, pair := range [][2]Series{{E3, E6}, {E6, E12}, {E12, E24}, {E48, E96}, {E96, E192}} {
 		coarse, fine := pair[0], pair[1]
@@ -87,6 +91,7 @@ func TestSeriesNesting(t *testing.T) {
 }
 
 func TestContainsAndSeriesOf(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name string
 		v    float64
@@ -121,6 +126,7 @@ func TestContainsAndSeriesOf(t *testing.T) {
 }
 
 func TestNeighbours(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		s            Series
 		v            float64
@@ -167,6 +173,7 @@ func TestNeighbours(t *testing.T) {
 }
 
 func TestParseSeries(t *testing.T) {
+	t.Parallel()
 	for _, s := range AllSeries {
 		got, err := ParseSeries(" " + s.String() + " ")
 		if err != nil || got != s {

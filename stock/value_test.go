@@ -10,6 +10,7 @@ import (
 )
 
 func TestParseKind(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		in   string
 		want Kind
@@ -38,6 +39,7 @@ func TestParseKind(t *testing.T) {
 }
 
 func TestParseValue(t *testing.T) {
+	t.Parallel()
 	R, C := Resistor, Capacitor
 	cases := []struct {
 		in   string
@@ -106,6 +108,7 @@ func TestParseValue(t *testing.T) {
 }
 
 func TestParseValueRefuses(t *testing.T) {
+	t.Parallel()
 	R, C := Resistor, Capacitor
 	cases := []struct {
 		in   string
@@ -170,6 +173,7 @@ func TestParseValueRefuses(t *testing.T) {
 }
 
 func TestFormatValue(t *testing.T) {
+	t.Parallel()
 	R, C := Resistor, Capacitor
 	cases := []struct {
 		v    float64
@@ -213,6 +217,7 @@ func TestFormatValue(t *testing.T) {
 // the same float64, for every value of E192 and E24 over the useful
 // decades.
 func TestValueRoundTrip(t *testing.T) {
+	t.Parallel()
 	for _, s := range []Series{E24, E192} {
 		for _, m := range s.Values() {
 			for e := -13; e <= 9; e++ {
@@ -240,6 +245,7 @@ func TestValueRoundTrip(t *testing.T) {
 }
 
 func TestParseTolerance(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		in   string
 		want float64
@@ -299,6 +305,7 @@ func TestParseTolerance(t *testing.T) {
 }
 
 func TestDielectrics(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		in, norm  string
 		precision bool
@@ -341,6 +348,7 @@ func TestDielectrics(t *testing.T) {
 }
 
 func TestItemProblems(t *testing.T) {
+	t.Parallel()
 	good := Item{Kind: Capacitor, Value: 1e-9, Tolerance: 0.05, Quantity: 10, Dielectric: "C0G", Note: "two\nlines"}
 	if p := good.Problems(); p != nil {
 		t.Fatalf("good item: %v", p)

@@ -23,6 +23,7 @@ const buildHelperEnv = "DRAWERFIT_BUILD_HELPER"
 // exits 0 when the parts were drawn, 6 when the build was refused for a
 // shortfall (printing the short rows), other codes on errors.
 func TestBuildHelperProcess(t *testing.T) {
+	t.Parallel()
 	if os.Getenv(buildHelperEnv) == "" {
 		return
 	}
@@ -67,6 +68,7 @@ func TestBuildHelperProcess(t *testing.T) {
 // one build must succeed, the other must be refused with the shortfall
 // of every row, and no quantity may go below zero.
 func TestConcurrentBuilds(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("starts two subprocesses")
 	}

@@ -94,6 +94,7 @@ func quantities(t *testing.T, db *DB) map[int64]int {
 }
 
 func TestDesignRoundTrip(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	db := openTest(t)
 	d := fixtureDesign(t, db, 40)
@@ -175,6 +176,7 @@ func TestDesignIDCollisionsAreRetried(t *testing.T) {
 }
 
 func TestSaveRefusesRowsOfAnotherStock(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	db := openTest(t)
 	d := fixtureDesign(t, db, 10)
@@ -190,6 +192,7 @@ func TestSaveRefusesRowsOfAnotherStock(t *testing.T) {
 }
 
 func TestBuildAndUndoRestoreQuantitiesExactly(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	db := openTest(t)
 	d := fixtureDesign(t, db, 40)
@@ -253,6 +256,7 @@ func TestBuildAndUndoRestoreQuantitiesExactly(t *testing.T) {
 }
 
 func TestRefusedBuildDrawsNothing(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	db := openTest(t)
 	d := fixtureDesign(t, db, 20)
@@ -297,6 +301,7 @@ func TestRefusedBuildDrawsNothing(t *testing.T) {
 }
 
 func TestBuildRefusesMissingRow(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	db := openTest(t)
 	d := fixtureDesign(t, db, 20)
@@ -334,6 +339,7 @@ func TestBuildRefusesMissingRow(t *testing.T) {
 }
 
 func TestUndoRefusedWhenRowRemoved(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	db := openTest(t)
 	d := fixtureDesign(t, db, 20)
@@ -359,6 +365,7 @@ func TestUndoRefusedWhenRowRemoved(t *testing.T) {
 // TestSeedDesignSurvivesMigration opens a version-2 file with its seed
 // and reads the seeded design and build through the current code.
 func TestSeedDesignSurvivesMigration(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	path := filepath.Join(t.TempDir(), "v2.db")
 	buildAtVersion(t, path, 2)
@@ -388,6 +395,7 @@ func TestSeedDesignSurvivesMigration(t *testing.T) {
 // is added again (a new row of the same identity), undo returns the parts
 // to that row.
 func TestUndoOntoTheRowAddedBack(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	db := openTest(t)
 	d := fixtureDesign(t, db, 20)

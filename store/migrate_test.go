@@ -88,6 +88,7 @@ const seedDesignDoc = `{"format":1,"name":"","boards":2,"rank":1,"settings":{"co
 // version (and a brand-new file) and checks that Open brings it to the
 // current version with its data intact and usable.
 func TestMigrationsFromEveryVersion(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	latest := migrations.Latest()
 	t.Run("new file", func(t *testing.T) {
@@ -215,6 +216,7 @@ func TestMigrationBreakingForeignKeysRefused(t *testing.T) {
 // TestMigrationFailureRollsBack applies a broken migration after the real
 // ones and checks that the file stays at the last good version.
 func TestMigrationFailureRollsBack(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	path := filepath.Join(t.TempDir(), "broken.db")
 	buildAtVersion(t, path, migrations.Latest())

@@ -39,6 +39,7 @@ func helper(t *testing.T, role string, args ...string) *exec.Cmd {
 // TestHelperProcess is not a test: it does the child's work when the
 // binary is started by helper, and nothing otherwise.
 func TestHelperProcess(t *testing.T) {
+	t.Parallel()
 	role := os.Getenv(helperEnv)
 	if role == "" {
 		return
@@ -130,6 +131,7 @@ func takeSnapshot(t *testing.T, path string) snapshot {
 // opens, passes SQLite's integrity check and holds exactly what it held
 // before.
 func TestKilledImportLeavesDatabaseUnchanged(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("starts a subprocess and writes a large transaction")
 	}
@@ -208,6 +210,7 @@ func TestKilledImportLeavesDatabaseUnchanged(t *testing.T) {
 // row many times at once and checks that every change arrived and that the
 // ledger's balances form one unbroken chain.
 func TestTwoProcessesLoseNoUpdate(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("starts two subprocesses")
 	}
@@ -284,6 +287,7 @@ func TestTwoProcessesLoseNoUpdate(t *testing.T) {
 // file at the same moment, as two commands on first use would: both must
 // succeed and each migration must be applied once.
 func TestTwoProcessesCreateOneFile(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("starts 100 subprocesses")
 	}

@@ -53,6 +53,7 @@ func capa(t *testing.T, v string, qty int, diel, loc string) stock.Item {
 }
 
 func TestAddMergesSameIdentity(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	db := openTest(t)
 	a, merged, err := db.Add(ctx, res(t, "4k7", 50, "A1"), "bought a strip")
@@ -82,6 +83,7 @@ func TestAddMergesSameIdentity(t *testing.T) {
 }
 
 func TestAddRefusesInvalidItems(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	db := openTest(t)
 	cases := []struct {
@@ -108,6 +110,7 @@ func TestAddRefusesInvalidItems(t *testing.T) {
 }
 
 func TestSetQuantityRemoveAndHistory(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	db := openTest(t)
 	a, _, _ := db.Add(ctx, res(t, "10k", 100, "B2"), "")
@@ -171,6 +174,7 @@ func TestSetQuantityRemoveAndHistory(t *testing.T) {
 }
 
 func TestAdjustIsAllOrNothing(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	db := openTest(t)
 	r, _, _ := db.Add(ctx, res(t, "1k", 10, "A1"), "")
@@ -221,6 +225,7 @@ func TestAdjustIsAllOrNothing(t *testing.T) {
 }
 
 func TestTxSharesOneTransaction(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	db := openTest(t)
 	r, _, _ := db.Add(ctx, res(t, "2k2", 10, "A1"), "")
@@ -256,6 +261,7 @@ func TestTxSharesOneTransaction(t *testing.T) {
 }
 
 func TestImport(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	t.Run("merges duplicates and existing rows", func(t *testing.T) {
 		db := openTest(t)
@@ -323,6 +329,7 @@ func TestImport(t *testing.T) {
 }
 
 func TestOpenRefusesNewerSchema(t *testing.T) {
+	t.Parallel()
 	path := filepath.Join(t.TempDir(), "stock.db")
 	db, err := Open(path)
 	if err != nil {
@@ -340,6 +347,7 @@ func TestOpenRefusesNewerSchema(t *testing.T) {
 }
 
 func TestOpenRefusesForeignDatabase(t *testing.T) {
+	t.Parallel()
 	path := filepath.Join(t.TempDir(), "other.db")
 	db, err := Open(path)
 	if err != nil {
@@ -353,6 +361,7 @@ func TestOpenRefusesForeignDatabase(t *testing.T) {
 }
 
 func TestOpenMemory(t *testing.T) {
+	t.Parallel()
 	db, err := OpenMemory()
 	if err != nil {
 		t.Fatal(err)
@@ -369,6 +378,7 @@ func TestOpenMemory(t *testing.T) {
 }
 
 func TestConnectionSettings(t *testing.T) {
+	t.Parallel()
 	db := openTest(t)
 	ctx := context.Background()
 	// Ask on several connections at once so that pooled ones are checked
@@ -397,6 +407,7 @@ func TestConnectionSettings(t *testing.T) {
 }
 
 func TestForeignKeysAreEnforced(t *testing.T) {
+	t.Parallel()
 	db := openTest(t)
 	_, err := db.SQL().Exec(`INSERT INTO movement (stock_id, delta, balance, reason, at) VALUES (4242, 1, 1, 'x', '')`)
 	if err == nil || !strings.Contains(err.Error(), "FOREIGN KEY") {
@@ -407,6 +418,7 @@ func TestForeignKeysAreEnforced(t *testing.T) {
 // TestImportMergeKeepsNotes: merging a file row into a row of the same
 // identity fills an empty note from the file and keeps a note already held.
 func TestImportMergeKeepsNotes(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	db := openTest(t)
 	a := stock.Item{Kind: stock.Resistor, Value: 10e3, Tolerance: 0.01, Quantity: 5, Location: "A1"}

@@ -10,6 +10,7 @@ import (
 // TestGroupDelay checks the analytic group delay of every topology against
 // a central difference of the unwrapped phase, with random element values.
 func TestGroupDelay(t *testing.T) {
+	t.Parallel()
 	rng := rand.New(rand.NewPCG(5, 9))
 	for _, top := range Topologies {
 		t.Run(top.ID, func(t *testing.T) {
@@ -42,6 +43,7 @@ func TestGroupDelay(t *testing.T) {
 // section denominator; where Solve reports no exact solution, the
 // Sallen-Key low-pass must really violate Cf/Cg >= 4Q² (DOMAIN.md).
 func TestSolveReproducesSection(t *testing.T) {
+	t.Parallel()
 	rng := rand.New(rand.NewPCG(8, 2))
 	for _, s := range designGrid() {
 		t.Run(specName(s), func(t *testing.T) {

@@ -44,6 +44,7 @@ const (
 // TestSectionTables checks section natural frequencies (normalised) and Q in
 // rising order against CHECK-VALUES.md "Section Q (rising)".
 func TestSectionTables(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name   string
 		a      Approx
@@ -114,6 +115,7 @@ func TestSectionTables(t *testing.T) {
 // Each row lists the sections in cascade order: 3-pole as Cf, Ca, Cb;
 // 2-pole as Cf, Cg; 1-pole as C.
 func TestNormalisedValueTables(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name   string
 		a      Approx
@@ -198,6 +200,7 @@ func tableOrder(t *testing.T, d *Design, i int) []float64 {
 // scaling the frequency by the conversion factor cosh(acosh(1/ε)/n)
 // multiplies every normalised capacitor by it.
 func TestChebyshevClassicNormalisation(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		n    int
 		conv float64     // CHECK-VALUES.md conversion, 0.5 dB, computed
@@ -250,11 +253,11 @@ func TestChebyshevClassicNormalisation(t *testing.T) {
 // crossing returns the frequency above the edge where a low-pass design's
 // attenuation first reaches target dB.
 func crossing(d *Design, target float64) float64 {
-	lo, hi := d.Spec.Pass, d.Spec.Pass
+	hi := d.Spec.Pass
 	for d.AttenuationAt(hi) < target {
 		hi *= 1.01
 	}
-	lo = hi / 1.01
+	lo := hi / 1.01
 	for it := 0; it < 200; it++ {
 		m := 0.5 * (lo + hi)
 		if d.AttenuationAt(m) < target {
@@ -270,6 +273,7 @@ func crossing(d *Design, target float64) float64 {
 // Bessel filter, CHECK-VALUES.md (computed), n = 2..6, and that the unit
 // delay normalisation has group delay 1 s at DC for a 1/(2π) Hz edge.
 func TestBesselDelayHalfPower(t *testing.T) {
+	t.Parallel()
 	for i, want := range []float64{1.3616541, 1.7556724, 2.1139177, 2.4274107, 2.7033951} {
 		n := i + 2
 		t.Run(fmt.Sprintf("n=%d", n), func(t *testing.T) {
@@ -292,6 +296,7 @@ func TestBesselDelayHalfPower(t *testing.T) {
 // TestAttenuationTables checks attenuations at multiples of the edge,
 // CHECK-VALUES.md "Orders" section (computed).
 func TestAttenuationTables(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name   string
 		a      Approx
@@ -348,6 +353,7 @@ func TestAttenuationTables(t *testing.T) {
 // TestOrderTable checks the unrounded order formulas, CHECK-VALUES.md
 // "Orders" table (scipy buttord / cheb1ord formulas; Chebyshev ripple = Ap).
 func TestOrderTable(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		ap, as, ratio   float64
 		butRaw, chebRaw float64
@@ -393,6 +399,7 @@ func TestOrderTable(t *testing.T) {
 // (Texas Instruments SLOD006B, sections 16.3 and 16.4) as collected in
 // CHECK-VALUES.md.
 func TestWorkedExamples(t *testing.T) {
+	t.Parallel()
 	t.Run("first-order-lowpass", func(t *testing.T) {
 		// fc = 1 kHz, C = 47 nF: R = 3.386 kΩ (printed 3.38 kΩ).
 		d, err := NewDesign(Spec{Approx: Butterworth, Pass: 1000, Order: 1}, 0, 0)
@@ -520,6 +527,7 @@ func TestWorkedExamples(t *testing.T) {
 // computed), while the lowest-Q pair (w0 0.69048, Q 1.17781) works. Both
 // the normalised values and the Solve of the high-pass dual agree.
 func TestThreePoleHighestQUnrealisable(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name   string
 		w0, q  float64

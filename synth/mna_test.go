@@ -101,6 +101,7 @@ func splitParts(stages []Stage) []Stage {
 // over the design's band. Also checks that the scaled stages realise the
 // ideal target.
 func TestClosedFormMatchesNodalAnalysis(t *testing.T) {
+	t.Parallel()
 	for _, s := range designGrid() {
 		t.Run(specName(s), func(t *testing.T) {
 			d, err := NewDesign(s, 0, 0)
@@ -184,6 +185,7 @@ func evalPoly(c []float64, s complex128) complex128 {
 // element values (not only the equal-value cases), and that topology.go's
 // Coeffs agree with the same formulas.
 func TestDomainFormulas(t *testing.T) {
+	t.Parallel()
 	rng := rand.New(rand.NewPCG(3, 1))
 	formula := map[string]func(v []float64) ([]float64, []float64){
 		"rc-lowpass":          func(v []float64) ([]float64, []float64) { return domainRC(v[0], v[1], false) },
@@ -250,6 +252,7 @@ func TestDomainFormulas(t *testing.T) {
 // and the 3-pole high-pass with unit capacitors has the reciprocals of the
 // low-pass capacitors as its resistors.
 func TestDomainSectionFacts(t *testing.T) {
+	t.Parallel()
 	t.Run("sallen-key-lowpass-ratio", func(t *testing.T) {
 		w0, q := 2*math.Pi*1e3, 1.3
 		_, den := pairPoly(LowPass, w0, q)
@@ -315,6 +318,7 @@ func TestDomainSectionFacts(t *testing.T) {
 // no feedback into the network: H = 1/(1+sRC) · A/(1+A) with
 // A(s) = A0/(1+s/ωa), ωa = 2π·GBW/A0 (single-pole model).
 func TestOpAmpModel(t *testing.T) {
+	t.Parallel()
 	const r, c = 10e3, 10e-9
 	st := StageOf(&FirstOrderLowPass, []float64{r, c})
 	for _, m := range []OpAmp{{DCGain: 1e5, GBW: 1e6}, {DCGain: 2e5, GBW: 10e6}, {DCGain: 1e3}, {}} {
@@ -347,6 +351,7 @@ func TestOpAmpModel(t *testing.T) {
 // TestIdealGainError checks the documented error of the ideal follower: an
 // E element of gain IdealGain gives 1/(1+1/IdealGain), far under 1e-8 dB.
 func TestIdealGainError(t *testing.T) {
+	t.Parallel()
 	st := StageOf(&FirstOrderLowPass, []float64{1e3, 1e-9})
 	h, err := AnalyzeNetlist(Netlist([]Stage{st}, NetlistOptions{}), []float64{1e-3})
 	if err != nil {
@@ -358,6 +363,7 @@ func TestIdealGainError(t *testing.T) {
 }
 
 func TestParseSpiceValue(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		in   string
 		want float64
@@ -386,6 +392,7 @@ func TestParseSpiceValue(t *testing.T) {
 // own netlists do not all use, on a hand-written RC divider whose response
 // is known: continuation lines, comments, suffixes, case, a subcircuit.
 func TestAnalyzeNetlistText(t *testing.T) {
+	t.Parallel()
 	const text = `test divider
 * a comment
 .SUBCKT half a b
@@ -440,6 +447,7 @@ run
 // with a gain-bandwidth) elements, "V1 in 0 AC 1", an .ac dec line, one
 // element per physical part, and ".end" last.
 func TestNetlistShape(t *testing.T) {
+	t.Parallel()
 	d, err := NewDesign(Spec{Approx: Chebyshev, Ripple: 1, Pass: 2000, Stop: 5000, StopAtten: 50, Odd: OddThreePole}, 0, 0)
 	if err != nil {
 		t.Fatal(err)

@@ -85,6 +85,7 @@ func runNgspice(t *testing.T, netlist string) ([]float64, []complex128) {
 // 0.01 dB (issue 3) and 0.01° over the whole .ac band, with ideal op-amps
 // and with the gain-bandwidth op-amp subcircuit.
 func TestNgspiceAgrees(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name  string
 		spec  Spec

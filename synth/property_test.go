@@ -63,6 +63,7 @@ func randomSpecs(n int) []Spec {
 // MinOrder calls infeasible must really be unmet by every order 1..12 of
 // the 1-pole arrangement.
 func TestPlannedDesignsMeetSpec(t *testing.T) {
+	t.Parallel()
 	n := 400
 	if testing.Short() {
 		n = 60
@@ -136,6 +137,7 @@ func TestPlannedDesignsMeetSpec(t *testing.T) {
 // scaled stages, and that the sections' f0 mirror (f0_HP = fp²/f0_LP, same
 // Q).
 func TestHighPassMirrorsLowPass(t *testing.T) {
+	t.Parallel()
 	for _, s := range designGrid() {
 		if s.Kind != LowPass {
 			continue
@@ -192,6 +194,7 @@ func TestHighPassMirrorsLowPass(t *testing.T) {
 // monotonic in the order (CHECK-VALUES.md: 14.17 dB peak at n = 6 at
 // twice the -3 dB frequency).
 func TestOrderMonotonic(t *testing.T) {
+	t.Parallel()
 	for _, a := range []Approx{Butterworth, Chebyshev} {
 		t.Run(a.String(), func(t *testing.T) {
 			prev := 0

@@ -93,6 +93,7 @@ func sortPoles(p []complex128) {
 // from a different method, companion-matrix eigenvalues, so this also
 // checks the root finding).
 func TestPrototypePolesScipy(t *testing.T) {
+	t.Parallel()
 	ref := loadReference(t)
 	for _, p := range ref.Prototypes {
 		name := fmt.Sprintf("%s/ripple=%g/%s/n=%d", p.Approx, p.Ripple, p.Norm, p.Order)
@@ -121,6 +122,7 @@ func TestPrototypePolesScipy(t *testing.T) {
 // edge 1 kHz, default placement) against the w0/Q derived from scipy's poles:
 // f0 = fp·w0 for a low-pass, fp/w0 for a high-pass; same Q.
 func TestSectionsScipy(t *testing.T) {
+	t.Parallel()
 	ref := loadReference(t)
 	for _, p := range ref.Prototypes {
 		a, norm := p.spec()
@@ -177,6 +179,7 @@ func (o refOrder) spec() Spec {
 // The minimum-order design's attenuation at fp and fs must match scipy's
 // freqs within 1e-6 dB.
 func TestOrdersScipy(t *testing.T) {
+	t.Parallel()
 	ref := loadReference(t)
 	for _, o := range ref.Orders {
 		name := fmt.Sprintf("%s/%s/%s/fs=%g/ap=%.4g/as=%g", o.Approx, o.Norm, o.Kind, o.Fs, o.Ap, o.As)

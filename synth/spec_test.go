@@ -15,6 +15,7 @@ var update = flag.Bool("update", false, "rewrite golden files under testdata/")
 // TestNormalizeErrors checks that every bad specification of issue 3 is a
 // fault.Invalid error with a message that names the problem.
 func TestNormalizeErrors(t *testing.T) {
+	t.Parallel()
 	base := Spec{Approx: Butterworth, Pass: 1000, Stop: 2000, StopAtten: 40}
 	cases := []struct {
 		name string
@@ -77,6 +78,7 @@ func TestNormalizeErrors(t *testing.T) {
 // for Butterworth and Bessel (DOMAIN.md conventions), Chebyshev Ap = ripple,
 // default ripple, 1-pole odd arrangement.
 func TestNormalizeDefaults(t *testing.T) {
+	t.Parallel()
 	s := Spec{Approx: Butterworth, Pass: 1000, Order: 3}
 	if err := s.Normalize(); err != nil {
 		t.Fatal(err)
@@ -95,6 +97,7 @@ func TestNormalizeDefaults(t *testing.T) {
 }
 
 func TestMinOrderInfeasible(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name string
 		s    Spec
@@ -128,6 +131,7 @@ func TestMinOrderInfeasible(t *testing.T) {
 // stopband margin, an order above or below the minimum and the even-order
 // Chebyshev passband.
 func TestNotes(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name  string
 		s     Spec
@@ -162,6 +166,7 @@ func TestNotes(t *testing.T) {
 }
 
 func TestParseFrequency(t *testing.T) {
+	t.Parallel()
 	good := []struct {
 		in   string
 		want float64
@@ -188,6 +193,7 @@ func TestParseFrequency(t *testing.T) {
 }
 
 func TestParseNames(t *testing.T) {
+	t.Parallel()
 	for _, a := range []Approx{Butterworth, Chebyshev, Bessel} {
 		if got, err := ParseApprox(a.String()); err != nil || got != a {
 			t.Errorf("%s: %v %v", a, got, err)
@@ -223,6 +229,7 @@ func TestParseNames(t *testing.T) {
 // TestNetlistGolden pins the netlist text of a fixed design (rewrite with
 // go test ./synth -run Golden -update after an intended change).
 func TestNetlistGolden(t *testing.T) {
+	t.Parallel()
 	d, err := NewDesign(Spec{Approx: Chebyshev, Ripple: 0.5, Pass: 2000, Order: 5, Odd: OddThreePole}, 0, 0)
 	if err != nil {
 		t.Fatal(err)

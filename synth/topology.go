@@ -2,7 +2,6 @@ package synth
 
 import (
 	"math"
-	"math/cmplx"
 	"sort"
 
 	"gonum.org/v1/gonum/lapack"
@@ -685,6 +684,3 @@ func scanRoots(hi float64, split func(x float64) (y1, y2, g float64, ok bool),
 	y1, y2, _, _ := split(bestX)
 	return append(dst, build(bestX, y1, y2)), false
 }
-
-// magnitude helpers used by analysis code.
-func dB(h complex128) float64 { return 20 * math.Log10(cmplx.Abs(h)) }

@@ -8,6 +8,7 @@ import (
 )
 
 func TestForecastBoardsTendsToBinomial(t *testing.T) {
+	t.Parallel()
 	// With a very large number of trials the yield is known and the batch
 	// count is binomial: the forecast's 2.5 % and 97.5 % points must be those
 	// of gonum's binomial distribution (an independent implementation).
@@ -40,6 +41,7 @@ func TestForecastBoardsTendsToBinomial(t *testing.T) {
 }
 
 func TestForecastBoardsWidensWithFewTrials(t *testing.T) {
+	t.Parallel()
 	// Fewer trials, same observed yield: the forecast can only widen.
 	many, _ := ForecastBoards(9000, 10000, 25)
 	few, _ := ForecastBoards(90, 100, 25)

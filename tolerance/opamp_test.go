@@ -60,6 +60,7 @@ func opampCascade(t *testing.T, c *optimize.Candidate, op *synth.OpAmp) func(f f
 }
 
 func TestSectionResponseIdealMatchesClosedForm(t *testing.T) {
+	t.Parallel()
 	// The nodal analysis built from the element list, with an ideal
 	// follower, must reproduce each topology's closed form (DOMAIN.md).
 	for _, topo := range synth.Topologies {
@@ -86,6 +87,7 @@ func TestSectionResponseIdealMatchesClosedForm(t *testing.T) {
 }
 
 func TestOpAmpAgainstNetlistAnalysis(t *testing.T) {
+	t.Parallel()
 	// synth.AnalyzeNetlist reads only the netlist text: an independent
 	// implementation of the same model.
 	ops := []synth.OpAmp{{GBW: 1e6}, {GBW: 3e5, DCGain: 2e4}, {GBW: 1e7, DCGain: 1e6}}
@@ -113,6 +115,7 @@ func TestOpAmpAgainstNetlistAnalysis(t *testing.T) {
 }
 
 func TestOpAmpAgainstNgspice(t *testing.T) {
+	t.Parallel()
 	const ngspice = "/usr/bin/ngspice"
 	if _, err := os.Stat(ngspice); err != nil {
 		t.Skip("ngspice not installed")
@@ -171,6 +174,7 @@ func TestOpAmpAgainstNgspice(t *testing.T) {
 }
 
 func TestGBWRuleBookExample(t *testing.T) {
+	t.Parallel()
 	// Op Amps for Everyone, 16.8.4: a 5th-order 10 kHz unity-gain Butterworth
 	// low-pass needs 1.5 MHz; the Q = 1.618 section sets it. Recomputed
 	// from the book's formula: 100·1.618034·10 kHz·√(2.118034/2.368034) =
@@ -217,6 +221,7 @@ func ruleWarnings(ws []string) []string {
 }
 
 func TestOpAmpErrorFallsWithGBW(t *testing.T) {
+	t.Parallel()
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Chebyshev, Ripple: 1, Pass: 5e3, Stop: 12e3, StopAtten: 40}
 	c := designCandidate(t, spec, 6, synth.OddOnePole, tols{0.01, 0.05})
 	prev := math.Inf(1)
@@ -242,6 +247,7 @@ func TestOpAmpErrorFallsWithGBW(t *testing.T) {
 }
 
 func TestHighPassUpperEdge(t *testing.T) {
+	t.Parallel()
 	// A high-pass with a 1 MHz op-amp stops passing near a fraction of the
 	// GBW; the report says where.
 	spec := synth.Spec{Kind: synth.HighPass, Approx: synth.Butterworth, Pass: 1e3, Order: 4}

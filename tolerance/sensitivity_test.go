@@ -11,6 +11,7 @@ import (
 )
 
 func TestSensitivitiesSallenKeyAnalytic(t *testing.T) {
+	t.Parallel()
 	// From the closed forms in DOMAIN.md, differentiating ln w0 and ln Q:
 	// low-pass  w0 = (R1 R2 Cf Cg)^-½, Q = √(R1 R2 Cf Cg)/(Cg(R1+R2)):
 	//   S^w0 = -½ for all; S^Q_R1 = ½ - R1/(R1+R2), S^Q_R2 = ½ - R2/(R1+R2),
@@ -58,6 +59,7 @@ func TestSensitivitiesSallenKeyAnalytic(t *testing.T) {
 }
 
 func TestSensitivitiesHomogeneity(t *testing.T) {
+	t.Parallel()
 	// Scaling every resistor by k scales every time constant by k, so w0
 	// goes as 1/k and Q is unchanged: for every topology the f0
 	// sensitivities to the resistors sum to -1, to the capacitors to -1, and
@@ -102,6 +104,7 @@ func TestSensitivitiesHomogeneity(t *testing.T) {
 }
 
 func TestWorstCaseFirstOrder(t *testing.T) {
+	t.Parallel()
 	// A buffered RC low-pass: the -3 dB frequency is 1/(2πRC) exactly, so
 	// the corners are R and C both at +tol (lowest) and both at -tol
 	// (highest).
@@ -141,6 +144,7 @@ func TestWorstCaseFirstOrder(t *testing.T) {
 }
 
 func TestChebyshevRippleEdge(t *testing.T) {
+	t.Parallel()
 	// Exact parts: the ripple-band edge is fp and the passband figure is the
 	// ripple, for even and odd orders (DOMAIN.md: fp is the ripple-band edge
 	// and Ap the ripple).
@@ -161,6 +165,7 @@ func TestChebyshevRippleEdge(t *testing.T) {
 }
 
 func TestBiasResistors(t *testing.T) {
+	t.Parallel()
 	// The DC resistance at each follower's + input (CHECK-VALUES.md,
 	// practical rules): R1+R2, R1+R2+R3, Rg or Rb for the high-passes, R for
 	// first-order sections.
@@ -208,6 +213,7 @@ func TestBiasResistors(t *testing.T) {
 }
 
 func TestPracticalWarnings(t *testing.T) {
+	t.Parallel()
 	c := sallenKey(680, 560e3, 22e-9, 47e-12, [4]float64{0.01, 0.01, 0.05, 0.05})
 	c.Sections[0].Components[2].Parts[0].Dielectric = "x7r"
 	w, err := Practical(c)

@@ -73,6 +73,7 @@ func evalCDF(ys, cdf []float64, y float64) float64 {
 }
 
 func TestF0DistributionAgainstExactConvolution(t *testing.T) {
+	t.Parallel()
 	// Invented section: 10 kΩ, 12 kΩ, 22 nF, 8.2 nF with 1 %, 2 %, 5 %, 10 %
 	// parts, so the four terms of ln f0 all differ.
 	tol := [4]float64{0.01, 0.02, 0.05, 0.10}
@@ -143,6 +144,7 @@ func TestF0DistributionAgainstExactConvolution(t *testing.T) {
 }
 
 func TestNormalDistributionIsThreeSigma(t *testing.T) {
+	t.Parallel()
 	// One resistor carries all the tolerance (5 %): with the normal model the
 	// section's f0 = 1/(2π sqrt(R1 R2 C1 C2)) has ln f0 ≈ -½ ln(1 + 0.05 Z/3),
 	// so the 5th-95th percentile span is about 2·1.645·0.05/3/2 in ln f0
@@ -173,6 +175,7 @@ func TestNormalDistributionIsThreeSigma(t *testing.T) {
 }
 
 func TestZeroToleranceGivesFullYield(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name  string
 		spec  synth.Spec
@@ -234,6 +237,7 @@ func paired(t *testing.T, c *optimize.Candidate, spec synth.Spec, opt Options, t
 }
 
 func TestWideningToleranceNeverRaisesYield(t *testing.T) {
+	t.Parallel()
 	// Property: with common random numbers (same seed), widening any one
 	// part's tolerance, or all of them, must not raise the yield beyond the
 	// sampling noise of the paired difference (McNemar: the changed trials
@@ -296,6 +300,7 @@ func TestWideningToleranceNeverRaisesYield(t *testing.T) {
 }
 
 func TestSeedReproducibleAndWorkerIndependent(t *testing.T) {
+	t.Parallel()
 	spec := butterworthLP(1e3, 2.5e3, 35)
 	c := designCandidate(t, spec, 6, synth.OddOnePole, tols{0.01, 0.05})
 	run := func(seed uint64, workers int) string {
@@ -323,6 +328,7 @@ func TestSeedReproducibleAndWorkerIndependent(t *testing.T) {
 }
 
 func TestJSONFields(t *testing.T) {
+	t.Parallel()
 	spec := butterworthLP(1e3, 2e3, 40)
 	c := designCandidate(t, spec, 8, synth.OddOnePole, tols{0.01, 0.05})
 	r, err := Run(context.Background(), c, spec, Options{Trials: 400, Seed: 9})
@@ -361,6 +367,7 @@ func TestJSONFields(t *testing.T) {
 }
 
 func TestWilsonInterval(t *testing.T) {
+	t.Parallel()
 	// R. G. Newcombe, "Two-sided confidence intervals for the single
 	// proportion: comparison of seven methods", Statistics in Medicine 17
 	// (1998), table II, Wilson score method without continuity correction
@@ -385,6 +392,7 @@ func TestWilsonInterval(t *testing.T) {
 }
 
 func TestBlameSingleCulprit(t *testing.T) {
+	t.Parallel()
 	// Only Cg has a tolerance: every failure is its doing.
 	f0 := 1 / (2 * math.Pi * math.Sqrt(10e3*10e3*20e-9*10e-9))
 	c := sallenKey(10e3, 10e3, 20e-9, 10e-9, [4]float64{0, 0, 0, 0.05})
@@ -402,6 +410,7 @@ func TestBlameSingleCulprit(t *testing.T) {
 }
 
 func TestAdviceIsComputed(t *testing.T) {
+	t.Parallel()
 	spec := butterworthLP(1e3, 2e3, 40)
 	c := designCandidate(t, spec, 8, synth.OddOnePole, tols{0.01, 0.01})
 	// The high-Q section's Cg (C8) is a 10 % part.
@@ -440,6 +449,7 @@ func TestAdviceIsComputed(t *testing.T) {
 }
 
 func TestNeededMarginReachesTarget(t *testing.T) {
+	t.Parallel()
 	spec := butterworthLP(1e3, 2e3, 40)
 	c := designCandidate(t, spec, 8, synth.OddOnePole, tols{0.01, 0.05})
 	opt := Options{Trials: 2000, Seed: 8, Brief: true}
@@ -490,6 +500,7 @@ func TestNeededMarginReachesTarget(t *testing.T) {
 }
 
 func TestNominalOnLimitLosesHalf(t *testing.T) {
+	t.Parallel()
 	// A Butterworth edge placed at fp sits on Ap by construction; with
 	// symmetric tolerances about half the boards fall on each side (the
 	// issue's statement; symmetry of the uniform draw about nominal).
@@ -518,6 +529,7 @@ func TestNominalOnLimitLosesHalf(t *testing.T) {
 }
 
 func TestRefitMovesEdgeInside(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name string
 		spec synth.Spec
@@ -576,6 +588,7 @@ func TestRefitMovesEdgeInside(t *testing.T) {
 }
 
 func TestOptionsErrors(t *testing.T) {
+	t.Parallel()
 	spec := butterworthLP(1e3, 2e3, 40)
 	c := designCandidate(t, spec, 8, synth.OddOnePole, tols{0.01, 0.05})
 	for _, o := range []Options{{Trials: -1}, {TargetYield: 1.5}, {Dist: "triangular"}, {PassMargin: math.NaN()}} {
@@ -596,6 +609,7 @@ func TestOptionsErrors(t *testing.T) {
 // TestUnknownToleranceWarned: a part whose stock row gives no tolerance is
 // simulated as exact; the result says so and names the position.
 func TestUnknownToleranceWarned(t *testing.T) {
+	t.Parallel()
 	// Invented values: a 1 kHz Butterworth section.
 	c := sallenKey(22.5e3, 22.5e3, 10e-9, 5e-9, [4]float64{0.01, 0.01, 0.05, 0})
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2}

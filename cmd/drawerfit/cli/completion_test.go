@@ -20,6 +20,7 @@ func runCompletionCmd(t *testing.T, args ...string) (int, string, string) {
 }
 
 func TestCompletionScripts(t *testing.T) {
+	t.Parallel()
 	// Each shell's script defines its entry point under the program's name
 	// (the forms cobra documents for its generators).
 	cases := []struct {
@@ -50,6 +51,7 @@ func TestCompletionScripts(t *testing.T) {
 // back into the binary's hidden __complete command, for which a stub on
 // PATH replays the real in-process answer.
 func TestCompletionBashRuns(t *testing.T) {
+	t.Parallel()
 	bash, err := exec.LookPath("bash")
 	if err != nil {
 		t.Skip("bash not installed")
@@ -100,6 +102,7 @@ printf '%s\n' "${COMPREPLY[@]}"`
 }
 
 func TestCompletionBadShell(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name string
 		args []string
@@ -119,6 +122,7 @@ func TestCompletionBadShell(t *testing.T) {
 }
 
 func TestCompletionHelp(t *testing.T) {
+	t.Parallel()
 	code, out, _ := runCompletionCmd(t, "completion", "--help")
 	if code != 0 || !strings.Contains(out, "source <(drawerfit completion bash)") {
 		t.Errorf("exit %d, help %q", code, out)

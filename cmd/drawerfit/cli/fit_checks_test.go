@@ -66,6 +66,7 @@ func wilsonRef(k, n int) (lo, hi float64) {
 }
 
 func TestFitYieldText(t *testing.T) {
+	t.Parallel()
 	// A 2nd-order Butterworth places its -3 dB point on fp by construction,
 	// so its nominal sits on the passband limit (issue text: about half the
 	// boards fail).
@@ -102,6 +103,7 @@ func TestFitYieldText(t *testing.T) {
 }
 
 func TestFitYieldJSON(t *testing.T) {
+	t.Parallel()
 	args := []string{"fit", "lowpass", "--pass", "1k", "--stop", "3k", "--atten", "25", "--order", "3", "--odd", "1pole", "--combine", "1",
 		"--stock", checksStock, "--top", "4", "--yield", "--trials", "250", "--seed", "11"}
 	f := checksFitJSON(t, args...)
@@ -159,6 +161,7 @@ func TestFitYieldJSON(t *testing.T) {
 }
 
 func TestFitRankYield(t *testing.T) {
+	t.Parallel()
 	f := checksFitJSON(t, "fit", "lowpass", "--pass", "1k", "--stop", "3k", "--atten", "25", "--order", "3", "--odd", "1pole", "--combine", "1",
 		"--stock", checksStock, "--top", "5", "--rank", "yield", "--trials", "250")
 	for i, c := range f.Candidates {
@@ -182,6 +185,7 @@ func TestFitRankYield(t *testing.T) {
 }
 
 func TestFitGBW(t *testing.T) {
+	t.Parallel()
 	base := []string{"fit", "lowpass", "--pass", "10k", "--order", "2", "--combine", "1", "--stock", checksStock, "--top", "2"}
 	cases := []struct {
 		name string
@@ -238,6 +242,7 @@ func TestFitGBW(t *testing.T) {
 // Everyone 16.8.4 (CHECK-VALUES.md): a 5th-order 10 kHz unity-gain
 // Butterworth needs 1.531 MHz (recomputed), for its Q 1.618 section.
 func TestFitGBWPublished(t *testing.T) {
+	t.Parallel()
 	base := []string{"fit", "lowpass", "--pass", "10k", "--order", "5", "--odd", "1pole", "--combine", "1", "--stock", checksStock, "--top", "1"}
 	for _, tc := range []struct {
 		gbw string
@@ -296,6 +301,7 @@ func checksResistors(t *testing.T) []stock.Item {
 }
 
 func TestFitBiasResistor(t *testing.T) {
+	t.Parallel()
 	rs := checksResistors(t)
 	// Nearest realisable value by brute force over every single part and,
 	// with pairs, every pair in series and in parallel.
@@ -391,6 +397,7 @@ func TestFitBiasResistor(t *testing.T) {
 // TestFitBiasResistorQuantities: with --boards the bias resistors take only
 // parts the candidate leaves in each row.
 func TestFitBiasResistorQuantities(t *testing.T) {
+	t.Parallel()
 	qty := map[int64]int{}
 	for i, it := range func() []stock.Item {
 		fh, err := os.Open(checksStock)
@@ -431,6 +438,7 @@ func TestFitBiasResistorQuantities(t *testing.T) {
 }
 
 func TestFitWarnings(t *testing.T) {
+	t.Parallel()
 	// At 100 kHz with capacitors of at least 10 nF, a 2nd-order section has
 	// sqrt(R1·R2) = 1/(2π·f0·sqrt(C1·C2)) <= 159 Ω, so some resistor is below
 	// 1 kΩ, which the practical checks flag (common practice, no source).
@@ -453,6 +461,7 @@ func TestFitWarnings(t *testing.T) {
 }
 
 func TestFitReport(t *testing.T) {
+	t.Parallel()
 	dir := t.TempDir()
 	sheet := filepath.Join(dir, "sheet.html")
 	pngs := filepath.Join(dir, "plots")
@@ -501,6 +510,7 @@ func TestFitReport(t *testing.T) {
 }
 
 func TestFitCheckErrors(t *testing.T) {
+	t.Parallel()
 	base := []string{"fit", "lowpass", "--pass", "1k", "--order", "2", "--combine", "1", "--stock", checksStock, "--top", "1"}
 	cases := []struct {
 		name string

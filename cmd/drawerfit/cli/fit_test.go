@@ -11,6 +11,7 @@ import (
 const sampleCSV = "../../../sample-stock.csv"
 
 func TestFitJSONShape(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	out := s.ok("fit", "lowpass", "--pass", "2k", "--order", "4", "--stock", sampleCSV, "--top", "3", "--json")
 	var doc map[string]any
@@ -64,6 +65,7 @@ func TestFitJSONShape(t *testing.T) {
 }
 
 func TestFitTableAndNetlistFile(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	net := filepath.Join(s.dir, "best.cir")
 	out := s.ok("fit", "highpass", "--pass", "200", "--order", "2", "--stock", sampleCSV, "--netlist", net)
@@ -82,6 +84,7 @@ func TestFitTableAndNetlistFile(t *testing.T) {
 }
 
 func TestFitExitCodes(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	tiny := s.write("tiny.csv", "kind,value,quantity,dielectric\nR,10k,5,\nR,22k,5,\nC,100p,5,C0G\nC,220p,5,C0G\n")
 	for _, tc := range []struct {

@@ -54,6 +54,7 @@ func planJSONOf(t *testing.T, args ...string) planJSON {
 // TestPlanJSONKeys checks the keys and types issue 3 promises for --json,
 // reading the raw object so a renamed key fails.
 func TestPlanJSONKeys(t *testing.T) {
+	t.Parallel()
 	code, out, errs := runPlanCmd(t, "plan", "lowpass", "--pass", "1k", "--order", "3", "--json")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
@@ -109,6 +110,7 @@ func TestPlanJSONKeys(t *testing.T) {
 // netlist analysed independently gives the same attenuations (1e-6 dB),
 // and the components in the JSON are the ones in the netlist.
 func TestPlanMeetsSpec(t *testing.T) {
+	t.Parallel()
 	cases := [][]string{
 		{"lowpass", "--pass", "1k", "--stop", "3k", "--atten", "40"},
 		{"lowpass", "--pass", "1k", "--stop", "3k", "--atten", "40", "--odd", "3pole"},
@@ -169,6 +171,7 @@ func TestPlanMeetsSpec(t *testing.T) {
 // TestPlanFrequencyForms checks that 1.5k, 1.5kHz and 1500 are the same
 // frequency (issue 3).
 func TestPlanFrequencyForms(t *testing.T) {
+	t.Parallel()
 	var first string
 	for _, f := range []string{"1.5k", "1.5kHz", "1500", "1.5 kHz"} {
 		code, out, errs := runPlanCmd(t, "plan", "lowpass", "--pass", f, "--order", "4", "--json")
@@ -186,6 +189,7 @@ func TestPlanFrequencyForms(t *testing.T) {
 // TestPlanAnchor checks --anchor: each section's largest capacitor gets
 // the anchor value (the classical hand procedure, DOMAIN.md scaling).
 func TestPlanAnchor(t *testing.T) {
+	t.Parallel()
 	for _, kind := range []string{"lowpass", "highpass"} {
 		p := planJSONOf(t, kind, "--pass", "3k", "--order", "7", "--odd", "3pole", "--anchor", "4n7")
 		for i, s := range p.Sections {
@@ -212,6 +216,7 @@ func TestPlanAnchor(t *testing.T) {
 // TestPlanNetlistFile checks that --netlist writes the same text as the
 // JSON carries.
 func TestPlanNetlistFile(t *testing.T) {
+	t.Parallel()
 	path := filepath.Join(t.TempDir(), "f.cir")
 	p := planJSONOf(t, "lowpass", "--pass", "1k", "--order", "5", "--netlist", path)
 	b, err := os.ReadFile(path)
@@ -230,6 +235,7 @@ func TestPlanNetlistFile(t *testing.T) {
 // TestPlanErrors checks the exit statuses: 2 for every bad specification
 // of issue 3 and for usage mistakes, 1 for an infeasible one.
 func TestPlanErrors(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name string
 		args []string
@@ -281,6 +287,7 @@ func TestPlanErrors(t *testing.T) {
 
 // TestPlanHelp checks that --help has a worked example.
 func TestPlanHelp(t *testing.T) {
+	t.Parallel()
 	code, out, _ := runPlanCmd(t, "plan", "--help")
 	if code != 0 || !strings.Contains(out, "drawerfit plan highpass --pass 40k") || !strings.Contains(out, "--anchor") {
 		t.Errorf("exit %d, help %q", code, out)
@@ -290,6 +297,7 @@ func TestPlanHelp(t *testing.T) {
 // TestPlanGolden pins the piped (tab-separated) text output of two plans;
 // rewrite with go test ./cmd/drawerfit/cli -run PlanGolden -update.
 func TestPlanGolden(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		file string
 		args []string

@@ -55,6 +55,7 @@ order = 4
 `
 
 func TestFitSaveShowRoundTrip(t *testing.T) {
+	t.Parallel()
 	s := sampleEnv(t)
 	var fit map[string]any
 	if code := s.jsonOf(&fit, "fit", "lowpass", "--pass", "2k", "--order", "4", "--combine", "1", "--top", "3", "--save", "--json"); code != 0 {
@@ -107,6 +108,7 @@ func TestFitSaveShowRoundTrip(t *testing.T) {
 }
 
 func TestSaveRefusesCSVStock(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	_, errs, code := s.run("", "fit", "lowpass", "--pass", "2k", "--order", "2", "--combine", "1",
 		"--stock", filepath.Join("..", "..", "..", "sample-stock.csv"), "--save")
@@ -116,6 +118,7 @@ func TestSaveRefusesCSVStock(t *testing.T) {
 }
 
 func TestPlanBuildUndo(t *testing.T) {
+	t.Parallel()
 	s := sampleEnv(t)
 	plan := s.write("intercom.toml", intercomPlan)
 	var fit struct {
@@ -189,6 +192,7 @@ func TestPlanBuildUndo(t *testing.T) {
 }
 
 func TestBuildRefusedOnShortfall(t *testing.T) {
+	t.Parallel()
 	s := sampleEnv(t)
 	var fit map[string]any
 	s.jsonOf(&fit, "fit", "lowpass", "--pass", "2k", "--order", "2", "--combine", "1", "--top", "1", "--save", "--json")
@@ -231,6 +235,7 @@ func TestBuildRefusedOnShortfall(t *testing.T) {
 func itoa64(n int64) string { return strconv.FormatInt(n, 10) }
 
 func TestPlanFileMistakes(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	s.ok("stock", "import", s.write("drawer.csv", smallDrawer))
 	cases := []struct {
@@ -257,6 +262,7 @@ func TestPlanFileMistakes(t *testing.T) {
 }
 
 func TestShippedExamplePlanParses(t *testing.T) {
+	t.Parallel()
 	p, err := readPlan(filepath.Join("..", "..", "..", "examples", "hydrophone-board.toml"))
 	if err != nil {
 		t.Fatal(err)
@@ -267,6 +273,7 @@ func TestShippedExamplePlanParses(t *testing.T) {
 }
 
 func TestFitSuggestJSON(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("several fits")
 	}
@@ -294,6 +301,7 @@ func TestFitSuggestJSON(t *testing.T) {
 }
 
 func TestYieldReadsSavedDesigns(t *testing.T) {
+	t.Parallel()
 	s := sampleEnv(t)
 	plan := s.write("intercom.toml", intercomPlan)
 	var fit struct {
@@ -327,6 +335,7 @@ func TestYieldReadsSavedDesigns(t *testing.T) {
 }
 
 func TestProductionCommandsHaveExamples(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	for _, args := range [][]string{{"designs"}, {"designs", "remove"}, {"show"}, {"build"}, {"build", "undo"}, {"builds"}, {"yield"}} {
 		out := s.ok(append(args, "--help")...)

@@ -74,6 +74,7 @@ func savedDesignDB(t *testing.T, boards int, name string, filters ...[]synth.Spe
 }
 
 func TestReportSavedDesign(t *testing.T) {
+	t.Parallel()
 	lp := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 2e3, Stop: 6e3, StopAtten: 25, Order: 3, Odd: synth.OddOnePole}
 	hp := synth.Spec{Kind: synth.HighPass, Approx: synth.Bessel, Pass: 100, Order: 2}
 	db, ids := savedDesignDB(t, 4, "Tide gauge front end", []synth.Spec{lp}, []synth.Spec{lp, hp})

@@ -100,6 +100,7 @@ const smallDrawer = "kind,value,tolerance,quantity,package,dielectric,location,n
 	"C,100n,10%,15,radial,X7R,C9,decoupling only\n"
 
 func TestStockListJSONKeys(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	s.ok("stock", "import", s.write("drawer.csv", smallDrawer))
 	items := s.listJSON()
@@ -134,6 +135,7 @@ func TestStockListJSONKeys(t *testing.T) {
 }
 
 func TestStockListTable(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	s.ok("stock", "import", s.write("drawer.csv", smallDrawer))
 	out := s.ok("stock", "list")
@@ -157,6 +159,7 @@ func TestStockListTable(t *testing.T) {
 }
 
 func TestStockImportRefusesBadFileAndKeepsDatabase(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	s.ok("stock", "import", s.write("drawer.csv", smallDrawer))
 	before := s.ok("stock", "export")
@@ -184,6 +187,7 @@ func TestStockImportRefusesBadFileAndKeepsDatabase(t *testing.T) {
 }
 
 func TestStockImportMergesAndReplaces(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	f := s.write("drawer.csv", smallDrawer)
 	s.ok("stock", "import", f)
@@ -208,6 +212,7 @@ func TestStockImportMergesAndReplaces(t *testing.T) {
 // TestStockExportImportRoundTrip: exporting and importing with --replace into
 // an empty database gives back exactly the same inventory.
 func TestStockExportImportRoundTrip(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	s.ok("stock", "import", s.write("drawer.csv", smallDrawer))
 	s.ok("stock", "add", "47K3", "--kind", "R", "--qty", "3", "--tol", "0.1%", "--note", "=trim pot spare", "--location", "+top")
@@ -294,6 +299,7 @@ func TestStockAmplifierRows(t *testing.T) {
 }
 
 func TestStockAddSetRemoveHistory(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	out := s.ok("stock", "add", "4.7k", "--kind", "resistor", "--qty", "50", "--tol", "F", "--package", "0805", "--location", "A3")
 	if out != "#1 4.7 kΩ 1% 0805 @A3: new row, 50 on hand\n" {
@@ -332,6 +338,7 @@ func TestStockAddSetRemoveHistory(t *testing.T) {
 }
 
 func TestStockCommandErrors(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	s.ok("stock", "add", "1k", "--kind", "R", "--qty", "5")
 	cases := []struct {
@@ -371,6 +378,7 @@ func TestStockCommandErrors(t *testing.T) {
 }
 
 func TestStockImportFromStdin(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	_, errs, code := s.run(smallDrawer, "stock", "import", "-")
 	if code != 0 {
@@ -382,6 +390,7 @@ func TestStockImportFromStdin(t *testing.T) {
 }
 
 func TestOpenStoreCreatesDirectory(t *testing.T) {
+	t.Parallel()
 	home := t.TempDir()
 	var out, errb bytes.Buffer
 	env := &Env{In: strings.NewReader(""), Out: &out, Err: &errb,
@@ -402,6 +411,7 @@ func TestOpenStoreCreatesDirectory(t *testing.T) {
 // TestSampleStockImports checks the bundled sample drawer: it imports
 // cleanly, has 120 to 200 rows, and holds what the issue asks for.
 func TestSampleStockImports(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	s.ok("stock", "import", filepath.Join("..", "..", "..", "sample-stock.csv"))
 	items := s.listJSON()

@@ -81,6 +81,7 @@ func runYieldCmd(t *testing.T, src designSource, args ...string) (int, string) {
 }
 
 func TestYieldText(t *testing.T) {
+	t.Parallel()
 	src := yieldFixture(t)
 	code, out := runYieldCmd(t, src, "12", "--boards", "25", "--gbw", "200k", "--bias-resistor", "--trials", "800")
 	if code != 0 {
@@ -101,6 +102,7 @@ func TestYieldText(t *testing.T) {
 }
 
 func TestYieldJSON(t *testing.T) {
+	t.Parallel()
 	src := yieldFixture(t)
 	code, out := runYieldCmd(t, src, "12", "--json", "--trials", "600", "--seed", "9")
 	if code != 0 {
@@ -130,6 +132,7 @@ func TestYieldJSON(t *testing.T) {
 }
 
 func TestYieldErrors(t *testing.T) {
+	t.Parallel()
 	src := yieldFixture(t)
 	cases := []struct {
 		name string
