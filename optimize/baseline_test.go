@@ -103,11 +103,11 @@ func handSectionValues(sec *synth.Section, hs *handStock, o Options) (handSectio
 	t := sec.Topology
 	norm, ok := t.Normalised(sec.Den)
 	if !ok {
-		return handSection{}, fmt.Errorf("%s: no positive normalised element values", t.Name)
+		return handSection{}, fmt.Errorf("%s: no positive normalised element values", t.Name())
 	}
 	anchor := -1
 	rlo, rhi := math.Inf(1), 0.0
-	for i, e := range t.Elements {
+	for i, e := range t.Elements() {
 		if e.Kind == synth.Capacitor && (anchor < 0 || norm[i] > norm[anchor]) {
 			anchor = i
 		}
@@ -125,12 +125,12 @@ func handSectionValues(sec *synth.Section, hs *handStock, o Options) (handSectio
 		}
 	}
 	if len(fits) == 0 {
-		return handSection{}, fmt.Errorf("%s: no stock capacitor puts the resistors within %g–%g Ω", t.Name, o.RMin, o.RMax)
+		return handSection{}, fmt.Errorf("%s: no stock capacitor puts the resistors within %g–%g Ω", t.Name(), o.RMin, o.RMax)
 	}
 	ca := nearestLog(fits, ideal)
 	kz := norm[anchor] / ca
 	hsec := handSection{values: make([]float64, len(norm)), anchor: anchor}
-	for i, e := range t.Elements {
+	for i, e := range t.Elements() {
 		switch {
 		case i == anchor:
 			hsec.values[i] = ca
@@ -156,7 +156,7 @@ func handProcedure(d *synth.Design, hs *handStock, o Options) (*handDesign, erro
 			return nil, fmt.Errorf("section %d: %w", i+1, err)
 		}
 		hd.sections = append(hd.sections, s)
-		for j, e := range sec.Topology.Elements {
+		for j, e := range sec.Topology.Elements() {
 			used[e.Kind][s.values[j]]++
 		}
 		hd.parts += len(s.values)
@@ -311,7 +311,7 @@ func TestHandProcedureBaselineTable(t *testing.T) {
 				n, hd.passAtten, hd.parts, ca.ResponseError, ca.MeetsSpec)
 			for i, s := range hd.sections {
 				st := synth.StageOf(d.Sections[i].Topology, s.values)
-				fmt.Fprintf(&detail, "    section %d anchor %s: %s\n", i+1, d.Sections[i].Topology.Elements[s.anchor].Ref, st)
+				fmt.Fprintf(&detail, "    section %d anchor %s: %s\n", i+1, d.Sections[i].Topology.Element(s.anchor).Ref, st)
 			}
 		})
 	}

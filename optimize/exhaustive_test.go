@@ -94,7 +94,7 @@ func exhaustiveBest(d *synth.Design, res, caps []float64) float64 {
 	for _, sec := range d.Sections {
 		t := sec.Topology
 		var list [][]float64
-		v := make([]float64, len(t.Elements))
+		v := make([]float64, t.NumElements())
 		var rec func(i int)
 		rec = func(i int) {
 			if i == len(v) {
@@ -106,7 +106,7 @@ func exhaustiveBest(d *synth.Design, res, caps []float64) float64 {
 				return
 			}
 			vals := res
-			if t.Elements[i].Kind == synth.Capacitor {
+			if t.Element(i).Kind == synth.Capacitor {
 				vals = caps
 			}
 			for _, x := range vals {

@@ -434,7 +434,7 @@ func assemble(cb *combo, d *synth.Design, lists [][]sectionCand, rows []Row, res
 		sc := &lists[s][pick]
 		sec := d.Sections[s]
 		sf := SectionFit{Target: sec}
-		for i, el := range sec.Topology.Elements {
+		for i, el := range sec.Topology.Elements() {
 			vs := res
 			ref := ""
 			if el.Kind == synth.Capacitor {
@@ -468,7 +468,7 @@ func assemble(cb *combo, d *synth.Design, lists [][]sectionCand, rows []Row, res
 // pair, or its real pole, from the element values.
 func realised(t *synth.Topology, v []float64) (f0, q, realF0 float64) {
 	_, den := t.Coeffs(v)
-	switch t.Poles {
+	switch t.Poles() {
 	case 1:
 		return 1 / (2 * math.Pi * den[1]), 0, 0
 	case 2:
@@ -554,9 +554,9 @@ func explain(r *Result, diags [][]sectionDiag, rows []Row, o Options) []string {
 		d := r.Designs[di]
 		for si, sd := range ds {
 			sec := d.Sections[si]
-			where := fmt.Sprintf("order %d (%s), section %d (%s, f0 %.4g Hz, Q %.3f)", d.Order, arrangementName(d), si+1, sec.Topology.Name, sec.F0, sec.Q)
+			where := fmt.Sprintf("order %d (%s), section %d (%s, f0 %.4g Hz, Q %.3f)", d.Order, arrangementName(d), si+1, sec.Topology.Name(), sec.F0, sec.Q)
 			switch {
-			case sd.ratioOK == 0 && sec.Topology == &synth.SallenKeyLowPass:
+			case sd.ratioOK == 0 && sec.Topology == synth.SallenKeyLowPass():
 				out = append(out, fmt.Sprintf("%s: no capacitor pair with the needed ratio Cf/Cg >= 4Q² = %.2f and resistors within %s–%s",
 					where, 4*sec.Q*sec.Q, fmtOhm(o.RMin), fmtOhm(o.RMax)))
 			case sd.ratioOK == 0:

@@ -91,7 +91,7 @@ type target struct {
 func newTarget(sec *synth.Section, g *scoreGrid) *target {
 	t := &target{sec: sec, topo: sec.Topology, grid: g, tdb: make([]float64, len(g.w)),
 		w0: 2 * math.Pi * sec.F0, q: sec.Q, boxes: map[int]box{}}
-	n := sec.Topology.Poles
+	n := sec.Topology.Poles()
 	t.tg2 = make([]float64, len(g.w))
 	for i, w := range g.w {
 		t.tg2[i] = synth.Gain2(sec.Num, sec.Den, n, w)
@@ -126,7 +126,7 @@ func uniqueInts(xs ...int) []int {
 // probeErr returns the largest |deviation| in dB at the probe points.
 // Gains are compared as ratios so that only one logarithm is taken.
 func (t *target) probeErr(num, den synth.Poly) float64 {
-	n := t.topo.Poles
+	n := t.topo.Poles()
 	hi, lo := 1.0, 1.0
 	for _, i := range t.probe {
 		r := synth.Gain2(num, den, n, t.grid.w[i]) / t.tg2[i]
@@ -138,7 +138,7 @@ func (t *target) probeErr(num, den synth.Poly) float64 {
 // fullErr returns the largest |deviation| over the grid and, when dev is
 // not nil, writes the signed deviation (candidate - target, dB) into it.
 func (t *target) fullErr(num, den synth.Poly, dev []float64) float64 {
-	n := t.topo.Poles
+	n := t.topo.Poles()
 	if dev == nil {
 		hi, lo := 1.0, 1.0
 		for i, w := range t.grid.w {
@@ -200,9 +200,9 @@ func levelValue(k int) float64 { return 1e-7 * math.Pow(math.Sqrt2, float64(k)) 
 func (t *target) shapeErr(x, y float64, coarse []int) float64 {
 	w0 := t.w0 * math.Exp(x)
 	var num, den synth.Poly
-	if t.topo.Poles == 1 {
+	if t.topo.Poles() == 1 {
 		den = synth.Poly{1, 1 / w0}
-		if t.topo.Response == synth.LowPass {
+		if t.topo.Response() == synth.LowPass {
 			num = synth.Poly{1}
 		} else {
 			num = synth.Poly{0, 1 / w0}
@@ -210,13 +210,13 @@ func (t *target) shapeErr(x, y float64, coarse []int) float64 {
 	} else {
 		q := t.q * math.Exp(y)
 		den = synth.Poly{1, 1 / (w0 * q), 1 / (w0 * w0)}
-		if t.topo.Response == synth.LowPass {
+		if t.topo.Response() == synth.LowPass {
 			num = synth.Poly{1}
 		} else {
 			num = synth.Poly{0, 0, 1 / (w0 * w0)}
 		}
 	}
-	n := t.topo.Poles
+	n := t.topo.Poles()
 	var e float64
 	for _, i := range coarse {
 		d := math.Abs(10*math.Log10(synth.Gain2(num, den, n, t.grid.w[i])) - t.tdb[i])
@@ -251,7 +251,7 @@ func (t *target) boxAtLocked(k int) box {
 		base := t.boxAtLocked(linearLevel)
 		f := 1.1 * levelValue(k) / levelValue(linearLevel)
 		b := box{xlo: base.xlo * f, xhi: base.xhi * f, ylo: base.ylo * f, yhi: base.yhi * f}
-		if t.topo.Poles == 1 {
+		if t.topo.Poles() == 1 {
 			b.ylo, b.yhi = math.Inf(-1), math.Inf(1)
 		}
 		b.e2xhi, b.e2xlo = math.Exp(-2*b.xhi), math.Exp(-2*b.xlo)
@@ -271,14 +271,14 @@ func (t *target) boxAtLocked(k int) box {
 	}
 	coarse = append(coarse, t.probe...)
 	rays := 48
-	if t.topo.Poles == 1 {
+	if t.topo.Poles() == 1 {
 		rays = 2
 	}
 	var b box
 	const rmax = 6.0 // e^6 ≈ 400: beyond any useful deviation
 	for r := 0; r < rays; r++ {
 		th := 2 * math.Pi * float64(r) / float64(rays)
-		if t.topo.Poles == 1 {
+		if t.topo.Poles() == 1 {
 			th = float64(r) * math.Pi
 		}
 		cx, cy := math.Cos(th), math.Sin(th)
@@ -303,7 +303,7 @@ func (t *target) boxAtLocked(k int) box {
 	}
 	const widen, margin = 1.2, 1e-9
 	b = box{xlo: b.xlo*widen - margin, xhi: b.xhi*widen + margin, ylo: b.ylo*widen - margin, yhi: b.yhi*widen + margin}
-	if t.topo.Poles == 1 {
+	if t.topo.Poles() == 1 {
 		b.ylo, b.yhi = math.Inf(-1), math.Inf(1)
 	}
 	b.e2xhi, b.e2xlo = math.Exp(-2*b.xhi), math.Exp(-2*b.xlo)

@@ -27,7 +27,7 @@ type sectionCand struct {
 // tell apart (its transfer function depends on their sum and product).
 func symmetricPair(t *synth.Topology) (int, int, bool) {
 	switch t {
-	case &synth.SallenKeyLowPass, &synth.SallenKeyHighPass:
+	case synth.SallenKeyLowPass(), synth.SallenKeyHighPass():
 		return 0, 1, true
 	}
 	return 0, 0, false
@@ -280,7 +280,7 @@ func (s *sectionSearch) run(workers int) ([]sectionCand, sectionDiag) {
 	for i := range out {
 		c := &out[i]
 		c.dev = make([]float64, len(s.t.grid.w))
-		num, den := s.t.topo.Coeffs(c.vals[:len(s.t.topo.Elements)])
+		num, den := s.t.topo.Coeffs(c.vals[:s.t.topo.NumElements()])
 		c.err = s.t.fullErr(num, den, c.dev)
 	}
 	return out, diag
@@ -289,7 +289,7 @@ func (s *sectionSearch) run(workers int) ([]sectionCand, sectionDiag) {
 // offer scores the element assignment in w.v/w.r and keeps it if good.
 func (w *worker) offer() {
 	s := w.s
-	n := len(s.t.topo.Elements)
+	n := s.t.topo.NumElements()
 	// The Sallen-Key responses are symmetric in one pair of elements (R1,
 	// R2 of the low-pass; C1, C2 of the high-pass): keep the larger value
 	// first so that one circuit has one form.
@@ -314,7 +314,7 @@ func (w *worker) offer() {
 	var tol float64
 	for i := 0; i < n; i++ {
 		re := w.realOf(i)
-		tol += realTolerance(s.t.topo.Elements[i].Kind, re, s.rows)
+		tol += realTolerance(s.t.topo.Element(i).Kind, re, s.rows)
 	}
 	c := sectionCand{err: e, parts: parts, reals: w.r, vals: w.v, rows: rows, tol: tol}
 	w.list.add(c)
@@ -323,7 +323,7 @@ func (w *worker) offer() {
 }
 
 func (w *worker) realOf(i int) *real {
-	if w.s.t.topo.Elements[i].Kind == synth.Capacitor {
+	if w.s.t.topo.Element(i).Kind == synth.Capacitor {
 		return &w.s.cap.reals[w.r[i]]
 	}
 	return &w.s.res.reals[w.r[i]]
@@ -363,15 +363,15 @@ func (w *worker) rowUse(n int) ([]rowCount, bool) {
 }
 
 func (w *worker) search(part, of int) {
-	if w.s.t.topo.Poles <= 2 {
+	if w.s.t.topo.Poles() <= 2 {
 		w.seed(part, of)
 	}
 	switch w.s.t.topo {
-	case &synth.FirstOrderLowPass, &synth.FirstOrderHighPass:
+	case synth.FirstOrderLowPass(), synth.FirstOrderHighPass():
 		w.searchFirstOrder(part, of)
-	case &synth.SallenKeyLowPass:
+	case synth.SallenKeyLowPass():
 		w.searchSallenKeyLowPass(part, of)
-	case &synth.SallenKeyHighPass:
+	case synth.SallenKeyHighPass():
 		w.searchSallenKeyHighPass(part, of)
 	default:
 		w.searchThreePole(part, of)
@@ -406,7 +406,7 @@ func (w *worker) seed(part, of int) {
 			w.r[i] = cs[j]
 			w.v[i] = s.cap.vals[cs[j]]
 		}
-		sols, _ := topo.SolveAppend(w.v[:len(topo.Elements)], s.t.sec.Den, w.sols[:0])
+		sols, _ := topo.SolveAppend(w.v[:topo.NumElements()], s.t.sec.Den, w.sols[:0])
 		w.sols = sols
 		if len(sols) == 0 {
 			continue
@@ -452,7 +452,7 @@ func (w *worker) searchFirstOrder(part, of int) {
 	s := w.s
 	t := s.t
 	ri, ci := 0, 1
-	if t.topo.Elements[0].Kind == synth.Capacitor {
+	if t.topo.Element(0).Kind == synth.Capacitor {
 		ri, ci = 1, 0
 	}
 	for c := part; c < len(s.cap.reals) && !s.halted(); c += of {
@@ -725,7 +725,7 @@ func (w *worker) searchThreePole(part, of int) {
 // Elements order (a, b, c).
 func threePoleAdmits(t *synth.Topology, a, b, c float64, den synth.Poly, rmin, rmax float64) bool {
 	var k1, k2 float64
-	if t.Response == synth.LowPass {
+	if t.Response() == synth.LowPass {
 		// Elements Ca, Cf, Cb: a1 = Ca R1 + Cb(R1+R2+R3),
 		// a2 = Ca Cb R1(R2+R3) + Cb Cf R3(R1+R2).
 		ca, cf, cb := a, b, c

@@ -151,7 +151,7 @@ func EncodeDesign(d *Design) ([]byte, error) {
 			dc.StopAtten = &v
 		}
 		for _, s := range c.Sections {
-			ds := docSection{Topology: s.Target.Topology.ID, F0: s.F0, Q: s.Q, RealF0: s.RealF0}
+			ds := docSection{Topology: s.Target.Topology.ID(), F0: s.F0, Q: s.Q, RealF0: s.RealF0}
 			for _, comp := range s.Components {
 				dcomp := docComponent{Ref: comp.Ref, Symbol: comp.Symbol, Kind: comp.Kind.String(), Value: comp.Value,
 					Arrangement: comp.Arrangement.String()}
@@ -229,15 +229,15 @@ func (dc docCandidate) candidate(spec synth.Spec) (*optimize.Candidate, error) {
 	}
 	for i, ds := range dc.Sections {
 		target := sd.Sections[i]
-		if target.Topology.ID != ds.Topology {
-			return nil, fmt.Errorf("section %d is now a %s, saved as %s", i+1, target.Topology.ID, ds.Topology)
+		if target.Topology.ID() != ds.Topology {
+			return nil, fmt.Errorf("section %d is now a %s, saved as %s", i+1, target.Topology.ID(), ds.Topology)
 		}
-		if len(ds.Components) != len(target.Topology.Elements) {
-			return nil, fmt.Errorf("section %d has %d components, its topology %d", i+1, len(ds.Components), len(target.Topology.Elements))
+		if len(ds.Components) != target.Topology.NumElements() {
+			return nil, fmt.Errorf("section %d has %d components, its topology %d", i+1, len(ds.Components), target.Topology.NumElements())
 		}
 		sf := optimize.SectionFit{Target: target, F0: ds.F0, Q: ds.Q, RealF0: ds.RealF0}
 		for j, dcomp := range ds.Components {
-			kind := target.Topology.Elements[j].Kind
+			kind := target.Topology.Element(j).Kind
 			if kind.String() != dcomp.Kind {
 				return nil, fmt.Errorf("section %d element %d is a %s, saved as %s", i+1, j+1, kind, dcomp.Kind)
 			}

@@ -223,7 +223,7 @@ func twinStock(t *testing.T, qty int) ([]stock.Item, synth.Spec) {
 	}
 	var items []stock.Item
 	for bin := 0; bin < 2; bin++ {
-		for k, e := range st[0].Topology.Elements {
+		for k, e := range st[0].Topology.Elements() {
 			it := stock.Item{ID: int64(len(items) + 1), Kind: stock.Resistor, Value: st[0].Positions[k].Parts[0], Tolerance: 0.01,
 				Quantity: qty, Package: "0805", Location: fmt.Sprintf("bin %c%d", 'A'+bin, k)}
 			if e.Kind == synth.Capacitor {

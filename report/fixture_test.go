@@ -80,7 +80,7 @@ func buildCandidate(t testing.TB, spec synth.Spec, odd synth.Odd) *optimize.Cand
 	for si, st := range stages {
 		sf := optimize.SectionFit{Target: d.Sections[si]}
 		for ei, val := range st.Values() {
-			el := st.Topology.Elements[ei]
+			el := st.Topology.Element(ei)
 			comp := optimize.Component{Symbol: el.Symbol, Kind: el.Kind, Arrangement: synth.Single}
 			if el.Kind == synth.Resistor {
 				nr++
@@ -176,7 +176,7 @@ func finish(c *optimize.Candidate) {
 // root of the cubic.
 func realisedF0Q(sf *optimize.SectionFit) (f0, q, real float64) {
 	_, den := sf.Target.Topology.Coeffs(sf.Values())
-	switch sf.Target.Topology.Poles {
+	switch sf.Target.Topology.Poles() {
 	case 1:
 		return 1 / (2 * math.Pi * den[1]), 0, 0
 	case 2:

@@ -84,11 +84,11 @@ func ElementRole(t *synth.Topology, e synth.Element) string {
 		return "feedback " + kind
 	case touches("in"):
 		return "input " + kind
-	case touches("0") && other("0") == t.Plus:
+	case touches("0") && other("0") == t.Plus():
 		return kind + " from + input to ground"
 	case touches("0"):
 		return kind + " to ground"
-	case touches(t.Plus):
+	case touches(t.Plus()):
 		return "series " + kind + " to + input"
 	}
 	return "series " + kind

@@ -262,9 +262,9 @@ func build(s *Sheet) (*view, error) {
 		if sf.Target.Topology == nil {
 			return nil, fmt.Errorf("report: section %d has no topology", i+1)
 		}
-		if len(sf.Components) != len(sf.Target.Topology.Elements) {
+		if len(sf.Components) != sf.Target.Topology.NumElements() {
 			return nil, fmt.Errorf("report: section %d has %d components for %d positions of %s",
-				i+1, len(sf.Components), len(sf.Target.Topology.Elements), sf.Target.Topology.Name)
+				i+1, len(sf.Components), sf.Target.Topology.NumElements(), sf.Target.Topology.Name())
 		}
 		for _, comp := range sf.Components {
 			if len(comp.Parts) == 0 {
@@ -499,7 +499,7 @@ func summary(c *optimize.Candidate, bias []BiasResistor, amps []Amplifier) []Fac
 func sectionList(c *optimize.Candidate) string {
 	names := make([]string, len(c.Sections))
 	for i, s := range c.Sections {
-		names[i] = fmt.Sprintf("%d-pole", s.Target.Topology.Poles)
+		names[i] = fmt.Sprintf("%d-pole", s.Target.Topology.Poles())
 	}
 	return strings.Join(names, " + ")
 }
@@ -600,17 +600,17 @@ func section(s *Sheet, i int, amps []Amplifier) (sectionView, error) {
 		out = fmt.Sprintf("to section %d", i+2)
 	}
 	svg, err := schematic.SVG(t, schematic.Options{
-		ID: fmt.Sprintf("%ssch-%d", s.idPrefix, i+1), Title: fmt.Sprintf("Section %d: %s", i+1, t.Name),
+		ID: fmt.Sprintf("%ssch-%d", s.idPrefix, i+1), Title: fmt.Sprintf("Section %d: %s", i+1, t.Name()),
 		Labels: labels, OpAmp: op, In: in, Out: out, Bias: bias, Pins: pins,
 	})
 	if err != nil {
 		return sectionView{}, fmt.Errorf("report: section %d: %w", i+1, err)
 	}
 	sv := sectionView{
-		N: i + 1, Heading: fmt.Sprintf("Section %d of %d: %s", i+1, len(c.Sections), t.Name),
+		N: i + 1, Heading: fmt.Sprintf("Section %d of %d: %s", i+1, len(c.Sections), t.Name()),
 		SVG: template.HTML(svg), Reason: sf.Target.Reason, OpAmp: op, Positions: len(sf.Components),
 	}
-	switch t.Poles {
+	switch t.Poles() {
 	case 1:
 		sv.Facts = []Fact{{"Pole frequency, target", hz(sf.Target.F0)}, {"Pole frequency, built", hz(sf.F0)}}
 	default:
@@ -618,7 +618,7 @@ func section(s *Sheet, i int, amps []Amplifier) (sectionView, error) {
 			{"f0 target", hz(sf.Target.F0)}, {"f0 built", hz(sf.F0)},
 			{"Q target", num(sf.Target.Q, 4)}, {"Q built", num(sf.Q, 4)},
 		}
-		if t.Poles == 3 {
+		if t.Poles() == 3 {
 			sv.Facts = append(sv.Facts, Fact{"Real pole target", hz(sf.Target.RealF0)}, Fact{"Real pole built", hz(sf.RealF0)})
 		}
 	}
@@ -640,7 +640,7 @@ func bom(c *optimize.Candidate, refs func(int, int, int) string, bias []BiasResi
 		t := sf.Target.Topology
 		for j, comp := range sf.Components {
 			rows = append(rows, bomRow{
-				Ref: comp.Ref, Section: fmt.Sprint(i + 1), Role: ElementRole(t, t.Elements[j]),
+				Ref: comp.Ref, Section: fmt.Sprint(i + 1), Role: ElementRole(t, t.Elements()[j]),
 				Value: Value(comp), MadeOf: MadeOf(comp), Tolerance: pct(comp.Tolerance()),
 				Parts: partsOf(comp, func(k int) string { return refs(i, j, k) }),
 			})

@@ -95,8 +95,8 @@ type layout struct {
 // draw: an element from ground to the output, an element with both ends on
 // one node, or series elements that do not form one path from "in" to Plus.
 func classify(t *synth.Topology) (*layout, error) {
-	if t.Plus == "" {
-		return nil, fmt.Errorf("schematic: topology %s has no + input node", t.ID)
+	if t.Plus() == "" {
+		return nil, fmt.Errorf("schematic: topology %s has no + input node", t.ID())
 	}
 	l := &layout{shunts: map[string][]int{}, feedback: map[string][]int{}}
 	type edge struct {
@@ -104,15 +104,15 @@ func classify(t *synth.Topology) (*layout, error) {
 		a, b string
 	}
 	var series []edge
-	for i, e := range t.Elements {
+	for i, e := range t.Elements() {
 		a, b := e.From, e.To
 		if a == b {
-			return nil, fmt.Errorf("schematic: %s %s has both ends on node %q", t.ID, e.Ref, a)
+			return nil, fmt.Errorf("schematic: %s %s has both ends on node %q", t.ID(), e.Ref, a)
 		}
 		rail := func(n string) bool { return n == "0" || n == "out" }
 		switch {
 		case rail(a) && rail(b):
-			return nil, fmt.Errorf("schematic: %s %s joins ground and the output; the layout has no place for it", t.ID, e.Ref)
+			return nil, fmt.Errorf("schematic: %s %s joins ground and the output; the layout has no place for it", t.ID(), e.Ref)
 		case b == "0":
 			l.shunts[a] = append(l.shunts[a], i)
 		case a == "0":
@@ -127,18 +127,18 @@ func classify(t *synth.Topology) (*layout, error) {
 	}
 	used := make([]bool, len(series))
 	l.chain = []string{"in"}
-	for cur := "in"; cur != t.Plus; {
+	for cur := "in"; cur != t.Plus(); {
 		next := -1
 		for k, s := range series {
 			if !used[k] && (s.a == cur || s.b == cur) {
 				if next >= 0 {
-					return nil, fmt.Errorf("schematic: %s branches at node %q; the layout draws one series chain", t.ID, cur)
+					return nil, fmt.Errorf("schematic: %s branches at node %q; the layout draws one series chain", t.ID(), cur)
 				}
 				next = k
 			}
 		}
 		if next < 0 {
-			return nil, fmt.Errorf("schematic: %s has no series path from %q to the + input %q", t.ID, "in", t.Plus)
+			return nil, fmt.Errorf("schematic: %s has no series path from %q to the + input %q", t.ID(), "in", t.Plus())
 		}
 		used[next] = true
 		s := series[next]
@@ -155,17 +155,17 @@ func classify(t *synth.Topology) (*layout, error) {
 	for k, u := range used {
 		if !u {
 			return nil, fmt.Errorf("schematic: %s %s is not on the series chain from %q to %q",
-				t.ID, t.Elements[series[k].i].Ref, "in", t.Plus)
+				t.ID(), t.Element(series[k].i).Ref, "in", t.Plus())
 		}
 	}
 	for n := range l.shunts {
 		if !slices.Contains(l.chain, n) {
-			return nil, fmt.Errorf("schematic: %s has a shunt on node %q, which is not on the chain", t.ID, n)
+			return nil, fmt.Errorf("schematic: %s has a shunt on node %q, which is not on the chain", t.ID(), n)
 		}
 	}
 	for n := range l.feedback {
 		if !slices.Contains(l.chain, n) {
-			return nil, fmt.Errorf("schematic: %s has a feedback element on node %q, which is not on the chain", t.ID, n)
+			return nil, fmt.Errorf("schematic: %s has a feedback element on node %q, which is not on the chain", t.ID(), n)
 		}
 	}
 	return l, nil
@@ -232,7 +232,7 @@ func SVG(t *synth.Topology, o Options) ([]byte, error) {
 		o.ID = "sch"
 	}
 	if o.Title == "" {
-		o.Title = t.Name
+		o.Title = t.Name()
 	}
 	if o.OpAmp == "" {
 		o.OpAmp = "U1"
@@ -249,7 +249,7 @@ func SVG(t *synth.Topology, o Options) ([]byte, error) {
 			lb = o.Labels[i]
 		}
 		if lb.Ref == "" {
-			lb.Ref = t.Elements[i].Ref
+			lb.Ref = t.Element(i).Ref
 		}
 		return lb
 	}
@@ -259,7 +259,7 @@ func SVG(t *synth.Topology, o Options) ([]byte, error) {
 	for i, n := range l.chain {
 		nodeX[n] = left + float64(i)*pitch
 	}
-	plus := t.Plus
+	plus := t.Plus()
 	px := nodeX[plus]
 	opX := px + opGap + float64(max(0, len(l.shunts[plus])-1))*shuntShift
 	outX := opX + outRun
@@ -275,7 +275,7 @@ func SVG(t *synth.Topology, o Options) ([]byte, error) {
 			from, to = b, a
 		}
 		lb := label(ei)
-		c.element(o.ID, t.Elements[ei], lb, from, to, func() {
+		c.element(o.ID, t.Element(ei), lb, from, to, func() {
 			mid := (a.x + b.x) / 2
 			c.labels(lb, pt{mid, chainY + 22}, "middle")
 		})
@@ -284,14 +284,14 @@ func SVG(t *synth.Topology, o Options) ([]byte, error) {
 	// meets at each chain node, for the node dots.
 	conductors := map[string]int{}
 	for _, ei := range l.series {
-		conductors[t.Elements[ei].From]++
-		conductors[t.Elements[ei].To]++
+		conductors[t.Element(ei).From]++
+		conductors[t.Element(ei).To]++
 	}
 	var railXs []float64
 	for _, n := range l.chain {
 		x0 := nodeX[n]
 		for j, ei := range l.shunts[n] {
-			e := t.Elements[ei]
+			e := t.Element(ei)
 			x := x0 + float64(j)*shuntShift
 			top := pt{x, chainY}
 			if j > 0 {
@@ -314,7 +314,7 @@ func SVG(t *synth.Topology, o Options) ([]byte, error) {
 			c.ground(bottom)
 		}
 		for _, ei := range l.feedback[n] {
-			e := t.Elements[ei]
+			e := t.Element(ei)
 			bottom, top := pt{x0, chainY}, pt{x0, railY}
 			conductors[n]++
 			from, to := bottom, top
@@ -390,7 +390,7 @@ func (c *canvas) finish(o Options, t *synth.Topology) []byte {
 	var out bytes.Buffer
 	fmt.Fprintf(&out, `<svg xmlns="http://www.w3.org/2000/svg" id="%s" class="schematic" data-topology="%s" `+
 		`viewBox="%s %s %s %s" width="%s" height="%s" role="img" aria-label="%s">`+"\n",
-		esc(o.ID), esc(t.ID), num(x), num(y), num(w), num(h), num(w), num(h), esc(o.Title))
+		esc(o.ID), esc(t.ID()), num(x), num(y), num(w), num(h), num(w), num(h), esc(o.Title))
 	fmt.Fprintf(&out, "<title>%s</title>\n", esc(o.Title))
 	fmt.Fprintf(&out, `<g fill="none" stroke="black" stroke-width="1.4" stroke-linecap="round" stroke-linejoin="round" `+
 		`font-family="'Liberation Sans',Arial,Helvetica,sans-serif" font-size="%s">`+"\n", num(fontSize))

@@ -22,8 +22,8 @@ var update = flag.Bool("update", false, "rewrite the golden files under testdata
 // sampleLabels invents labels for every element of t: a value, a two-part
 // makeup for the first element, and bins.
 func sampleLabels(t *synth.Topology) []Label {
-	ls := make([]Label, len(t.Elements))
-	for i, e := range t.Elements {
+	ls := make([]Label, t.NumElements())
+	for i, e := range t.Elements() {
 		ref := fmt.Sprintf("%c%d", e.Ref[0], 10+i)
 		unit := "kΩ"
 		if e.Kind == synth.Capacitor {
@@ -147,20 +147,20 @@ func outline(root *node) string {
 
 func TestGolden(t *testing.T) {
 	t.Parallel()
-	for _, top := range synth.Topologies {
-		t.Run(top.ID, func(t *testing.T) {
+	for _, top := range synth.Topologies() {
+		t.Run(top.ID(), func(t *testing.T) {
 			svg, err := SVG(top, Options{ID: "s1", Labels: sampleLabels(top), OpAmp: "U3"})
 			if err != nil {
 				t.Fatal(err)
 			}
 			got := outline(parse(t, svg))
-			path := filepath.Join("testdata", top.ID+".outline")
+			path := filepath.Join("testdata", top.ID()+".outline")
 			if *update {
 				if err := os.WriteFile(path, []byte(got), 0o644); err != nil {
 					t.Fatal(err)
 				}
 				// The drawing itself, for people to look at; not compared.
-				if err := os.WriteFile(filepath.Join("testdata", top.ID+".svg"), svg, 0o644); err != nil {
+				if err := os.WriteFile(filepath.Join("testdata", top.ID()+".svg"), svg, 0o644); err != nil {
 					t.Fatal(err)
 				}
 				return
@@ -212,9 +212,9 @@ func onSegment(p, a, b [2]float64) bool {
 // the net of its node, distinct nodes on distinct nets.
 func TestConnectivity(t *testing.T) {
 	t.Parallel()
-	for _, top := range synth.Topologies {
+	for _, top := range synth.Topologies() {
 		for _, bias := range []bool{false, true} {
-			name := top.ID
+			name := top.ID()
 			opt := Options{Labels: sampleLabels(top)}
 			if bias {
 				// A bias resistor splits the follower's loop: the - input
@@ -257,7 +257,7 @@ func connectivity(t *testing.T, name string, top *synth.Topology, opt Options) {
 					pins = append(pins, pin{parsePt(t, n.attr["data-pin"]), n.attr["data-node"], "terminal " + n.attr["data-node"]})
 				case n.hasClass("opamp"):
 					pins = append(pins,
-						pin{parsePt(t, n.attr["data-pin-plus"]), top.Plus, "+ input"},
+						pin{parsePt(t, n.attr["data-pin-plus"]), top.Plus(), "+ input"},
 						pin{parsePt(t, n.attr["data-pin-minus"]), n.attr["data-net-minus"], "- input"},
 						pin{parsePt(t, n.attr["data-pin-out"]), "out", "output"})
 				case n.hasClass("wire"):
@@ -329,7 +329,7 @@ func connectivity(t *testing.T, name string, top *synth.Topology, opt Options) {
 			}
 			// Every topology node is drawn, and every wire is labelled with
 			// the net it is on.
-			for _, e := range top.Elements {
+			for _, e := range top.Elements() {
 				for _, n := range []string{e.From, e.To} {
 					if _, ok := netOf[n]; !ok {
 						t.Errorf("node %q has no pin in the drawing", n)
@@ -356,7 +356,7 @@ func connectivity(t *testing.T, name string, top *synth.Topology, opt Options) {
 					}
 				}
 			})
-			want := len(top.Elements)
+			want := top.NumElements()
 			if opt.Bias != nil {
 				want++
 			}
@@ -369,7 +369,7 @@ func connectivity(t *testing.T, name string, top *synth.Topology, opt Options) {
 
 func TestLabels(t *testing.T) {
 	t.Parallel()
-	top := &synth.SallenKeyLowPass
+	top := synth.SallenKeyLowPass()
 	labels := sampleLabels(top)
 	labels[2].Makeup = `<script>alert("x")</script> & co`
 	labels[3].Bins = []string{"A1", "A1", "B2"}
@@ -424,7 +424,7 @@ func TestLabels(t *testing.T) {
 
 func TestUnlabelled(t *testing.T) {
 	t.Parallel()
-	svg, err := SVG(&synth.FirstOrderHighPass, Options{})
+	svg, err := SVG(synth.FirstOrderHighPass(), Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -440,7 +440,7 @@ func TestUnlabelled(t *testing.T) {
 // custom returns a topology with the given elements, for the layout's
 // error cases.
 func custom(plus string, els ...synth.Element) *synth.Topology {
-	return &synth.Topology{ID: "test", Name: "test", Plus: plus, Elements: els}
+	return synth.Sketch("test", "test", plus, "out", els)
 }
 
 func TestUndrawable(t *testing.T) {
@@ -512,7 +512,7 @@ func TestPins(t *testing.T) {
 	// Pin numbers of channel A of the common dual op-amp pinout (out 1,
 	// - input 2, + input 3; from memory): drawn as given, and no "see data
 	// sheet" remark.
-	svg, err := SVG(&synth.FirstOrderLowPass, Options{OpAmp: "U1A", Pins: &Pins{Plus: "3", Minus: "2", Out: "1"}})
+	svg, err := SVG(synth.FirstOrderLowPass(), Options{OpAmp: "U1A", Pins: &Pins{Plus: "3", Minus: "2", Out: "1"}})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -42,7 +42,7 @@ func fixtureDesign(t *testing.T, db *DB, qty int) *production.Design {
 	nr, nc := 0, 0
 	for i, st := range stages {
 		sf := optimize.SectionFit{Target: sd.Sections[i], F0: sd.Sections[i].F0, Q: sd.Sections[i].Q}
-		for k, e := range st.Topology.Elements {
+		for k, e := range st.Topology.Elements() {
 			v := st.Positions[k].Parts[0]
 			it := stock.Item{Kind: stock.Resistor, Value: v, Tolerance: 0.01, Quantity: qty, Package: "0805", Location: "R-drawer"}
 			ref := ""

@@ -12,10 +12,10 @@ import (
 func TestGroupDelay(t *testing.T) {
 	t.Parallel()
 	rng := rand.New(rand.NewPCG(5, 9))
-	for _, top := range Topologies {
-		t.Run(top.ID, func(t *testing.T) {
-			v := make([]float64, len(top.Elements))
-			for i, e := range top.Elements {
+	for _, top := range Topologies() {
+		t.Run(top.id, func(t *testing.T) {
+			v := make([]float64, len(top.elements))
+			for i, e := range top.elements {
 				x := math.Pow(10, rng.Float64()-0.5)
 				if e.Kind == Resistor {
 					v[i] = 1e4 * x
@@ -60,7 +60,7 @@ func TestSolveReproducesSection(t *testing.T) {
 				base := stages[i].Values()
 				for trial := 0; trial < 5; trial++ {
 					caps := make([]float64, len(base))
-					for j, e := range top.Elements {
+					for j, e := range top.elements {
 						if e.Kind == Capacitor {
 							caps[j] = base[j] * math.Pow(2, rng.Float64()-0.5)
 						}
@@ -73,19 +73,19 @@ func TestSolveReproducesSection(t *testing.T) {
 						t.Fatalf("section %d: no solution with the scaled design's own capacitors", i+1)
 					}
 					if !ok {
-						if top == &SallenKeyLowPass && caps[2]/caps[3] >= 4*sec.Q*sec.Q*(1+1e-9) {
+						if top == SallenKeyLowPass() && caps[2]/caps[3] >= 4*sec.Q*sec.Q*(1+1e-9) {
 							t.Errorf("section %d: Cf/Cg = %g ≥ 4Q² = %g but no solution", i+1, caps[2]/caps[3], 4*sec.Q*sec.Q)
 						}
 						continue
 					}
 					for _, v := range sols {
 						_, den := top.Coeffs(v)
-						for k := 1; k <= top.Poles; k++ {
+						for k := 1; k <= top.poles; k++ {
 							if !relClose(den[k], sec.Den[k], 1e-8) {
-								t.Fatalf("section %d (%s): solution %v gives den %v, want %v", i+1, top.ID, v, den, sec.Den)
+								t.Fatalf("section %d (%s): solution %v gives den %v, want %v", i+1, top.id, v, den, sec.Den)
 							}
 						}
-						for j, e := range top.Elements {
+						for j, e := range top.elements {
 							if v[j] <= 0 || (e.Kind == Capacitor && v[j] != caps[j]) {
 								t.Fatalf("section %d: solution %v changes or zeroes element %s (caps %v)", i+1, v, e.Ref, caps)
 							}

@@ -38,7 +38,7 @@ const benchPoints = 200
 // then N(jω)/D(jω)), per frequency point.
 func BenchmarkSectionEval(b *testing.B) {
 	for _, st := range benchStages(b) {
-		b.Run(st.Topology.ID, func(b *testing.B) {
+		b.Run(st.Topology.id, func(b *testing.B) {
 			v := st.Values()
 			w := make([]float64, benchPoints)
 			for i := range w {
@@ -61,13 +61,13 @@ func BenchmarkSectionEval(b *testing.B) {
 // candidate, then |H|² per point without complex arithmetic.
 func BenchmarkSectionGain2(b *testing.B) {
 	for _, st := range benchStages(b) {
-		b.Run(st.Topology.ID, func(b *testing.B) {
+		b.Run(st.Topology.id, func(b *testing.B) {
 			v := st.Values()
 			var sink float64
 			for b.Loop() {
 				num, den := st.Topology.Coeffs(v)
 				for i := 0; i < benchPoints; i++ {
-					sink += Gain2(num, den, st.Topology.Poles, float64(i+1)*100)
+					sink += Gain2(num, den, st.Topology.poles, float64(i+1)*100)
 				}
 			}
 			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*benchPoints), "ns/point")
@@ -87,7 +87,7 @@ func BenchmarkSolve(b *testing.B) {
 		st, _ := d.Scale(Scaling{})
 		for i, sec := range d.Sections {
 			caps := st[i].Values()
-			b.Run(sec.Topology.ID, func(b *testing.B) {
+			b.Run(sec.Topology.id, func(b *testing.B) {
 				var dst [][]float64
 				for b.Loop() {
 					dst, _ = sec.Topology.SolveAppend(caps, sec.Den, dst[:0])

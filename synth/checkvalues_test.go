@@ -180,12 +180,12 @@ func tableOrder(t *testing.T, d *Design, i int) []float64 {
 		t.Fatal(err)
 	}
 	top := d.Sections[i].Topology
-	for j, e := range top.Elements {
+	for j, e := range top.elements {
 		if e.Kind == Resistor && math.Abs(v[j]-1) > 1e-15 {
 			t.Fatalf("normalised resistor %s = %g, want 1", e.Ref, v[j])
 		}
 	}
-	switch top.Poles {
+	switch top.poles {
 	case 3:
 		return []float64{v[4], v[3], v[5]} // Elements: R1 R2 R3 Ca Cf Cb
 	case 2:
@@ -541,12 +541,12 @@ func TestThreePoleHighestQUnrealisable(t *testing.T) {
 			_, d1 := firstOrderPoly(LowPass, 0.36232)
 			_, d2 := pairPoly(LowPass, c.w0, c.q)
 			den := mulPoly(d1, d2)
-			if _, ok := ThreePoleLowPass.Normalised(den); ok != c.wantOK {
+			if _, ok := ThreePoleLowPass().Normalised(den); ok != c.wantOK {
 				t.Errorf("low-pass realisable: %v, want %v", ok, c.wantOK)
 			}
 			_, hd1 := firstOrderPoly(HighPass, 1/0.36232)
 			_, hd2 := pairPoly(HighPass, 1/c.w0, c.q)
-			if _, ok := ThreePoleHighPass.Normalised(mulPoly(hd1, hd2)); ok != c.wantOK {
+			if _, ok := ThreePoleHighPass().Normalised(mulPoly(hd1, hd2)); ok != c.wantOK {
 				t.Errorf("high-pass realisable: %v, want %v", ok, c.wantOK)
 			}
 		})

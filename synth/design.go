@@ -29,7 +29,7 @@ type Section struct {
 
 // Eval returns the ideal section response N(jw)/D(jw) at angular frequency w.
 func (s *Section) Eval(w float64) complex128 {
-	return EvalRational(s.Num, s.Den, s.Topology.Poles, w)
+	return EvalRational(s.Num, s.Den, s.Topology.poles, w)
 }
 
 // Design is an ideal cascade of unity-gain sections realising a Spec.
@@ -321,7 +321,7 @@ func (d *Design) TargetGroupDelay(w float64) float64 {
 	var t float64
 	for i := range d.Sections {
 		s := &d.Sections[i]
-		t += GroupDelayRational(s.Num, s.Den, s.Topology.Poles, w)
+		t += GroupDelayRational(s.Num, s.Den, s.Topology.poles, w)
 	}
 	return t
 }

@@ -21,7 +21,7 @@ func ExampleNewDesign() {
 	}
 	fmt.Println("order", d.Order)
 	for _, s := range d.Sections {
-		fmt.Printf("%s f0=%.1f Hz Q=%.4f\n", s.Topology.ID, s.F0, s.Q)
+		fmt.Printf("%s f0=%.1f Hz Q=%.4f\n", s.Topology.ID(), s.F0, s.Q)
 	}
 	fmt.Printf("%.3f dB at 1 kHz, %.2f dB at 3 kHz\n", d.AttenuationAt(1000), d.AttenuationAt(3000))
 	// Output:
@@ -49,7 +49,7 @@ func ExampleMinOrder() {
 func ExampleDesign_Normalised() {
 	d, _ := synth.NewDesign(synth.Spec{Approx: synth.Butterworth, Pass: 1000, Order: 3}, 0, synth.OddThreePole)
 	v, _ := d.Normalised(0)
-	for i, e := range d.Sections[0].Topology.Elements {
+	for i, e := range d.Sections[0].Topology.Elements() {
 		fmt.Printf("%s (%s) = %.4f\n", e.Ref, e.Symbol, v[i])
 	}
 	// Output:
@@ -72,7 +72,7 @@ func ExampleDesign_Scale() {
 }
 
 func ExampleNetlist() {
-	st := synth.StageOf(&synth.FirstOrderLowPass, []float64{10e3, 15.9e-9})
+	st := synth.StageOf(synth.FirstOrderLowPass(), []float64{10e3, 15.9e-9})
 	fmt.Print(synth.Netlist([]synth.Stage{st}, synth.NetlistOptions{Title: "1 kHz smoothing stage", FStart: 10, FStop: 1e5, PointsPerDecade: 10}))
 	// Output:
 	// * 1 kHz smoothing stage
@@ -115,7 +115,7 @@ func ExampleCascadeResponse() {
 func ExampleStage_Values() {
 	// 10 kΩ made of 8.2 kΩ and 1.8 kΩ in series; 22 nF of two 47 nF in series
 	// beside nothing else.
-	st := synth.Stage{Topology: &synth.FirstOrderLowPass, Positions: []synth.Position{
+	st := synth.Stage{Topology: synth.FirstOrderLowPass(), Positions: []synth.Position{
 		{Arrangement: synth.Series, Parts: []float64{8.2e3, 1.8e3}},
 		{Arrangement: synth.Series, Parts: []float64{47e-9, 47e-9}},
 	}}

@@ -71,7 +71,7 @@ func splitParts(stages []Stage) []Stage {
 			if k%2 == 0 {
 				continue
 			}
-			kind := st.Topology.Elements[j].Kind
+			kind := st.Topology.Elements()[j].Kind
 			// Parts a and b with a+b = v (resistors in series, capacitors in
 			// parallel) or 1/a+1/b = 1/v (the other way round).
 			add := Series
@@ -199,15 +199,15 @@ func TestDomainFormulas(t *testing.T) {
 			return domainThreePoleHP(v[0], v[1], v[2], v[3], v[4], v[5])
 		},
 	}
-	for _, top := range Topologies {
-		t.Run(top.ID, func(t *testing.T) {
-			f, ok := formula[top.ID]
+	for _, top := range Topologies() {
+		t.Run(top.ID(), func(t *testing.T) {
+			f, ok := formula[top.ID()]
 			if !ok {
-				t.Fatalf("no DOMAIN.md formula for %s", top.ID)
+				t.Fatalf("no DOMAIN.md formula for %s", top.ID())
 			}
 			for trial := 0; trial < 20; trial++ {
-				v := make([]float64, len(top.Elements))
-				for i, e := range top.Elements {
+				v := make([]float64, top.NumElements())
+				for i, e := range top.Elements() {
 					// Log-uniform over two decades around 10 kΩ and 10 nF.
 					x := math.Pow(10, rng.Float64()*2-1)
 					if e.Kind == Resistor {
@@ -259,12 +259,12 @@ func TestDomainSectionFacts(t *testing.T) {
 		cg := 1e-9
 		for _, r := range []float64{0.9, 0.999, 1.001, 1.5, 10} {
 			cf := r * 4 * q * q * cg
-			sols, ok := SallenKeyLowPass.Solve([]float64{0, 0, cf, cg}, den)
+			sols, ok := SallenKeyLowPass().Solve([]float64{0, 0, cf, cg}, den)
 			if ok != (r >= 1) {
 				t.Errorf("Cf/Cg = %g·4Q²: solvable %v", r, ok)
 			}
 			if ok {
-				_, got := SallenKeyLowPass.Coeffs(sols[0])
+				_, got := SallenKeyLowPass().Coeffs(sols[0])
 				if !relClose(got[1], den[1], 1e-12) || !relClose(got[2], den[2], 1e-12) {
 					t.Errorf("Cf/Cg = %g·4Q²: solution %v gives %v, want %v", r, sols[0], got, den)
 				}
@@ -272,7 +272,7 @@ func TestDomainSectionFacts(t *testing.T) {
 		}
 		// At exactly 4Q² the discriminant is zero up to rounding, so Solve
 		// may report the boundary either way; the resistors must be equal.
-		sols, _ := SallenKeyLowPass.Solve([]float64{0, 0, 4 * q * q * cg, cg}, den)
+		sols, _ := SallenKeyLowPass().Solve([]float64{0, 0, 4 * q * q * cg, cg}, den)
 		if !relClose(sols[0][0], sols[0][1], 1e-6) {
 			t.Errorf("Cf/Cg = 4Q²: resistors %v, want equal", sols[0])
 		}
@@ -280,7 +280,7 @@ func TestDomainSectionFacts(t *testing.T) {
 	t.Run("sallen-key-highpass-equal-c", func(t *testing.T) {
 		for _, q := range []float64{0.5, 0.7071, 1.3, 5} {
 			_, den := pairPoly(HighPass, 2*math.Pi*1e3, q)
-			v, _ := SallenKeyHighPass.Solve([]float64{1e-8, 1e-8, 0, 0}, den)
+			v, _ := SallenKeyHighPass().Solve([]float64{1e-8, 1e-8, 0, 0}, den)
 			if r := v[0][3] / v[0][2]; !relClose(r, 4*q*q, 1e-12) {
 				t.Errorf("Q %g: Rg/Rf = %g, want 4Q² = %g", q, r, 4*q*q)
 			}
@@ -320,7 +320,7 @@ func TestDomainSectionFacts(t *testing.T) {
 func TestOpAmpModel(t *testing.T) {
 	t.Parallel()
 	const r, c = 10e3, 10e-9
-	st := StageOf(&FirstOrderLowPass, []float64{r, c})
+	st := StageOf(FirstOrderLowPass(), []float64{r, c})
 	for _, m := range []OpAmp{{DCGain: 1e5, GBW: 1e6}, {DCGain: 2e5, GBW: 10e6}, {DCGain: 1e3}, {}} {
 		t.Run(fmt.Sprintf("A0=%g/GBW=%g", m.DCGain, m.GBW), func(t *testing.T) {
 			nl := Netlist([]Stage{st}, NetlistOptions{OpAmp: &m})
@@ -352,7 +352,7 @@ func TestOpAmpModel(t *testing.T) {
 // E element of gain IdealGain gives 1/(1+1/IdealGain), far under 1e-8 dB.
 func TestIdealGainError(t *testing.T) {
 	t.Parallel()
-	st := StageOf(&FirstOrderLowPass, []float64{1e3, 1e-9})
+	st := StageOf(FirstOrderLowPass(), []float64{1e3, 1e-9})
 	h, err := AnalyzeNetlist(Netlist([]Stage{st}, NetlistOptions{}), []float64{1e-3})
 	if err != nil {
 		t.Fatal(err)

@@ -56,7 +56,7 @@ func DefaultRefs(stages []Stage) func(stage, elem, part int) string {
 		for j, p := range st.Positions {
 			for range p.Parts {
 				var n string
-				if st.Topology.Elements[j].Kind == Resistor {
+				if st.Topology.elements[j].Kind == Resistor {
 					nr++
 					n = "R" + strconv.Itoa(nr)
 				} else {
@@ -155,8 +155,8 @@ func Netlist(stages []Stage, o NetlistOptions) string {
 			return fmt.Sprintf("s%d_%s", i+1, n)
 		}
 		vals := st.Values()
-		w("* stage %d: %s", i+1, t.Name)
-		for j, e := range t.Elements {
+		w("* stage %d: %s", i+1, t.name)
+		for j, e := range t.elements {
 			p := st.Positions[j]
 			letter := "R"
 			if e.Kind == Capacitor {
@@ -195,7 +195,7 @@ func Netlist(stages []Stage, o NetlistOptions) string {
 				w("%s %s %s %s", name(k), from, to, spiceNum(v))
 			}
 		}
-		plus := node(t.Plus)
+		plus := node(t.plus)
 		switch {
 		case o.OpAmp == nil:
 			w("E%d %s 0 %s %s %s", i+1, output, plus, output, spiceNum(IdealGain))
@@ -214,7 +214,7 @@ func Netlist(stages []Stage, o NetlistOptions) string {
 // stageFreqs returns the natural frequencies in Hz of a stage's poles.
 func stageFreqs(st Stage) []float64 {
 	_, den := st.Topology.Coeffs(st.Values())
-	switch st.Topology.Poles {
+	switch st.Topology.poles {
 	case 1:
 		return []float64{1 / (2 * math.Pi * den[1])}
 	case 2:

@@ -161,8 +161,8 @@ func TestHighPassMirrorsLowPass(t *testing.T) {
 				if !relClose(h.F0, s.Pass*s.Pass/l.F0, 1e-12) || math.Abs(h.Q-l.Q) > 1e-12*math.Max(1, l.Q) {
 					t.Errorf("section %d: high-pass f0 %g Q %g, low-pass f0 %g Q %g", i+1, h.F0, h.Q, l.F0, l.Q)
 				}
-				if h.Topology.Response != HighPass || h.Topology.Poles != l.Topology.Poles {
-					t.Errorf("section %d: topologies %s and %s", i+1, l.Topology.ID, h.Topology.ID)
+				if h.Topology.response != HighPass || h.Topology.poles != l.Topology.poles {
+					t.Errorf("section %d: topologies %s and %s", i+1, l.Topology.id, h.Topology.id)
 				}
 			}
 			ls, _ := lp.Scale(Scaling{})

@@ -27,8 +27,8 @@ type Stage struct {
 // value (ohms, farads, in Elements order). It panics if len(v) does not
 // match the topology.
 func StageOf(t *Topology, v []float64) Stage {
-	if len(v) != len(t.Elements) {
-		panic("synth: wrong number of element values for " + t.ID)
+	if len(v) != len(t.elements) {
+		panic("synth: wrong number of element values for " + t.id)
 	}
 	st := Stage{Topology: t, Positions: make([]Position, len(v))}
 	for i, x := range v {
@@ -42,7 +42,7 @@ func StageOf(t *Topology, v []float64) Stage {
 func (s Stage) Values() []float64 {
 	v := make([]float64, len(s.Positions))
 	for i, p := range s.Positions {
-		v[i] = s.Topology.Elements[i].Kind.Combine(p.Arrangement, p.Parts...)
+		v[i] = s.Topology.elements[i].Kind.Combine(p.Arrangement, p.Parts...)
 	}
 	return v
 }
@@ -54,7 +54,7 @@ func (s Stage) Response(w float64) complex128 { return s.Topology.Eval(s.Values(
 // GroupDelay returns the stage's group delay in seconds at angular frequency w.
 func (s Stage) GroupDelay(w float64) float64 {
 	num, den := s.Topology.Coeffs(s.Values())
-	return GroupDelayRational(num, den, s.Topology.Poles, w)
+	return GroupDelayRational(num, den, s.Topology.poles, w)
 }
 
 // CascadeResponse returns the product of the stages' responses at angular
@@ -127,7 +127,7 @@ func (d *Design) Normalised(i int) ([]float64, error) {
 	sec := &d.Sections[i]
 	v, ok := sec.Topology.Normalised(d.normalisedDen(sec.Den))
 	if !ok {
-		return nil, fault.Infeasiblef("section %d (%s) has no positive normalised element values", i+1, sec.Topology.Name)
+		return nil, fault.Infeasiblef("section %d (%s) has no positive normalised element values", i+1, sec.Topology.name)
 	}
 	return v, nil
 }
@@ -162,7 +162,7 @@ func (d *Design) Scale(sc Scaling) ([]Stage, error) {
 		t := d.Sections[i].Topology
 		var kz, cmax float64
 		if sc.Anchor > 0 {
-			for j, e := range t.Elements {
+			for j, e := range t.elements {
 				if e.Kind == Capacitor {
 					cmax = math.Max(cmax, v[j])
 				}
@@ -170,7 +170,7 @@ func (d *Design) Scale(sc Scaling) ([]Stage, error) {
 			kz = cmax / (kf * sc.Anchor)
 		} else {
 			rmin, rmax := math.Inf(1), 0.0
-			for j, e := range t.Elements {
+			for j, e := range t.elements {
 				if e.Kind == Resistor {
 					rmin, rmax = math.Min(rmin, v[j]), math.Max(rmax, v[j])
 				}
@@ -178,7 +178,7 @@ func (d *Design) Scale(sc Scaling) ([]Stage, error) {
 			kz = math.Sqrt(sc.RMin*sc.RMax) / math.Sqrt(rmin*rmax)
 		}
 		out := make([]float64, len(v))
-		for j, e := range t.Elements {
+		for j, e := range t.elements {
 			switch {
 			case e.Kind == Resistor:
 				out[j] = v[j] * kz
@@ -198,8 +198,8 @@ func (d *Design) Scale(sc Scaling) ([]Stage, error) {
 // String describes a stage briefly, for messages and debugging.
 func (s Stage) String() string {
 	v := s.Values()
-	out := s.Topology.ID
-	for i, e := range s.Topology.Elements {
+	out := s.Topology.id
+	for i, e := range s.Topology.elements {
 		unit := "Ω"
 		if e.Kind == Capacitor {
 			unit = "F"

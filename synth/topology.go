@@ -86,19 +86,20 @@ type Element struct {
 // Entries beyond a section's pole count are zero.
 type Poly [4]float64
 
-// Topology describes one section circuit once, as data: its elements and
+// Topology describes one section circuit once, as an immutable value read
+// through its methods: its elements and
 // nodes, and its transfer function for arbitrary element values. Analysis,
 // netlists, schematics and the fit all read this description.
 //
 // Every topology is a passive RC network driving a unity-gain follower: the
 // op-amp's + input is node Plus and its output (and - input) is node "out".
 type Topology struct {
-	ID       string // stable identifier used in JSON: "sallen-key-lowpass", ...
-	Name     string // for people: "Sallen-Key low-pass"
-	Response Kind   // LowPass or HighPass
-	Poles    int    // 1, 2 or 3
-	Elements []Element
-	Plus     string // node at the follower's + input
+	id       string // stable identifier used in JSON: "sallen-key-lowpass", ...
+	name     string // for people: "Sallen-Key low-pass"
+	response Kind   // LowPass or HighPass
+	poles    int    // 1, 2 or 3
+	elements []Element
+	plus     string // node at the follower's + input
 
 	// coeffs returns N(s) and D(s) for element values v (ohms, farads, in
 	// Elements order), with D(0) = 1.
@@ -116,8 +117,8 @@ type Topology struct {
 // function for element values v (SI units, in Elements order). It panics if
 // len(v) != len(t.Elements).
 func (t *Topology) Coeffs(v []float64) (num, den Poly) {
-	if len(v) != len(t.Elements) {
-		panic("synth: wrong number of element values for " + t.ID)
+	if len(v) != len(t.elements) {
+		panic("synth: wrong number of element values for " + t.id)
 	}
 	return t.coeffs(v)
 }
@@ -154,7 +155,7 @@ func (t *Topology) Normalised(den Poly) ([]float64, bool) { return t.normalised(
 // frequency w (rad/s).
 func (t *Topology) Eval(v []float64, w float64) complex128 {
 	num, den := t.coeffs(v)
-	return EvalRational(num, den, t.Poles, w)
+	return EvalRational(num, den, t.poles, w)
 }
 
 // EvalRational returns N(jω)/D(jω) for polynomials of degree n.
@@ -183,7 +184,7 @@ func Gain2(num, den Poly, n int, w float64) float64 {
 // Indices returns the positions in t.Elements of the elements of kind k.
 func (t *Topology) Indices(k PartKind) []int {
 	var out []int
-	for i, e := range t.Elements {
+	for i, e := range t.elements {
 		if e.Kind == k {
 			out = append(out, i)
 		}
@@ -191,14 +192,36 @@ func (t *Topology) Indices(k PartKind) []int {
 	return out
 }
 
-// Topologies lists every section circuit drawerfit knows.
-var Topologies = []*Topology{&FirstOrderLowPass, &FirstOrderHighPass, &SallenKeyLowPass, &SallenKeyHighPass, &ThreePoleLowPass, &ThreePoleHighPass}
+// all lists every section circuit drawerfit knows, in a fixed order.
+var all = []*Topology{&firstOrderLowPass, &firstOrderHighPass, &sallenKeyLowPass, &sallenKeyHighPass, &threePoleLowPass, &threePoleHighPass}
+
+// Topologies returns every section circuit drawerfit knows, in a fixed
+// order. The slice is a fresh copy; the topologies themselves are immutable.
+func Topologies() []*Topology { return append([]*Topology(nil), all...) }
+
+// FirstOrderLowPass returns the first-order RC low-pass with a follower.
+func FirstOrderLowPass() *Topology { return &firstOrderLowPass }
+
+// FirstOrderHighPass returns the first-order RC high-pass with a follower.
+func FirstOrderHighPass() *Topology { return &firstOrderHighPass }
+
+// SallenKeyLowPass returns the unity-gain Sallen-Key low-pass.
+func SallenKeyLowPass() *Topology { return &sallenKeyLowPass }
+
+// SallenKeyHighPass returns the unity-gain Sallen-Key high-pass.
+func SallenKeyHighPass() *Topology { return &sallenKeyHighPass }
+
+// ThreePoleLowPass returns the unity-gain single-amplifier 3-pole low-pass.
+func ThreePoleLowPass() *Topology { return &threePoleLowPass }
+
+// ThreePoleHighPass returns the unity-gain single-amplifier 3-pole high-pass.
+func ThreePoleHighPass() *Topology { return &threePoleHighPass }
 
 // TopologyFor returns the topology for a section of the given response and
 // pole count (1, 2 or 3). It panics for any other pole count.
 func TopologyFor(k Kind, poles int) *Topology {
-	for _, t := range Topologies {
-		if t.Response == k && t.Poles == poles {
+	for _, t := range all {
+		if t.response == k && t.poles == poles {
 			return t
 		}
 	}
@@ -207,18 +230,18 @@ func TopologyFor(k Kind, poles int) *Topology {
 
 // TopologyByID returns the topology with the given ID, or nil.
 func TopologyByID(id string) *Topology {
-	for _, t := range Topologies {
-		if t.ID == id {
+	for _, t := range all {
+		if t.id == id {
 			return t
 		}
 	}
 	return nil
 }
 
-// FirstOrderLowPass is a series resistor and a shunt capacitor, buffered.
-var FirstOrderLowPass = Topology{
-	ID: "rc-lowpass", Name: "first-order RC low-pass", Response: LowPass, Poles: 1, Plus: "p",
-	Elements: []Element{
+// firstOrderLowPass is a series resistor and a shunt capacitor, buffered.
+var firstOrderLowPass = Topology{
+	id: "rc-lowpass", name: "first-order RC low-pass", response: LowPass, poles: 1, plus: "p",
+	elements: []Element{
 		{Ref: "R1", Symbol: "R", Kind: Resistor, From: "in", To: "p", Role: "series"},
 		{Ref: "C1", Symbol: "C", Kind: Capacitor, From: "p", To: "0", Role: "shunt to ground"},
 	},
@@ -231,10 +254,10 @@ var FirstOrderLowPass = Topology{
 	normalised: func(den Poly) ([]float64, bool) { return []float64{1, den[1]}, den[1] > 0 },
 }
 
-// FirstOrderHighPass is a series capacitor and a shunt resistor, buffered.
-var FirstOrderHighPass = Topology{
-	ID: "rc-highpass", Name: "first-order RC high-pass", Response: HighPass, Poles: 1, Plus: "p",
-	Elements: []Element{
+// firstOrderHighPass is a series capacitor and a shunt resistor, buffered.
+var firstOrderHighPass = Topology{
+	id: "rc-highpass", name: "first-order RC high-pass", response: HighPass, poles: 1, plus: "p",
+	elements: []Element{
 		{Ref: "C1", Symbol: "C", Kind: Capacitor, From: "in", To: "p", Role: "series"},
 		{Ref: "R1", Symbol: "R", Kind: Resistor, From: "p", To: "0", Role: "shunt to ground"},
 	},
@@ -248,13 +271,13 @@ var FirstOrderHighPass = Topology{
 	normalised: func(den Poly) ([]float64, bool) { return []float64{1, den[1]}, den[1] > 0 },
 }
 
-// SallenKeyLowPass is the unity-gain Sallen-Key low-pass:
+// sallenKeyLowPass is the unity-gain Sallen-Key low-pass:
 // in -R1- a -R2- p; C1 (Cf) from a to out; C2 (Cg) from p to ground.
 //
 //	D(s) = 1 + s·Cg(R1+R2) + s²·R1 R2 Cf Cg
-var SallenKeyLowPass = Topology{
-	ID: "sallen-key-lowpass", Name: "Sallen-Key low-pass", Response: LowPass, Poles: 2, Plus: "p",
-	Elements: []Element{
+var sallenKeyLowPass = Topology{
+	id: "sallen-key-lowpass", name: "Sallen-Key low-pass", response: LowPass, poles: 2, plus: "p",
+	elements: []Element{
 		{Ref: "R1", Symbol: "R1", Kind: Resistor, From: "in", To: "a", Role: "series, input side"},
 		{Ref: "R2", Symbol: "R2", Kind: Resistor, From: "a", To: "p", Role: "series, to + input"},
 		{Ref: "C1", Symbol: "Cf", Kind: Capacitor, From: "a", To: "out", Role: "feedback to output"},
@@ -293,13 +316,13 @@ var SallenKeyLowPass = Topology{
 	},
 }
 
-// SallenKeyHighPass is the unity-gain Sallen-Key high-pass:
+// sallenKeyHighPass is the unity-gain Sallen-Key high-pass:
 // in -C1- a -C2- p; R1 (Rf) from a to out; R2 (Rg) from p to ground.
 //
 //	H(s) = s² Rf Rg C1 C2 / (1 + s·Rf(C1+C2) + s²·Rf Rg C1 C2)
-var SallenKeyHighPass = Topology{
-	ID: "sallen-key-highpass", Name: "Sallen-Key high-pass", Response: HighPass, Poles: 2, Plus: "p",
-	Elements: []Element{
+var sallenKeyHighPass = Topology{
+	id: "sallen-key-highpass", name: "Sallen-Key high-pass", response: HighPass, poles: 2, plus: "p",
+	elements: []Element{
 		{Ref: "C1", Symbol: "C1", Kind: Capacitor, From: "in", To: "a", Role: "series, input side"},
 		{Ref: "C2", Symbol: "C2", Kind: Capacitor, From: "a", To: "p", Role: "series, to + input"},
 		{Ref: "R1", Symbol: "Rf", Kind: Resistor, From: "a", To: "out", Role: "feedback to output"},
@@ -323,14 +346,14 @@ var SallenKeyHighPass = Topology{
 	},
 }
 
-// ThreePoleLowPass is the unity-gain single-amplifier third-order low-pass:
+// threePoleLowPass is the unity-gain single-amplifier third-order low-pass:
 // in -R1- n1 -R2- n2 -R3- p; C1 (Ca) n1 to ground; C2 (Cf) n2 to out;
 // C3 (Cb) p to ground.
 //
 //	D(s) = 1 + s(Ca R1 + Cb(R1+R2+R3)) + s²(Ca Cb R1(R2+R3) + Cb Cf R3(R1+R2)) + s³ Ca Cb Cf R1 R2 R3
-var ThreePoleLowPass = Topology{
-	ID: "three-pole-lowpass", Name: "single-amplifier 3-pole low-pass", Response: LowPass, Poles: 3, Plus: "p",
-	Elements: []Element{
+var threePoleLowPass = Topology{
+	id: "three-pole-lowpass", name: "single-amplifier 3-pole low-pass", response: LowPass, poles: 3, plus: "p",
+	elements: []Element{
 		{Ref: "R1", Symbol: "R1", Kind: Resistor, From: "in", To: "n1", Role: "series, input side"},
 		{Ref: "R2", Symbol: "R2", Kind: Resistor, From: "n1", To: "n2", Role: "series, middle"},
 		{Ref: "R3", Symbol: "R3", Kind: Resistor, From: "n2", To: "p", Role: "series, to + input"},
@@ -394,14 +417,14 @@ var ThreePoleLowPass = Topology{
 	},
 }
 
-// ThreePoleHighPass is the dual of ThreePoleLowPass:
+// threePoleHighPass is the dual of ThreePoleLowPass:
 // in -C1- n1 -C2- n2 -C3- p; R1 (Ra) n1 to ground; R2 (Rf) n2 to out;
 // R3 (Rb) p to ground.
 //
 //	D(s) = 1 + s(C1 Ra + C2 Ra + C2 Rf + C3 Rf) + s²(Ra Rf (C1C2 + C1C3 + C2C3) + C2 C3 Rb Rf) + s³ C1 C2 C3 Ra Rb Rf
-var ThreePoleHighPass = Topology{
-	ID: "three-pole-highpass", Name: "single-amplifier 3-pole high-pass", Response: HighPass, Poles: 3, Plus: "p",
-	Elements: []Element{
+var threePoleHighPass = Topology{
+	id: "three-pole-highpass", name: "single-amplifier 3-pole high-pass", response: HighPass, poles: 3, plus: "p",
+	elements: []Element{
 		{Ref: "C1", Symbol: "C1", Kind: Capacitor, From: "in", To: "n1", Role: "series, input side"},
 		{Ref: "C2", Symbol: "C2", Kind: Capacitor, From: "n1", To: "n2", Role: "series, middle"},
 		{Ref: "C3", Symbol: "C3", Kind: Capacitor, From: "n2", To: "p", Role: "series, to + input"},
@@ -683,4 +706,36 @@ func scanRoots(hi float64, split func(x float64) (y1, y2, g float64, ok bool),
 	}
 	y1, y2, _, _ := split(bestX)
 	return append(dst, build(bestX, y1, y2)), false
+}
+
+
+// ID returns the stable identifier used in JSON: "sallen-key-lowpass", ...
+func (t *Topology) ID() string { return t.id }
+
+// Name returns the topology's name for people: "Sallen-Key low-pass".
+func (t *Topology) Name() string { return t.name }
+
+// Response returns LowPass or HighPass.
+func (t *Topology) Response() Kind { return t.response }
+
+// Poles returns the section's pole count: 1, 2 or 3.
+func (t *Topology) Poles() int { return t.poles }
+
+// Elements returns a copy of the element list.
+func (t *Topology) Elements() []Element { return append([]Element(nil), t.elements...) }
+
+// NumElements returns the number of elements.
+func (t *Topology) NumElements() int { return len(t.elements) }
+
+// Element returns element i. It panics for an index out of range.
+func (t *Topology) Element(i int) Element { return t.elements[i] }
+
+// Plus returns the node at the op-amp's + input.
+func (t *Topology) Plus() string { return t.plus }
+
+// Sketch returns a topology that has only a layout (elements and op-amp
+// input nodes) and no analysis: for drawing code and its tests. Calling
+// Coeffs, Solve or Normalised on it panics.
+func Sketch(id, name, plus, minus string, els []Element) *Topology {
+	return &Topology{id: id, name: name, plus: plus, elements: append([]Element(nil), els...)}
 }

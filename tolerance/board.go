@@ -69,15 +69,15 @@ func newBoard(c *optimize.Candidate) (*board, error) {
 		if t == nil {
 			return nil, fault.Invalidf("section %d has no circuit topology", si+1)
 		}
-		if len(sf.Components) != len(t.Elements) {
+		if len(sf.Components) != t.NumElements() {
 			return nil, fault.Invalidf("section %d (%s) has %d components, its circuit needs %d",
-				si+1, t.Name, len(sf.Components), len(t.Elements))
+				si+1, t.Name(), len(sf.Components), t.NumElements())
 		}
 		bs := boardSection{topo: t}
 		for ei, comp := range sf.Components {
-			if comp.Kind != t.Elements[ei].Kind {
+			if comp.Kind != t.Element(ei).Kind {
 				return nil, fault.Invalidf("section %d: %s should be a %s, got a %s",
-					si+1, t.Elements[ei].Ref, t.Elements[ei].Kind, comp.Kind)
+					si+1, t.Element(ei).Ref, t.Element(ei).Kind, comp.Kind)
 			}
 			if len(comp.Parts) == 0 {
 				return nil, fault.Invalidf("section %d: %s has no parts", si+1, comp.Ref)
@@ -90,10 +90,10 @@ func newBoard(c *optimize.Candidate) (*board, error) {
 				lo: len(b.parts), section: si, element: ei,
 			}
 			if bc.ref == "" {
-				bc.ref = t.Elements[ei].Ref
+				bc.ref = t.Element(ei).Ref
 			}
 			if bc.symbol == "" {
-				bc.symbol = t.Elements[ei].Symbol
+				bc.symbol = t.Element(ei).Symbol
 			}
 			vals := make([]float64, len(comp.Parts))
 			for pi, p := range comp.Parts {
@@ -153,7 +153,7 @@ func (b *board) newWorkspace() *workspace {
 	w.buf = make([]float64, maxParts)
 	for i, s := range b.sections {
 		w.vals[i] = make([]float64, len(s.comps))
-		w.coeffs[i].poles = s.topo.Poles
+		w.coeffs[i].poles = s.topo.Poles()
 	}
 	return w
 }

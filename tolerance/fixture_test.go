@@ -31,7 +31,7 @@ func designCandidate(t testing.TB, spec synth.Spec, order int, odd synth.Odd, tl
 	nr, nc := 0, 0
 	for i, st := range stages {
 		sf := optimize.SectionFit{Target: d.Sections[i]}
-		for k, e := range st.Topology.Elements {
+		for k, e := range st.Topology.Elements() {
 			v := st.Positions[k].Parts[0]
 			tol := tl.r
 			ref := ""
@@ -63,7 +63,7 @@ func singlePart(ref, sym string, k synth.PartKind, v, tol float64) optimize.Comp
 // sallenKey builds a one-section Sallen-Key low-pass candidate with parts
 // of the given tolerances (R1, R2, Cf, Cg).
 func sallenKey(r1, r2, cf, cg float64, t [4]float64) *optimize.Candidate {
-	topo := &synth.SallenKeyLowPass
+	topo := synth.SallenKeyLowPass()
 	return &optimize.Candidate{Sections: []optimize.SectionFit{{
 		Target: synth.Section{Topology: topo},
 		Components: []optimize.Component{

@@ -26,8 +26,8 @@ import (
 // elimination with partial pivoting. It panics if len(v) does not match
 // the topology.
 func SectionResponse(t *synth.Topology, v []float64, op *synth.OpAmp, w float64) complex128 {
-	if len(v) != len(t.Elements) {
-		panic("tolerance: wrong number of element values for " + t.ID)
+	if len(v) != t.NumElements() {
+		panic("tolerance: wrong number of element values for " + t.ID())
 	}
 	var idx [8]string
 	n := 0
@@ -45,7 +45,7 @@ func SectionResponse(t *synth.Topology, v []float64, op *synth.OpAmp, w float64)
 		return n - 1
 	}
 	out := index("out")
-	plus := index(t.Plus)
+	plus := index(t.Plus())
 	type stamp struct {
 		a, b   int
 		aIn    bool
@@ -53,7 +53,7 @@ func SectionResponse(t *synth.Topology, v []float64, op *synth.OpAmp, w float64)
 		admitt complex128
 	}
 	var st [8]stamp
-	for k, e := range t.Elements {
+	for k, e := range t.Elements() {
 		y := complex(1/v[k], 0)
 		if e.Kind == synth.Capacitor {
 			y = complex(0, w*v[k])
@@ -61,7 +61,7 @@ func SectionResponse(t *synth.Topology, v []float64, op *synth.OpAmp, w float64)
 		st[k] = stamp{a: index(e.From), b: index(e.To), aIn: e.From == "in", bIn: e.To == "in", admitt: y}
 	}
 	var m [8][9]complex128 // augmented matrix, column n is the right-hand side
-	for k := range t.Elements {
+	for k := range t.Elements() {
 		s := st[k]
 		for _, side := range [2]struct {
 			self, other int
@@ -263,25 +263,25 @@ func CheckOpAmp(c *optimize.Candidate, spec synth.Spec, op synth.OpAmp) (*OpAmpR
 
 	band := analysisBand(spec)
 	for si, s := range b.sections {
-		w0, q, wr := sectionPoles(ws.coeffs[si].den, s.topo.Poles)
-		os := OpAmpSection{Section: si + 1, Topology: s.topo.ID, F0: w0 / (2 * math.Pi), Q: q, RealF0: wr / (2 * math.Pi)}
-		os.RequiredGBW, os.Rule = GBWRule(s.topo.Poles, os.F0, os.Q, os.RealF0)
+		w0, q, wr := sectionPoles(ws.coeffs[si].den, s.topo.Poles())
+		os := OpAmpSection{Section: si + 1, Topology: s.topo.ID(), F0: w0 / (2 * math.Pi), Q: q, RealF0: wr / (2 * math.Pi)}
+		os.RequiredGBW, os.Rule = GBWRule(s.topo.Poles(), os.F0, os.Q, os.RealF0)
 		os.OK = op.GBW >= os.RequiredGBW
 		num, den := ws.coeffs[si].num, ws.coeffs[si].den
 		for _, f := range band {
 			w := 2 * math.Pi * f
-			ideal := synth.EvalRational(num, den, s.topo.Poles, w)
+			ideal := synth.EvalRational(num, den, s.topo.Poles(), w)
 			real := SectionResponse(s.topo, ws.vals[si], &op, w)
 			os.ErrorDB = math.Max(os.ErrorDB, math.Abs(dbRatio(real, ideal)))
 		}
 		if !os.OK {
 			desc := fmt.Sprintf("f0 %s, Q %.3g", hz(os.F0), os.Q)
-			if s.topo.Poles == 1 {
+			if s.topo.Poles() == 1 {
 				desc = fmt.Sprintf("fc %s", hz(os.F0))
 			}
 			rep.Warnings = append(rep.Warnings, fmt.Sprintf(
 				"section %d (%s, %s): the op-amp's gain-bandwidth %s is below the %s asked for by the rule of %s (%s); the op-amp changes this section's response by up to %.2f dB",
-				si+1, s.topo.Name, desc, hz(op.GBW), hz(os.RequiredGBW), GBWRuleSource, os.Rule, os.ErrorDB))
+				si+1, s.topo.Name(), desc, hz(op.GBW), hz(os.RequiredGBW), GBWRuleSource, os.Rule, os.ErrorDB))
 		}
 		rep.Sections = append(rep.Sections, os)
 	}

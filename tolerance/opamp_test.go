@@ -63,10 +63,10 @@ func TestSectionResponseIdealMatchesClosedForm(t *testing.T) {
 	t.Parallel()
 	// The nodal analysis built from the element list, with an ideal
 	// follower, must reproduce each topology's closed form (DOMAIN.md).
-	for _, topo := range synth.Topologies {
-		t.Run(topo.ID, func(t *testing.T) {
-			v := make([]float64, len(topo.Elements))
-			for i, e := range topo.Elements {
+	for _, topo := range synth.Topologies() {
+		t.Run(topo.ID(), func(t *testing.T) {
+			v := make([]float64, topo.NumElements())
+			for i, e := range topo.Elements() {
 				// Unequal invented values around 10 kΩ and 10 nF.
 				if e.Kind == synth.Resistor {
 					v[i] = 10e3 * (1 + 0.37*float64(i))

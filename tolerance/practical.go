@@ -112,7 +112,7 @@ func BiasResistors(c *optimize.Candidate) ([]BiasResistor, error) {
 		}
 		r, path, ok := dcResistance(t, vals)
 		if !ok {
-			return nil, fault.Invalidf("section %d (%s): the + input has no DC path to the source or ground", si+1, t.Name)
+			return nil, fault.Invalidf("section %d (%s): the + input has no DC path to the source or ground", si+1, t.Name())
 		}
 		out = append(out, BiasResistor{Section: si + 1, Ohms: r, Path: path})
 	}
@@ -137,8 +137,8 @@ func dcResistance(t *synth.Topology, v []float64) (float64, string, bool) {
 		names = append(names, n)
 		return len(names) - 1
 	}
-	plus := index(t.Plus)
-	for _, e := range t.Elements {
+	plus := index(t.Plus())
+	for _, e := range t.Elements() {
 		index(e.From)
 		index(e.To)
 	}
@@ -147,7 +147,7 @@ func dcResistance(t *synth.Topology, v []float64) (float64, string, bool) {
 		return 0, "", false
 	}
 	var m [8][9]complex128
-	for k, e := range t.Elements {
+	for k, e := range t.Elements() {
 		if e.Kind != synth.Resistor {
 			continue
 		}
@@ -186,7 +186,7 @@ func dcResistance(t *synth.Topology, v []float64) (float64, string, bool) {
 		return 0
 	}
 	var path []string
-	for _, e := range t.Elements {
+	for _, e := range t.Elements() {
 		if e.Kind == synth.Resistor && math.Abs(volt(e.From)-volt(e.To)) > 1e-9*r {
 			path = append(path, e.Ref)
 		}

@@ -59,7 +59,7 @@ func newJudge(spec synth.Spec, b *board, order int) *judge {
 		ws := b.newWorkspace()
 		ws.load(b.nominalParts())
 		for i, s := range b.sections {
-			w0, _, _ := sectionPoles(ws.coeffs[i].den, s.topo.Poles)
+			w0, _, _ := sectionPoles(ws.coeffs[i].den, s.topo.Poles())
 			xpk = math.Max(xpk, j.toX(w0/(2*math.Pi)))
 		}
 		xpk *= 1.3

@@ -144,7 +144,7 @@ func prepare(c *optimize.Candidate, spec synth.Spec) (synth.Spec, *board, *judge
 	}
 	order := 0
 	for _, s := range b.sections {
-		order += s.topo.Poles
+		order += s.topo.Poles()
 	}
 	return spec, b, newJudge(spec, b, order), nil
 }
@@ -217,7 +217,7 @@ func Run(ctx context.Context, c *optimize.Candidate, spec synth.Spec, opt Option
 	}
 	for si, s := range b.sections {
 		sp := SectionSpread{Section: si + 1, F0: percentiles(ts.f0[si])}
-		if s.topo.Poles >= 2 {
+		if s.topo.Poles() >= 2 {
 			sp.Q = percentiles(ts.q[si])
 		}
 		r.Sections = append(r.Sections, sp)

@@ -41,24 +41,24 @@ func sensitivities(b *board) []SectionSensitivity {
 	out := make([]SectionSensitivity, len(b.sections))
 	for si, s := range b.sections {
 		t := s.topo
-		w0, q, wr := sectionPoles(ws.coeffs[si].den, t.Poles)
-		ss := SectionSensitivity{Section: si + 1, Topology: t.ID, F0: w0 / (2 * math.Pi), Q: q, RealF0: wr / (2 * math.Pi)}
+		w0, q, wr := sectionPoles(ws.coeffs[si].den, t.Poles())
+		ss := SectionSensitivity{Section: si + 1, Topology: t.ID(), F0: w0 / (2 * math.Pi), Q: q, RealF0: wr / (2 * math.Pi)}
 		v := append([]float64(nil), ws.vals[si]...)
 		for k, ci := range s.comps {
 			x := v[k]
 			v[k] = x * math.Exp(sensStep)
 			_, dp := t.Coeffs(v)
-			w0p, qp, wrp := sectionPoles(dp, t.Poles)
+			w0p, qp, wrp := sectionPoles(dp, t.Poles())
 			v[k] = x * math.Exp(-sensStep)
 			_, dm := t.Coeffs(v)
-			w0m, qm, wrm := sectionPoles(dm, t.Poles)
+			w0m, qm, wrm := sectionPoles(dm, t.Poles())
 			v[k] = x
 			cs := ComponentSensitivity{Ref: b.comps[ci].ref, Symbol: b.comps[ci].symbol,
 				F0: math.Log(w0p/w0m) / (2 * sensStep)}
-			if t.Poles >= 2 {
+			if t.Poles() >= 2 {
 				cs.Q = math.Log(qp/qm) / (2 * sensStep)
 			}
-			if t.Poles == 3 {
+			if t.Poles() == 3 {
 				cs.RealF0 = math.Log(wrp/wrm) / (2 * sensStep)
 			}
 			ss.Components = append(ss.Components, cs)

@@ -23,7 +23,7 @@ func TestSensitivitiesSallenKeyAnalytic(t *testing.T) {
 	lp := sallenKey(r1, r2, cf, cg, [4]float64{0.01, 0.01, 0.05, 0.05})
 	c1, c2, rf, rg := 10e-9, 15e-9, 8.2e3, 27e3
 	hp := &optimize.Candidate{Sections: []optimize.SectionFit{{
-		Target: synth.Section{Topology: &synth.SallenKeyHighPass},
+		Target: synth.Section{Topology: synth.SallenKeyHighPass()},
 		Components: []optimize.Component{
 			singlePart("C1", "C1", synth.Capacitor, c1, 0.05),
 			singlePart("C2", "C2", synth.Capacitor, c2, 0.05),
@@ -85,7 +85,7 @@ func TestSensitivitiesHomogeneity(t *testing.T) {
 			t.Run(ss.Topology, func(t *testing.T) {
 				var f0R, f0C, qR, qC, wrR, wrC float64
 				for k, cs := range ss.Components {
-					if b.sections[si].topo.Elements[k].Kind == synth.Resistor {
+					if b.sections[si].topo.Element(k).Kind == synth.Resistor {
 						f0R, qR, wrR = f0R+cs.F0, qR+cs.Q, wrR+cs.RealF0
 					} else {
 						f0C, qC, wrC = f0C+cs.F0, qC+cs.Q, wrC+cs.RealF0
@@ -95,7 +95,7 @@ func TestSensitivitiesHomogeneity(t *testing.T) {
 				if math.Abs(f0R+1) > tol || math.Abs(f0C+1) > tol || math.Abs(qR) > tol || math.Abs(qC) > tol {
 					t.Errorf("sums: f0 R %.9f C %.9f, Q R %.9f C %.9f", f0R, f0C, qR, qC)
 				}
-				if b.sections[si].topo.Poles == 3 && (math.Abs(wrR+1) > tol || math.Abs(wrC+1) > tol) {
+				if b.sections[si].topo.Poles() == 3 && (math.Abs(wrR+1) > tol || math.Abs(wrC+1) > tol) {
 					t.Errorf("real pole sums: R %.9f C %.9f", wrR, wrC)
 				}
 			})
@@ -110,7 +110,7 @@ func TestWorstCaseFirstOrder(t *testing.T) {
 	// (highest).
 	r, cv := 10e3, 15.9e-9
 	c := &optimize.Candidate{Sections: []optimize.SectionFit{{
-		Target: synth.Section{Topology: &synth.FirstOrderLowPass},
+		Target: synth.Section{Topology: synth.FirstOrderLowPass()},
 		Components: []optimize.Component{
 			singlePart("R1", "R", synth.Resistor, r, 0.01),
 			singlePart("C1", "C", synth.Capacitor, cv, 0.05),
@@ -192,20 +192,20 @@ func TestBiasResistors(t *testing.T) {
 		}
 		for i, br := range brs {
 			topo := c.Sections[i].Target.Topology
-			t.Run(topo.ID, func(t *testing.T) {
+			t.Run(topo.ID(), func(t *testing.T) {
 				sum := 0.0
-				for _, ref := range strings.Split(want[topo.ID], "+") {
-					for k, e := range topo.Elements {
+				for _, ref := range strings.Split(want[topo.ID()], "+") {
+					for k, e := range topo.Elements() {
 						if e.Ref == ref {
 							sum += c.Sections[i].Components[k].Value
 						}
 					}
 				}
 				if math.Abs(br.Ohms/sum-1) > 1e-12 {
-					t.Errorf("%g Ω, want %g Ω (%s)", br.Ohms, sum, want[topo.ID])
+					t.Errorf("%g Ω, want %g Ω (%s)", br.Ohms, sum, want[topo.ID()])
 				}
-				if br.Path != want[topo.ID] {
-					t.Errorf("path %q, want %q", br.Path, want[topo.ID])
+				if br.Path != want[topo.ID()] {
+					t.Errorf("path %q, want %q", br.Path, want[topo.ID()])
 				}
 			})
 		}

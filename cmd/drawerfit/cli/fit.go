@@ -344,15 +344,15 @@ func printCandidateDetail(env *Env, w io.Writer, c *optimize.Candidate, rank int
 		rank, c.Order(), c.Arrangement(), fmtErr(c.ResponseError), c.PartCount, c.UniqueParts, len(c.Sections))
 	for i, s := range c.Sections {
 		t := s.Target
-		head := fmt.Sprintf("Section %d, %s: target f0 %s", i+1, t.Topology.Name, formatHz(t.F0))
-		if t.Topology.Poles >= 2 {
+		head := fmt.Sprintf("Section %d, %s: target f0 %s", i+1, t.Topology.Name(), formatHz(t.F0))
+		if t.Topology.Poles() >= 2 {
 			head += fmt.Sprintf(" Q %.4f", t.Q)
 		}
 		head += fmt.Sprintf("; built f0 %s", formatHz(s.F0))
-		if t.Topology.Poles >= 2 {
+		if t.Topology.Poles() >= 2 {
 			head += fmt.Sprintf(" Q %.4f", s.Q)
 		}
-		if t.Topology.Poles == 3 {
+		if t.Topology.Poles() == 3 {
 			head += fmt.Sprintf("; real pole %s (target %s)", formatHz(s.RealF0), formatHz(t.RealF0))
 		}
 		fmt.Fprintln(w, head)
@@ -599,7 +599,7 @@ func candidateJSON(c *optimize.Candidate, rank int) jsonCandidate {
 		jc.Attenuation.Stop = &v
 	}
 	for _, s := range c.Sections {
-		js := jsonSection{Topology: s.Target.Topology.ID, TargetF0: s.Target.F0, TargetQ: s.Target.Q, F0: s.F0, Q: s.Q}
+		js := jsonSection{Topology: s.Target.Topology.ID(), TargetF0: s.Target.F0, TargetQ: s.Target.Q, F0: s.F0, Q: s.Q}
 		for _, comp := range s.Components {
 			jcmp := jsonComponent{Ref: comp.Ref, Symbol: comp.Symbol, Value: comp.Value, Arrangement: comp.Arrangement.String(),
 				Tolerance: comp.Tolerance()}

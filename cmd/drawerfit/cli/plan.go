@@ -328,12 +328,12 @@ func runPlan(env *Env, o *planOptions) error {
 			if err != nil {
 				return err
 			}
-			js := planSectionJSON{Topology: sec.Topology.ID, Name: sec.Topology.Name, F0Hz: sec.F0, Q: sec.Q, Reason: sec.Reason}
+			js := planSectionJSON{Topology: sec.Topology.ID(), Name: sec.Topology.Name(), F0Hz: sec.F0, Q: sec.Q, Reason: sec.Reason}
 			if sec.RealF0 > 0 {
 				rf := sec.RealF0
 				js.RealF0Hz = &rf
 			}
-			for j, e := range sec.Topology.Elements {
+			for j, e := range sec.Topology.Elements() {
 				for k, part := range stages[i].Positions[j].Parts {
 					js.Components = append(js.Components, planComponentJSON{
 						Ref: refs(i, j, k), Value: part, Text: formatPart(part, e.Kind),
@@ -363,7 +363,7 @@ func runPlan(env *Env, o *planOptions) error {
 		if sec.RealF0 > 0 {
 			f0 += " (real pole " + formatHz(sec.RealF0) + ")"
 		}
-		secs.add(strconv.Itoa(i+1), sec.Topology.Name, f0, q, sec.Reason)
+		secs.add(strconv.Itoa(i+1), sec.Topology.Name(), f0, q, sec.Reason)
 	}
 	secs.render(env, w)
 	fmt.Fprintln(w)
@@ -374,7 +374,7 @@ func runPlan(env *Env, o *planOptions) error {
 		if err != nil {
 			return err
 		}
-		for j, e := range sec.Topology.Elements {
+		for j, e := range sec.Topology.Elements() {
 			for k, part := range stages[i].Positions[j].Parts {
 				comps.add(strconv.Itoa(i+1), refs(i, j, k), e.Symbol, e.Role,
 					strconv.FormatFloat(norm[j], 'g', 6, 64), formatPart(part, e.Kind))
@@ -487,7 +487,7 @@ const (
 func rangeWarnings(stages []synth.Stage, refs func(int, int, int) string) []string {
 	var out []string
 	for i, st := range stages {
-		for j, e := range st.Topology.Elements {
+		for j, e := range st.Topology.Elements() {
 			for k, v := range st.Positions[j].Parts {
 				switch {
 				case e.Kind == synth.Resistor && (v < planRMin || v > planRMax):

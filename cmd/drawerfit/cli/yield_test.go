@@ -47,7 +47,7 @@ func yieldFixture(t *testing.T) *fakeDesigns {
 	n := 0
 	for i, st := range stages {
 		sf := optimize.SectionFit{Target: d.Sections[i]}
-		for k, e := range st.Topology.Elements {
+		for k, e := range st.Topology.Elements() {
 			n++
 			v := st.Positions[k].Parts[0]
 			tol, diel := 0.01, ""
