@@ -708,7 +708,6 @@ func scanRoots(hi float64, split func(x float64) (y1, y2, g float64, ok bool),
 	return append(dst, build(bestX, y1, y2)), false
 }
 
-
 // ID returns the stable identifier used in JSON: "sallen-key-lowpass", ...
 func (t *Topology) ID() string { return t.id }
 
