@@ -12,8 +12,8 @@ import (
 	"drawerfit/synth"
 )
 
-// The classical hand procedure as a baseline for the fit (DOMAIN.md,
-// "Scaling (the classical hand procedure)"): per section the normalised
+// The classical hand procedure as a baseline for the fit (docs/check-values.md,
+// "Scaling"): per section the normalised
 // equal-element design, one anchor capacitor taken from the stock, and every
 // other value rounded to the nearest stock part. The fit searches every
 // assignment of single parts that the baseline can produce, so with single

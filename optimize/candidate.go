@@ -26,7 +26,7 @@ type Component struct {
 }
 
 // Tolerance returns the effective relative tolerance of the combination:
-// the parts' tolerances weighted by their share of the total (DOMAIN.md,
+// the parts' tolerances weighted by their share of the total (docs/check-values.md,
 // "Real parts").
 func (c Component) Tolerance() float64 {
 	if len(c.Parts) == 1 {

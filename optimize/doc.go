@@ -90,7 +90,7 @@
 // # References
 //
 // The section formulas, the scaling procedure and the practical value ranges
-// are in the project's DOMAIN.md (standard circuit analysis; A. B. Williams
+// are in the project's docs/check-values.md (standard circuit analysis; A. B. Williams
 // and F. J. Taylor, Electronic Filter Design Handbook; Texas Instruments, Op
 // Amps for Everyone, ch. 16). The branch and bound is the textbook method
 // (A. H. Land and A. G. Doig, 1960).

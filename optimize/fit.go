@@ -43,7 +43,7 @@ type Options struct {
 // DefaultOptions returns the documented defaults: pairs on, one board, the
 // minimum order and one more, balanced ranking, ten candidates, 0.05 dB good
 // enough, resistors 1 kΩ–1 MΩ and capacitors 100 pF–10 µF (common practice,
-// no source; DOMAIN.md "Practical rules").
+// no source; docs/check-values.md, "Practical rules").
 func DefaultOptions() Options {
 	return Options{Combine: 2, Boards: 1, Rank: RankBalanced, Top: 10, GoodEnough: 0.05,
 		RMin: 1e3, RMax: 1e6, CMin: 100e-12, CMax: 10e-6, Shortlist: 10}

@@ -10,7 +10,7 @@ import (
 	"drawerfit/synth"
 )
 
-// e24 and e12 are the IEC 60063 mantissas (E24 as listed in DOMAIN.md; E12
+// e24 and e12 are the IEC 60063 mantissas (E24 as listed in docs/check-values.md, "Preferred values"; E12
 // is every other E24 value, as the standard lists it).
 var (
 	e24 = []float64{1.0, 1.1, 1.2, 1.3, 1.5, 1.6, 1.8, 2.0, 2.2, 2.4, 2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7, 5.1, 5.6, 6.2, 6.8, 7.5, 8.2, 9.1}
@@ -171,7 +171,7 @@ func finish(c *optimize.Candidate) {
 }
 
 // realisedF0Q reads f0 and Q of the built section from its denominator:
-// for a pair D = 1 + s/(w0 Q) + s²/w0² (DOMAIN.md, "Sections"); for a
+// for a pair D = 1 + s/(w0 Q) + s²/w0² (docs/check-values.md, "Section Q and w0"); for a
 // 1-pole section D = 1 + s/w0; for a 3-pole section the pair and the real
 // root of the cubic.
 func realisedF0Q(sf *optimize.SectionFit) (f0, q, real float64) {
@@ -207,7 +207,7 @@ func realisedF0Q(sf *optimize.SectionFit) (f0, q, real float64) {
 }
 
 // lowpass4 is a 4th-order Butterworth low-pass: fp 1 kHz at 3.01 dB, fs
-// 3 kHz at 30 dB (the closed-form order formula in DOMAIN.md gives n = 4).
+// 3 kHz at 30 dB (the closed-form order formula, docs/check-values.md, "Approximations", gives n = 4).
 func lowpass4(t testing.TB) *optimize.Candidate {
 	return buildCandidate(t, synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth,
 		Pass: 1000, Stop: 3000, StopAtten: 30}, synth.OddOnePole)

@@ -6,7 +6,7 @@ import (
 )
 
 // butterworth returns the n-th order Butterworth response with its -3 dB
-// edge at f0 Hz, from the pole formula in DOMAIN.md ("Approximations"):
+// edge at f0 Hz, from the pole formula in docs/check-values.md, "Approximations":
 // s_k = -sin θk + j cos θk, θk = (2k-1)π/(2n), scaled to unity passband
 // gain. highpass applies s -> 1/s.
 func butterworth(n int, f0 float64, highpass bool) func(w float64) complex128 {

@@ -10,7 +10,7 @@ import (
 )
 
 // Limits are the specification's edges and attenuations, drawn on the
-// magnitude plot. Attenuations are positive dB (DOMAIN.md, "Conventions").
+// magnitude plot. Attenuations are positive dB (docs/check-values.md, "Conventions").
 type Limits struct {
 	Fp float64 // passband edge, Hz (required)
 	Ap float64 // most attenuation allowed at and inside fp, dB

@@ -90,7 +90,7 @@ func TestFreqTicks(t *testing.T) {
 
 func TestSample(t *testing.T) {
 	t.Parallel()
-	// Butterworth: |H|² = 1/(1+w^(2n)) (DOMAIN.md), so -10·log10(2) dB at
+	// Butterworth: |H|² = 1/(1+w^(2n)) (docs/check-values.md, "Approximations"), so -10·log10(2) dB at
 	// the edge for every order; the phase of an n-th order low-pass at its
 	// edge is -n·45°, and a first-order RC low-pass has group delay
 	// τ/(1+(ωτ)²) (standard results of circuit analysis).

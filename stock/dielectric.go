@@ -50,7 +50,7 @@ var dielectricAliases = map[string]string{
 }
 
 // precisionDielectrics are the dielectrics stable enough for a filter's
-// signal path: class 1 ceramics and films (DOMAIN.md and CHECK-VALUES.md,
+// signal path: class 1 ceramics and films (docs/check-values.md, "Practical rules",
 // citing Op Amps for Everyone 16.8.3: C0G/NP0 preferred, high-K ceramics
 // avoided; films by common practice, no source).
 var precisionDielectrics = map[string]bool{

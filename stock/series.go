@@ -26,7 +26,7 @@ const (
 var AllSeries = []Series{E3, E6, E12, E24, E48, E96, E192}
 
 // The lists below are data, not formulas. E3 to E24 are the lists printed
-// in IEC 60063 (as quoted in DOMAIN.md and CHECK-VALUES.md); eight E24
+// in IEC 60063 (as quoted in docs/check-values.md, "Preferred values"); eight E24
 // values (2.7 3.0 3.3 3.6 3.9 4.3 4.7 8.2) differ from rounding 10^(m/24).
 // Values are mantissas times 10 (E3-E24, two figures) or 100 (E192, three
 // figures).

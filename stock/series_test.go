@@ -6,13 +6,13 @@ import (
 	"testing"
 )
 
-// e24Standard is the IEC 60063 E24 list as quoted in DOMAIN.md.
+// e24Standard is the IEC 60063 E24 list as quoted in docs/check-values.md, "Preferred values".
 var e24Standard = []float64{1.0, 1.1, 1.2, 1.3, 1.5, 1.6, 1.8, 2.0, 2.2, 2.4, 2.7, 3.0,
 	3.3, 3.6, 3.9, 4.3, 4.7, 5.1, 5.6, 6.2, 6.8, 7.5, 8.2, 9.1}
 
 func TestSeriesLists(t *testing.T) {
 	t.Parallel()
-	// IEC 60063 via CHECK-VALUES.md: E6 and the values E12 adds.
+	// IEC 60063 (docs/check-values.md, "Preferred values"): E6 and the values E12 adds.
 	if got := E6.Values(); !reflect.DeepEqual(got, []float64{1.0, 1.5, 2.2, 3.3, 4.7, 6.8}) {
 		t.Errorf("E6 = %v", got)
 	}
@@ -33,7 +33,7 @@ func TestSeriesLists(t *testing.T) {
 }
 
 // TestE24DiffersFromFormula checks that E24 is the standard's list, not the
-// rounded formula: CHECK-VALUES.md names the eight values where they part.
+// rounded formula: docs/check-values.md, "Preferred values" names the eight values where they part.
 func TestE24DiffersFromFormula(t *testing.T) {
 	t.Parallel()
 	var differ []float64
@@ -51,7 +51,7 @@ func TestE24DiffersFromFormula(t *testing.T) {
 
 // TestE192Formula checks E48, E96 and E192 against 10^(m/N) to three
 // figures, with IEC 60063's one exception: E192 m = 185 is 9.20, where the
-// formula gives 9.19 (CHECK-VALUES.md).
+// formula gives 9.19 (docs/check-values.md, "Preferred values").
 func TestE192Formula(t *testing.T) {
 	t.Parallel()
 	for _, s := range []Series{E48, E96, E192} {
@@ -72,7 +72,7 @@ func TestE192Formula(t *testing.T) {
 
 func TestSeriesNesting(t *testing.T) {
 	t.Parallel()
-	// E6 ⊂ E12 ⊂ E24 and E48 ⊂ E96 ⊂ E192, every other value (CHECK-VALUES.md).
+	// E6 ⊂ E12 ⊂ E24 and E48 ⊂ E96 ⊂ E192, every other value (docs/check-values.md, "Preferred values").
 	for _, pair := range [][2]Series{{E3, E6}, {E6, E12}, {E12, E24}, {E48, E96}, {E96, E192}} {
 		coarse, fine := pair[0], pair[1]
 		for _, v := range coarse.Values() {

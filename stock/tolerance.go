@@ -10,7 +10,7 @@ import (
 )
 
 // toleranceLetters are the IEC 60062 tolerance letters for relative
-// tolerances (CHECK-VALUES.md: C, D, F, G, J, K, M confirmed in published
+// tolerances (docs/check-values.md, "Value and tolerance codes": C, D, F, G, J, K, M confirmed in published
 // marking charts; B from memory).
 var toleranceLetters = map[rune]float64{
 	'B': 0.001,  // ±0.1 %
@@ -24,7 +24,7 @@ var toleranceLetters = map[rune]float64{
 }
 
 // absoluteBelow10pF are the letters that IEC 60062 gives an absolute meaning
-// for capacitors below 10 pF: B ±0.1 pF, C ±0.25 pF, D ±0.5 pF (CHECK-VALUES.md,
+// for capacitors below 10 pF: B ±0.1 pF, C ±0.25 pF, D ±0.5 pF (docs/check-values.md, "Value and tolerance codes",
 // B from memory), F ±1 pF and G ±2 pF (from memory).
 const absoluteBelow10pF = "BCDFG"
 

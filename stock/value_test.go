@@ -47,7 +47,7 @@ func TestParseValue(t *testing.T) {
 		want float64
 		src  string
 	}{
-		// IEC 60062 letter-and-digit code (check values from CHECK-VALUES.md).
+		// IEC 60062 letter-and-digit code (docs/check-values.md, "Value and tolerance codes").
 		{"R47", R, 0.47, "IEC 60062"},
 		{"4R7", R, 4.7, "IEC 60062"},
 		{"470R", R, 470, "IEC 60062"},
@@ -255,7 +255,7 @@ func TestParseTolerance(t *testing.T) {
 		{"±0.5%", 0.005, "percent with sign"},
 		{"+/- 5 %", 0.05, "percent with sign"},
 		{"0.25%", 0.0025, "percent"},
-		// IEC 60062 letters (CHECK-VALUES.md; B from memory).
+		// IEC 60062 letters (docs/check-values.md, "Value and tolerance codes"; B from memory).
 		{"B", 0.001, "IEC 60062"},
 		{"C", 0.0025, "IEC 60062"},
 		{"D", 0.005, "IEC 60062"},
@@ -312,7 +312,7 @@ func TestDielectrics(t *testing.T) {
 	}{
 		// Class 1 ceramics and films suit a signal path; class 2 ceramics,
 		// electrolytics and tantalum do not (Op Amps for Everyone 16.8.3 as
-		// quoted in CHECK-VALUES.md; films common practice, no source).
+		// quoted in docs/check-values.md, "Practical rules"; films common practice, no source).
 		{"C0G", "C0G", true},
 		{"cog", "C0G", true},
 		{"NP0", "NP0", true},

@@ -41,7 +41,7 @@ func TestGroupDelay(t *testing.T) {
 // step) on the sections of many designs: capacitors from the default
 // scaling, perturbed, and every returned solution must reproduce the
 // section denominator; where Solve reports no exact solution, the
-// Sallen-Key low-pass must really violate Cf/Cg >= 4Q² (DOMAIN.md).
+// Sallen-Key low-pass must really violate Cf/Cg >= 4Q² (docs/check-values.md, "Section circuits").
 func TestSolveReproducesSection(t *testing.T) {
 	t.Parallel()
 	rng := rand.New(rand.NewPCG(8, 2))

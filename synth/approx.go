@@ -171,7 +171,7 @@ func attenCrossing(poles []complex128, target float64) float64 {
 }
 
 // PairF0Q returns the normalised natural frequency and Q of the complex pole
-// pair p, p*: w0 = |p|, Q = |p| / (2|Re p|) (DOMAIN.md, sections).
+// pair p, p*: w0 = |p|, Q = |p| / (2|Re p|) (docs/check-values.md, "Section Q and w0").
 func PairF0Q(p complex128) (w0, q float64) {
 	w0 = cmplx.Abs(p)
 	return w0, w0 / (2 * math.Abs(real(p)))

@@ -6,14 +6,14 @@ import (
 	"testing"
 )
 
-// Check values from /work/shared/CHECK-VALUES.md (the team's collection of
+// Check values from docs/check-values.md (the project's collection of
 // published figures). Each table names its source; "computed" figures were
 // evaluated from the closed-form definitions and cross-checked against the
 // named published table; "from memory" figures were recalled, not re-read
 // from the book.
 
 // bookTol is the relative tolerance against 4-5 digit book tables, which
-// truncate rather than round (CHECK-VALUES.md, first paragraph).
+// truncate rather than round (docs/check-values.md, introduction).
 const bookTol = 5e-4
 
 func relClose(got, want, tol float64) bool { return math.Abs(got-want) <= tol*math.Abs(want) }
@@ -42,7 +42,7 @@ const (
 )
 
 // TestSectionTables checks section natural frequencies (normalised) and Q in
-// rising order against CHECK-VALUES.md "Section Q (rising)".
+// rising order against docs/check-values.md, "Section Q and w0".
 func TestSectionTables(t *testing.T) {
 	t.Parallel()
 	cases := []struct {
@@ -111,7 +111,7 @@ func TestSectionTables(t *testing.T) {
 }
 
 // TestNormalisedValueTables checks the normalised unity-gain low-pass
-// element values (unit resistors, edge 1 rad/s) against CHECK-VALUES.md.
+// element values (unit resistors, edge 1 rad/s) against docs/check-values.md, "Normalised element values".
 // Each row lists the sections in cascade order: 3-pole as Cf, Ca, Cb;
 // 2-pole as Cf, Cg; 1-pole as C.
 func TestNormalisedValueTables(t *testing.T) {
@@ -196,14 +196,14 @@ func tableOrder(t *testing.T, d *Design, i int) []float64 {
 
 // TestChebyshevClassicNormalisation checks the classic handbook tables'
 // -3 dB (relative to the passband peak) normalisation of Chebyshev values,
-// CHECK-VALUES.md, "the same in the -3 dB normalisation ... (from memory)":
+// docs/check-values.md, "Normalised element values", the classic -3 dB normalisation (from memory):
 // scaling the frequency by the conversion factor cosh(acosh(1/ε)/n)
 // multiplies every normalised capacitor by it.
 func TestChebyshevClassicNormalisation(t *testing.T) {
 	t.Parallel()
 	cases := []struct {
 		n    int
-		conv float64     // CHECK-VALUES.md conversion, 0.5 dB, computed
+		conv float64     // docs/check-values.md, "Normalisation", 0.5 dB, computed
 		want [][]float64 // from memory
 	}{
 		{2, 1.389744, [][]float64{{1.9497, 0.65336}}},
@@ -222,7 +222,7 @@ func TestChebyshevClassicNormalisation(t *testing.T) {
 			}
 			f3 := crossing(d, target) * 2 * math.Pi
 			if !relClose(f3, c.conv, 1e-6) {
-				t.Errorf("-3 dB re peak at %.7f × edge, CHECK-VALUES %.6f", f3, c.conv)
+				t.Errorf("-3 dB re peak at %.7f × edge, check value %.6f", f3, c.conv)
 			}
 			for i := range d.Sections {
 				got := tableOrder(t, d, i)
@@ -234,7 +234,7 @@ func TestChebyshevClassicNormalisation(t *testing.T) {
 			}
 		})
 	}
-	// 1 dB conversion factors, computed (CHECK-VALUES.md).
+	// 1 dB conversion factors, computed (docs/check-values.md, "Normalisation").
 	for i, conv := range []float64{1.217626, 1.094868, 1.053002, 1.033815, 1.023442} {
 		n := i + 2
 		t.Run(fmt.Sprintf("1dB/n=%d", n), func(t *testing.T) {
@@ -244,7 +244,7 @@ func TestChebyshevClassicNormalisation(t *testing.T) {
 				target--
 			}
 			if f3 := crossing(d, target) * 2 * math.Pi; !relClose(f3, conv, 1e-6) {
-				t.Errorf("-3 dB re peak at %.7f × edge, CHECK-VALUES %.6f", f3, conv)
+				t.Errorf("-3 dB re peak at %.7f × edge, check value %.6f", f3, conv)
 			}
 		})
 	}
@@ -270,7 +270,7 @@ func crossing(d *Design, target float64) float64 {
 }
 
 // TestBesselDelayHalfPower checks the -3 dB frequency of the unit-delay
-// Bessel filter, CHECK-VALUES.md (computed), n = 2..6, and that the unit
+// Bessel filter, docs/check-values.md, "Normalisation" (computed), n = 2..6, and that the unit
 // delay normalisation has group delay 1 s at DC for a 1/(2π) Hz edge.
 func TestBesselDelayHalfPower(t *testing.T) {
 	t.Parallel()
@@ -282,10 +282,10 @@ func TestBesselDelayHalfPower(t *testing.T) {
 				t.Fatal(err)
 			}
 			if got := crossing(d, HalfPowerDB) * 2 * math.Pi; !relClose(got, want, 1e-7) {
-				t.Errorf("-3 dB at %.8f rad/s, CHECK-VALUES %.7f", got, want)
+				t.Errorf("-3 dB at %.8f rad/s, check value %.7f", got, want)
 			}
 			// Unit group delay at DC is the definition of the reverse Bessel
-			// polynomial normalisation (DOMAIN.md).
+			// polynomial normalisation (docs/check-values.md, "Approximations").
 			if tau := d.TargetGroupDelay(0); math.Abs(tau-1) > 1e-12 {
 				t.Errorf("group delay at DC %.15f s, want 1", tau)
 			}
@@ -294,7 +294,7 @@ func TestBesselDelayHalfPower(t *testing.T) {
 }
 
 // TestAttenuationTables checks attenuations at multiples of the edge,
-// CHECK-VALUES.md "Orders" section (computed).
+// docs/check-values.md, "Orders and attenuation" (computed).
 func TestAttenuationTables(t *testing.T) {
 	t.Parallel()
 	cases := []struct {
@@ -335,14 +335,14 @@ func TestAttenuationTables(t *testing.T) {
 		}
 	}
 	// No Bessel order up to 12 exceeds 14.17 dB at twice the -3 dB
-	// frequency (CHECK-VALUES.md, computed; the Gaussian limit is 12.04 dB).
+	// frequency (docs/check-values.md, "Orders and attenuation", computed; the Gaussian limit is 12.04 dB).
 	t.Run("bessel/limit", func(t *testing.T) {
 		best := 0.0
 		for n := 1; n <= MaxOrder; n++ {
 			best = math.Max(best, designAt(t, Bessel, 0, n, OddOnePole, LowPass).AttenuationAt(2/(2*math.Pi)))
 		}
 		if best > 14.175 || best < 14.165 {
-			t.Errorf("largest Bessel attenuation at 2·f3dB %.4f dB, CHECK-VALUES 14.17", best)
+			t.Errorf("largest Bessel attenuation at 2·f3dB %.4f dB, check value 14.17", best)
 		}
 		if g := designAt(t, Bessel, 0, MaxOrder, OddOnePole, LowPass).AttenuationAt(2 / (2 * math.Pi)); g < 12.04 || g > 14.17 {
 			t.Errorf("order 12 at 2·f3dB: %.4f dB, expected between the Gaussian limit 12.04 and 14.17", g)
@@ -350,8 +350,8 @@ func TestAttenuationTables(t *testing.T) {
 	})
 }
 
-// TestOrderTable checks the unrounded order formulas, CHECK-VALUES.md
-// "Orders" table (scipy buttord / cheb1ord formulas; Chebyshev ripple = Ap).
+// TestOrderTable checks the unrounded order formulas, docs/check-values.md,
+// "Orders and attenuation" (scipy buttord / cheb1ord formulas; Chebyshev ripple = Ap).
 func TestOrderTable(t *testing.T) {
 	t.Parallel()
 	cases := []struct {
@@ -397,7 +397,7 @@ func TestOrderTable(t *testing.T) {
 
 // TestWorkedExamples recomputes the worked examples of Op Amps for Everyone
 // (Texas Instruments SLOD006B, sections 16.3 and 16.4) as collected in
-// CHECK-VALUES.md.
+// docs/check-values.md, "Worked examples".
 func TestWorkedExamples(t *testing.T) {
 	t.Parallel()
 	t.Run("first-order-lowpass", func(t *testing.T) {
@@ -429,12 +429,11 @@ func TestWorkedExamples(t *testing.T) {
 			t.Errorf("stage 1 R %.1f Ω, want 3.183 kΩ", v[0])
 		}
 		// The pair stages with the book's capacitors; the resistors come
-		// from the quadratic of DOMAIN.md (Topology.Solve). CHECK-VALUES.md
-		// lists Cg = 820 pF, Cf = 1.5 nF under "Q = 1.618" and Cg = 330 pF,
-		// Cf = 4.7 nF under "Q = 0.618", but the Q labels are swapped there:
-		// Cf/Cg = 1.83 is below 4Q² = 10.47 for Q = 1.618 (no real
-		// resistors), and the printed resistors reproduce only with the
-		// lower-Q pair. Matched here by Q as the numbers require.
+		// from the quadratic of docs/check-values.md, "Section circuits"
+		// (Topology.Solve). The capacitor pairs are matched to the stages by
+		// Q as the numbers require: Cf/Cg = 1.83 (820 pF, 1.5 nF) is below
+		// 4Q² = 10.47 for Q = 1.618 (no real resistors), and the printed
+		// resistors reproduce only with the lower-Q pair.
 		cases := []struct {
 			q      float64
 			cg, cf float64
@@ -487,7 +486,7 @@ func TestWorkedExamples(t *testing.T) {
 	t.Run("chebyshev3dB-example-16-2", func(t *testing.T) {
 		// The book's example (fc = 3 kHz, 3 dB ripple, Cg = 22 nF, Cf =
 		// 150 nF; the frequency is from memory) does not reproduce its
-		// printed resistors; CHECK-VALUES.md gives the recomputed 1.2335 kΩ
+		// printed resistors; docs/check-values.md, "Worked examples" gives the recomputed 1.2335 kΩ
 		// and 1.3346 kΩ and says to test R1+R2 and R1·R2. The book's
 		// Chebyshev tables put fc at -3 dB relative to the DC gain, so the
 		// ripple edge is placed where that holds at 3 kHz.
@@ -521,7 +520,7 @@ func TestWorkedExamples(t *testing.T) {
 	})
 }
 
-// TestThreePoleHighestQUnrealisable checks the remark of CHECK-VALUES.md
+// TestThreePoleHighestQUnrealisable checks the remark of docs/check-values.md, "Normalised element values"
 // that pairing the real pole with the highest-Q pair is unrealisable for
 // Chebyshev n=5 (0.5 dB: real pole 0.36232, pair w0 1.01773, Q 4.54496,
 // computed), while the lowest-Q pair (w0 0.69048, Q 1.17781) works. Both

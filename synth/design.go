@@ -51,7 +51,7 @@ type Design struct {
 
 // MinOrder returns the lowest order (1..MaxOrder) whose design meets the
 // specification at fp and fs. Butterworth and Chebyshev use the closed-form
-// order formulas (DOMAIN.md), then the order is checked against the
+// order formulas (docs/check-values.md, "Approximations"), then the order is checked against the
 // analysed design (an even Chebyshev order with unity-gain sections has its
 // attenuation measured from the ripple minimum at DC and may need one more).
 // Bessel has no closed form: the order is increased from 1 until the design
@@ -116,7 +116,7 @@ func MinOrder(s Spec) (int, error) {
 const attenSlack = 1e-9
 
 // closedFormOrder returns the unrounded minimum order of the closed-form
-// formulas (DOMAIN.md; the same as scipy.signal buttord and cheb1ord).
+// formulas (docs/check-values.md, "Approximations"; the same as scipy.signal buttord and cheb1ord).
 func closedFormOrder(s *Spec) float64 {
 	r := s.stopRatio()
 	gs := math.Pow(10, s.StopAtten/10) - 1

@@ -58,7 +58,7 @@
 // SLOD006B, section 16.3). The circuits (Sallen-Key, 3-pole, RC, each as a
 // low-pass and a high-pass) are described once as data in Topology, with
 // their transfer functions for arbitrary element values; the formulas are in
-// the team's DOMAIN.md notes and are verified by nodal analysis in the
+// docs/check-values.md ("Section circuits") and are verified by nodal analysis in the
 // tests.
 //
 // # Element values and scaling

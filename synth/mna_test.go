@@ -139,7 +139,7 @@ func TestClosedFormMatchesNodalAnalysis(t *testing.T) {
 	}
 }
 
-// The transfer functions of DOMAIN.md written out literally, independent of
+// The transfer functions of docs/check-values.md, "Section circuits" written out literally, independent of
 // topology.go, as denominators (and numerators) in ascending powers of s.
 func domainSallenKeyLP(r1, r2, cf, cg float64) (num, den []float64) {
 	return []float64{1}, []float64{1, cg * (r1 + r2), r1 * r2 * cf * cg}
@@ -181,7 +181,7 @@ func evalPoly(c []float64, s complex128) complex128 {
 }
 
 // TestDomainFormulas verifies the section transfer functions written in
-// DOMAIN.md by nodal analysis of each topology's netlist with random
+// docs/check-values.md by nodal analysis of each topology's netlist with random
 // element values (not only the equal-value cases), and that topology.go's
 // Coeffs agree with the same formulas.
 func TestDomainFormulas(t *testing.T) {
@@ -203,7 +203,7 @@ func TestDomainFormulas(t *testing.T) {
 		t.Run(top.ID(), func(t *testing.T) {
 			f, ok := formula[top.ID()]
 			if !ok {
-				t.Fatalf("no DOMAIN.md formula for %s", top.ID())
+				t.Fatalf("no closed form for %s", top.ID())
 			}
 			for trial := 0; trial < 20; trial++ {
 				v := make([]float64, top.NumElements())
@@ -220,12 +220,12 @@ func TestDomainFormulas(t *testing.T) {
 				cn, cd := top.Coeffs(v)
 				for i := range den {
 					if !relClose(cd[i], den[i], 1e-14) {
-						t.Fatalf("Coeffs den[%d] = %g, DOMAIN.md %g (values %v)", i, cd[i], den[i], v)
+						t.Fatalf("Coeffs den[%d] = %g, closed form %g (values %v)", i, cd[i], den[i], v)
 					}
 				}
 				for i := range num {
 					if !relClose(cn[i], num[i], 1e-14) {
-						t.Fatalf("Coeffs num[%d] = %g, DOMAIN.md %g", i, cn[i], num[i])
+						t.Fatalf("Coeffs num[%d] = %g, closed form %g", i, cn[i], num[i])
 					}
 				}
 				freqs := logSweep(10, 1e5, 25)
@@ -238,7 +238,7 @@ func TestDomainFormulas(t *testing.T) {
 					s := complex(0, 2*math.Pi*fr)
 					want := evalPoly(num, s) / evalPoly(den, s)
 					if d := cmplx.Abs(h[i]/want - 1); d > 1e-9 {
-						t.Fatalf("values %v at %g Hz: nodal %v, DOMAIN.md %v (rel. %.2g)", v, fr, h[i], want, d)
+						t.Fatalf("values %v at %g Hz: nodal %v, closed form %v (rel. %.2g)", v, fr, h[i], want, d)
 					}
 				}
 			}
@@ -246,7 +246,7 @@ func TestDomainFormulas(t *testing.T) {
 	}
 }
 
-// TestDomainSectionFacts checks the other statements of DOMAIN.md about
+// TestDomainSectionFacts checks the other statements of docs/check-values.md, "Section circuits" about
 // sections: real Sallen-Key resistors exist iff Cf/Cg >= 4Q² (equal
 // resistors exactly at 4Q²), equal high-pass capacitors give Rg/Rf = 4Q²,
 // and the 3-pole high-pass with unit capacitors has the reciprocals of the

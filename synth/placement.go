@@ -194,7 +194,7 @@ func scaleClassical(s *Spec, n int, poles []complex128) {
 	k := 1.0
 	switch {
 	case s.Approx == Butterworth:
-		// DOMAIN.md: the -3 dB frequency is fp·(10^(Ap/10)-1)^(-1/(2n)).
+		// docs/check-values.md, "Approximations": the -3 dB frequency is fp·(10^(Ap/10)-1)^(-1/(2n)).
 		k = math.Pow(math.Pow(10, s.PassAtten/10)-1, -1/(2*float64(n)))
 	case s.Approx == Bessel && s.BesselNorm == BesselMag && s.PassAtten != HalfPowerDB:
 		k = 1 / attenCrossing(poles, s.PassAtten)

@@ -191,7 +191,7 @@ func TestHighPassMirrorsLowPass(t *testing.T) {
 // stricter specification never gets a lower minimum order (common sense
 // of the closed forms), and that for Bessel the search still finds the
 // first meeting order although the attenuation near the edge is not
-// monotonic in the order (CHECK-VALUES.md: 14.17 dB peak at n = 6 at
+// monotonic in the order (docs/check-values.md, "Orders and attenuation": 14.17 dB peak at n = 6 at
 // twice the -3 dB frequency).
 func TestOrderMonotonic(t *testing.T) {
 	t.Parallel()
@@ -217,7 +217,7 @@ func TestOrderMonotonic(t *testing.T) {
 	}
 	t.Run("bessel-non-monotonic", func(t *testing.T) {
 		// 14.1 dB at 2·f3dB: met by n = 6 (14.17 dB) but not n = 5
-		// (14.06 dB) nor n = 8 (13.68 dB), CHECK-VALUES.md (computed).
+		// (14.06 dB) nor n = 8 (13.68 dB), docs/check-values.md, "Orders and attenuation" (computed).
 		n, err := MinOrder(Spec{Approx: Bessel, Pass: 1000, Stop: 2000, StopAtten: 14.1})
 		if err != nil || n != 6 {
 			t.Errorf("got %d, %v; want 6", n, err)

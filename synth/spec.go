@@ -149,7 +149,7 @@ func ParseBesselNorm(s string) (BesselNorm, error) {
 const MaxOrder = 12
 
 // HalfPowerDB is 10·log10(2) ≈ 3.0103 dB, the attenuation at the -3 dB point
-// and the default Ap for Butterworth and Bessel (DOMAIN.md, conventions).
+// and the default Ap for Butterworth and Bessel (docs/check-values.md, "Conventions").
 var HalfPowerDB = 10 * math.Log10(2)
 
 // DefaultRipple is the Chebyshev passband ripple used when neither a ripple

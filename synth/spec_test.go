@@ -75,7 +75,7 @@ func TestNormalizeErrors(t *testing.T) {
 }
 
 // TestNormalizeDefaults checks the filled-in defaults: Ap = 10·log10(2) dB
-// for Butterworth and Bessel (DOMAIN.md conventions), Chebyshev Ap = ripple,
+// for Butterworth and Bessel (docs/check-values.md, "Conventions"), Chebyshev Ap = ripple,
 // default ripple, 1-pole odd arrangement.
 func TestNormalizeDefaults(t *testing.T) {
 	t.Parallel()
@@ -104,7 +104,7 @@ func TestMinOrderInfeasible(t *testing.T) {
 		msg  string
 	}{
 		// Bessel: no order exceeds 14.17 dB at twice the -3 dB frequency
-		// (CHECK-VALUES.md, computed).
+		// (docs/check-values.md, "Orders and attenuation", computed).
 		{"bessel-2x-30dB", Spec{Approx: Bessel, Pass: 1000, Stop: 2000, StopAtten: 30}, "the most is 14.17 dB (order 6)"},
 		// Butterworth: 100 dB at 1.2·fp needs order 64 by the closed form.
 		{"butterworth-order-64", Spec{Approx: Butterworth, Pass: 1000, Stop: 1200, StopAtten: 100}, "needs order 64"},
@@ -138,7 +138,7 @@ func TestNotes(t *testing.T) {
 		order int
 		want  []string
 	}{
-		// Butterworth attenuation 10·log10(1 + (f/f3)^(2n)) (DOMAIN.md):
+		// Butterworth attenuation 10·log10(1 + (f/f3)^(2n)) (docs/check-values.md, "Approximations"):
 		// n = 5 at 3·f3 47.71 dB, n = 7 66.80 dB, n = 3 28.63 dB; with
 		// Ap = 1 dB the -3 dB point is fp·(10^0.1 - 1)^(-1/8) = 1.184·fp.
 		{"minimum", Spec{Approx: Butterworth, Pass: 1000, Stop: 3000, StopAtten: 40}, 0,

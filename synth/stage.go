@@ -108,7 +108,7 @@ type Scaling struct {
 	// geometric middle of RMin..RMax.
 	Anchor float64
 	// RMin and RMax are the allowed resistor range in ohms; 0 means the
-	// defaults 1 kΩ and 1 MΩ (common practice, no source; DOMAIN.md).
+	// defaults 1 kΩ and 1 MΩ (common practice, no source; docs/check-values.md, "Practical rules").
 	RMin, RMax float64
 }
 
@@ -134,7 +134,7 @@ func (d *Design) Normalised(i int) ([]float64, error) {
 
 // Scale turns the design into component values by frequency scaling with
 // kf = 2π·fp and, per section, impedance scaling kz: R' = kz·R,
-// C' = C/(kf·kz) (DOMAIN.md, scaling). With an anchor, kz makes the
+// C' = C/(kf·kz) (docs/check-values.md, "Scaling"). With an anchor, kz makes the
 // section's largest capacitor equal to it; without, kz puts the geometric
 // middle of the section's resistors at sqrt(RMin·RMax). Errors: fault.Invalid
 // for a non-positive or non-finite anchor or range, fault.Infeasible from

@@ -122,7 +122,7 @@ func blameTable(b *board, ts *trialSet) ([]Blame, float64) {
 }
 
 // compTolerance is the effective tolerance of component ci: the parts'
-// tolerances weighted by their share of the value (DOMAIN.md, "Real parts").
+// tolerances weighted by their share of the value (docs/check-values.md, "Real parts").
 func compTolerance(b *board, ci int) float64 {
 	c := &b.comps[ci]
 	if c.hi-c.lo == 1 {

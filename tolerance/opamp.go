@@ -164,8 +164,8 @@ func (o *opampBoard) gain2(omega float64) float64 {
 // 16.8.4) and the rule's text: first order fT >= 100·fc; second order with
 // Q > 1 fT = 100·Q·f0·√((Q²-0.5)/(Q²-0.25)) (the book's 100·(fc/a)·... with
 // a = 1/(Q·w0)); second order with Q <= 1 the limiting form 100·Q·f0 (the
-// book's Q < 1 case as recalled from memory; DOMAIN.md gives the same
-// rough figure). A 3-pole section needs the larger of its pair's and its
+// book's Q < 1 case as recalled from memory; docs/check-values.md, "Practical
+// rules", gives the same rough figure). A 3-pole section needs the larger of its pair's and its
 // real pole's figures. f0, realF0 in Hz; poles 1, 2 or 3.
 func GBWRule(poles int, f0, q, realF0 float64) (gbw float64, rule string) {
 	pair := func() (float64, string) {

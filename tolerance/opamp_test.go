@@ -62,7 +62,8 @@ func opampCascade(t *testing.T, c *optimize.Candidate, op *synth.OpAmp) func(f f
 func TestSectionResponseIdealMatchesClosedForm(t *testing.T) {
 	t.Parallel()
 	// The nodal analysis built from the element list, with an ideal
-	// follower, must reproduce each topology's closed form (DOMAIN.md).
+	// follower, must reproduce each topology's closed form (docs/check-values.md,
+	// "Section circuits").
 	for _, topo := range synth.Topologies() {
 		t.Run(topo.ID(), func(t *testing.T) {
 			v := make([]float64, topo.NumElements())
@@ -178,7 +179,7 @@ func TestGBWRuleBookExample(t *testing.T) {
 	// Op Amps for Everyone, 16.8.4: a 5th-order 10 kHz unity-gain Butterworth
 	// low-pass needs 1.5 MHz; the Q = 1.618 section sets it. Recomputed
 	// from the book's formula: 100·1.618034·10 kHz·√(2.118034/2.368034) =
-	// 1.5302 MHz (CHECK-VALUES.md prints 1.531 MHz, a rounding slip).
+	// 1.5302 MHz (docs/check-values.md, "Practical rules").
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 10e3, Order: 5}
 	c := designCandidate(t, spec, 5, synth.OddOnePole, tols{0.01, 0.05})
 	rep, err := CheckOpAmp(c, spec, synth.OpAmp{GBW: 1.5e6})

@@ -11,7 +11,7 @@ import (
 	"drawerfit/synth"
 )
 
-// Limits of the practical checks (common practice, no source; DOMAIN.md,
+// Limits of the practical checks (common practice, no source; docs/check-values.md,
 // "Practical rules"; Op Amps for Everyone 16.8.3 recommends 1 kΩ to 100 kΩ
 // for general use).
 const (

@@ -12,7 +12,7 @@ import (
 
 func TestSensitivitiesSallenKeyAnalytic(t *testing.T) {
 	t.Parallel()
-	// From the closed forms in DOMAIN.md, differentiating ln w0 and ln Q:
+	// From the closed forms in docs/check-values.md, "Section circuits", differentiating ln w0 and ln Q:
 	// low-pass  w0 = (R1 R2 Cf Cg)^-½, Q = √(R1 R2 Cf Cg)/(Cg(R1+R2)):
 	//   S^w0 = -½ for all; S^Q_R1 = ½ - R1/(R1+R2), S^Q_R2 = ½ - R2/(R1+R2),
 	//   S^Q_Cf = ½, S^Q_Cg = -½.
@@ -146,7 +146,7 @@ func TestWorstCaseFirstOrder(t *testing.T) {
 func TestChebyshevRippleEdge(t *testing.T) {
 	t.Parallel()
 	// Exact parts: the ripple-band edge is fp and the passband figure is the
-	// ripple, for even and odd orders (DOMAIN.md: fp is the ripple-band edge
+	// ripple, for even and odd orders (docs/check-values.md, "Conventions": fp is the ripple-band edge
 	// and Ap the ripple).
 	for _, n := range []int{4, 5} {
 		spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Chebyshev, Ripple: 0.5, Pass: 2e3, Stop: 5e3, StopAtten: 30}
@@ -166,7 +166,7 @@ func TestChebyshevRippleEdge(t *testing.T) {
 
 func TestBiasResistors(t *testing.T) {
 	t.Parallel()
-	// The DC resistance at each follower's + input (CHECK-VALUES.md,
+	// The DC resistance at each follower's + input (docs/check-values.md, "Practical rules",
 	// practical rules): R1+R2, R1+R2+R3, Rg or Rb for the high-passes, R for
 	// first-order sections.
 	cases := []struct {

@@ -193,7 +193,7 @@ func TestFitGBW(t *testing.T) {
 		warn bool
 	}{
 		// 100 kHz for a 10 kHz section: far below 100·Q·f0 ≈ 707 kHz (Op Amps
-		// for Everyone 16.8.4, Q <= 1 form, as in CHECK-VALUES.md).
+		// for Everyone 16.8.4, Q <= 1 form, docs/check-values.md, "Practical rules").
 		{"slow", "100k", true},
 		// 100 MHz: two orders of magnitude above the rule.
 		{"fast", "100M", false},
@@ -217,7 +217,7 @@ func TestFitGBW(t *testing.T) {
 					t.Fatalf("candidate %d has no op-amp check", i+1)
 				}
 				for _, s := range c.OpAmp.Sections {
-					// The Q <= 1 form of the rule, 100·Q·f0 (CHECK-VALUES.md).
+					// The Q <= 1 form of the rule, 100·Q·f0 (docs/check-values.md, "Practical rules").
 					if want := 100 * s.Q * s.F0; math.Abs(s.RequiredGBW/want-1) > 1e-9 {
 						t.Errorf("section %d needs %v Hz, want %v", s.Section, s.RequiredGBW, want)
 					}
@@ -239,7 +239,7 @@ func TestFitGBW(t *testing.T) {
 }
 
 // TestFitGBWPublished checks the published example of Op Amps for
-// Everyone 16.8.4 (CHECK-VALUES.md): a 5th-order 10 kHz unity-gain
+// Everyone 16.8.4 (docs/check-values.md, "Practical rules"): a 5th-order 10 kHz unity-gain
 // Butterworth needs 1.531 MHz (recomputed), for its Q 1.618 section.
 func TestFitGBWPublished(t *testing.T) {
 	t.Parallel()
@@ -345,7 +345,7 @@ func TestFitBiasResistor(t *testing.T) {
 				for k, b := range c.BiasResistors {
 					s := c.Sections[k]
 					// The DC resistance at the + input with capacitors open
-					// (CHECK-VALUES.md, practical rules): a low-pass has all its
+					// (docs/check-values.md, "Practical rules"): a low-pass has all its
 					// resistors in the series path (R1+R2, R1+R2+R3, R); a
 					// high-pass only the resistor to ground (Rg, Rb).
 					want := 0.0

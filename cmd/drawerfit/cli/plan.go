@@ -475,7 +475,7 @@ func formatPart(v float64, k synth.PartKind) string {
 	return stock.FormatValue(v, stock.Resistor)
 }
 
-// Practical ranges (DOMAIN.md practical rules, common practice, no source):
+// Practical ranges (common practice, no source; docs/check-values.md, "Practical rules"):
 // resistors 1 kΩ to 1 MΩ, capacitors from 100 pF.
 const (
 	planRMin = synth.DefaultRMin

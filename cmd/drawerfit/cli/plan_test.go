@@ -187,7 +187,7 @@ func TestPlanFrequencyForms(t *testing.T) {
 }
 
 // TestPlanAnchor checks --anchor: each section's largest capacitor gets
-// the anchor value (the classical hand procedure, DOMAIN.md scaling).
+// the anchor value (the classical hand procedure, docs/check-values.md, "Scaling").
 func TestPlanAnchor(t *testing.T) {
 	t.Parallel()
 	for _, kind := range []string{"lowpass", "highpass"} {
