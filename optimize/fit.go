@@ -36,8 +36,12 @@ type Options struct {
 	Shortlist int
 	// NodeBudget bounds the cross-section search per design (0: default).
 	NodeBudget int
-	Workers    int                   // goroutines; 0 means GOMAXPROCS
-	Progress   func(done, total int) // optional, called as sections finish (total: sections of all designs)
+	// SectionBudget bounds the assignments scored per section search
+	// (0: default), shared among the workers. A search that reaches it
+	// stops, and the result says the list is not proven exact.
+	SectionBudget int
+	Workers       int                   // goroutines; 0 means GOMAXPROCS
+	Progress      func(done, total int) // optional, called as sections finish (total: sections of all designs)
 }
 
 // DefaultOptions returns the documented defaults: pairs on, one board, the
@@ -189,6 +193,12 @@ func Fit(ctx context.Context, items []stock.Item, spec synth.Spec, o Options) (*
 			if stop.Load() {
 				return nil, interrupted(ctx)
 			}
+			for si, sd := range secDiag {
+				if sd.truncated {
+					r.Notes = append(r.Notes, fmt.Sprintf("order %d (%s), section %d: the search stopped after scoring %d assignments; the list is not proven exact",
+						jb.n, arrangementName(d), si+1, sd.evals))
+				}
+			}
 			if cb.truncated {
 				r.Notes = append(r.Notes, fmt.Sprintf("order %d (%s): the cross-section search stopped after %d combinations; the list may miss some designs",
 					jb.n, arrangementName(d), cb.nodes))
@@ -242,13 +252,33 @@ func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []
 	secLists := make([][]sectionCand, len(d.Sections))
 	secDiag := make([]sectionDiag, len(d.Sections))
 	tdbTotal := make([]float64, len(grid.w))
+	targets := make([]*target, len(d.Sections))
+	unreachable := false
 	for i := range d.Sections {
 		t := newTarget(&d.Sections[i], grid)
+		t.setDomain(res, caps)
+		targets[i] = t
+		// Nothing in stock comes near this section: the design cannot be
+		// built, so none of its sections is searched.
+		if ok, why := t.reachable(sectionCeiling); !ok {
+			secDiag[i].unreachable = why
+			unreachable = true
+		}
+	}
+	if unreachable {
+		for range d.Sections {
+			progress()
+		}
+		return secLists, secDiag, &combiner{}
+	}
+	for i := range d.Sections {
+		t := targets[i]
 		for g, v := range t.tdb {
 			tdbTotal[g] += v
 		}
 		ss := &sectionSearch{t: t, res: res, cap: caps, rows: rows, boards: o.Boards,
-			k: k, ceiling: sectionCeiling, rmin: o.RMin, rmax: o.RMax, stop: stop}
+			k: k, ceiling: sectionCeiling, rmin: o.RMin, rmax: o.RMax, stop: stop,
+			evalBudget: max(1, o.SectionBudget/o.Workers)}
 		secLists[i], secDiag[i] = ss.run(o.Workers)
 		if stop.Load() {
 			return secLists, secDiag, &combiner{}
@@ -275,6 +305,11 @@ func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []
 // section further off than this cannot be part of a useful design.
 const sectionCeiling = 6.0
 
+// defaultSectionBudget is the number of assignments a section search
+// scores at most: about a second on one core of this project's reference
+// machine (a probe rejection costs about 0.2 µs).
+const defaultSectionBudget = 5_000_000
+
 func checkOptions(o *Options) error {
 	switch {
 	case o.Combine != 1 && o.Combine != 2:
@@ -300,6 +335,9 @@ func checkOptions(o *Options) error {
 	}
 	if o.NodeBudget == 0 {
 		o.NodeBudget = 20_000_000
+	}
+	if o.SectionBudget == 0 {
+		o.SectionBudget = defaultSectionBudget
 	}
 	return nil
 }
@@ -556,6 +594,10 @@ func explain(r *Result, diags [][]sectionDiag, rows []Row, o Options) []string {
 			sec := d.Sections[si]
 			where := fmt.Sprintf("order %d (%s), section %d (%s, f0 %.4g Hz, Q %.3f)", d.Order, arrangementName(d), si+1, sec.Topology.Name(), sec.F0, sec.Q)
 			switch {
+			case sd.unreachable != "":
+				out = append(out, fmt.Sprintf("%s: nothing in stock comes near: %s", where, sd.unreachable))
+			case sd.capSets == 0:
+				// Not searched: another section of the design is out of reach.
 			case sd.ratioOK == 0 && sec.Topology == synth.SallenKeyLowPass():
 				out = append(out, fmt.Sprintf("%s: no capacitor pair with the needed ratio Cf/Cg >= 4Q² = %.2f and resistors within %s–%s",
 					where, 4*sec.Q*sec.Q, fmtOhm(o.RMin), fmtOhm(o.RMax)))

@@ -86,6 +86,38 @@ type target struct {
 
 	mu    sync.Mutex
 	boxes map[int]box
+
+	// dom is the rectangle of (x, y) the stock can realise (see reach);
+	// with hasDom the boxes are proven enclosures inside it.
+	dom    box
+	hasDom bool
+	sh     shape
+}
+
+// setDomain bounds the section's parameters by what the values res and
+// caps can realise, so that every box is a proven enclosure inside it.
+func (t *target) setDomain(res, caps *valueSet) {
+	sh, ok := shapeOf(t.topo)
+	if !ok {
+		return
+	}
+	dom, ok := reach(t, res, caps)
+	if !ok {
+		return
+	}
+	t.dom, t.hasDom, t.sh = dom, true, sh
+}
+
+// reachable reports whether any realisable section can come within the
+// error level B, and otherwise why not.
+func (t *target) reachable(B float64) (bool, string) {
+	if !t.hasDom {
+		return true, ""
+	}
+	if b := t.boxAt(levelOf(B)); !b.empty() {
+		return true, ""
+	}
+	return false, reachText(t, t.dom)
 }
 
 func newTarget(sec *synth.Section, g *scoreGrid) *target {
@@ -167,6 +199,18 @@ func (t *target) errFor(v []float64, limit float64) (float64, bool) {
 	return e, e <= limit
 }
 
+// coarse is the subset of the grid that the error regions are traced on:
+// about 40 evenly spaced points and the probes (any subset gives a lower
+// bound of the error, so a region traced on it contains the true one).
+func (t *target) coarse() []int {
+	var idx []int
+	step := max(len(t.grid.w)/40, 1)
+	for i := 0; i < len(t.grid.w); i += step {
+		idx = append(idx, i)
+	}
+	return append(idx, t.probe...)
+}
+
 // box is a rectangle in (x, y) = (ln(w0/w0t), ln(Q/Qt)) that contains every
 // 2-pole response whose error is below a level; for a 1-pole section only x
 // is used.
@@ -180,6 +224,9 @@ type box struct {
 
 // levelOf returns the smallest box level whose error bound is >= e. Levels
 // are 1e-7 dB · √2^k.
+// empty reports whether the box holds no point (nothing reaches its level).
+func (b *box) empty() bool { return b.xlo > b.xhi || b.ylo > b.yhi }
+
 func levelOf(e float64) int {
 	if e <= 1e-7 {
 		return 0
@@ -247,6 +294,20 @@ func (t *target) boxAtLocked(k int) box {
 	if b, ok := t.boxes[k]; ok {
 		return b
 	}
+	if t.hasDom {
+		b, ok := t.enclose(t.sh, t.dom, levelValue(k), t.coarse())
+		if !ok {
+			b = box{xlo: 1, xhi: -1, ylo: 1, yhi: -1}
+		}
+		if t.topo.Poles() == 1 {
+			b.ylo, b.yhi = math.Inf(-1), math.Inf(1)
+		}
+		b.e2xhi, b.e2xlo = math.Exp(-2*b.xhi), math.Exp(-2*b.xlo)
+		b.eyhi, b.eylo = math.Exp(b.yhi), math.Exp(b.ylo)
+		b.exhi, b.exlo = math.Exp(-b.xhi), math.Exp(-b.xlo)
+		t.boxes[k] = b
+		return b
+	}
 	if k < linearLevel {
 		base := t.boxAtLocked(linearLevel)
 		f := 1.1 * levelValue(k) / levelValue(linearLevel)
@@ -261,15 +322,7 @@ func (t *target) boxAtLocked(k int) box {
 		return b
 	}
 	B := levelValue(k)
-	var coarse []int
-	step := len(t.grid.w) / 40
-	if step < 1 {
-		step = 1
-	}
-	for i := 0; i < len(t.grid.w); i += step {
-		coarse = append(coarse, i)
-	}
-	coarse = append(coarse, t.probe...)
+	coarse := t.coarse()
 	rays := 48
 	if t.topo.Poles() == 1 {
 		rays = 2

@@ -174,6 +174,9 @@ type sectionDiag struct {
 	inRange      int // of which had resistors in the allowed range near the solution
 	quantityFail int // candidates rejected because a row lacks parts for the boards
 	accepted     int
+	unreachable  string // why nothing in stock comes near the section (not searched)
+	evals        int    // assignments scored
+	truncated    bool   // the evaluation budget stopped the search
 }
 
 func (d *sectionDiag) addFrom(o *sectionDiag) {
@@ -196,6 +199,9 @@ type sectionSearch struct {
 	rmax     float64
 	threeCap bool         // 3-pole sections: allow paired capacitors
 	stop     *atomic.Bool // set when the fit is cancelled; the loops poll it
+	// evalBudget bounds the assignments each worker scores (0: no bound);
+	// a worker that reaches it stops, and the section is not proven exact.
+	evalBudget int
 }
 
 // halted reports whether the fit was cancelled.
@@ -216,6 +222,71 @@ type worker struct {
 	lastE    float64
 	lastBox  box
 	lastOK   bool
+
+	// The search widens its error level pass by pass (passLevels). The
+	// walks enumerate the boxes of the entry limits capped at the pass's
+	// level, and skip every assignment inside the previous pass's box:
+	// those were all scored then (against the uncapped limit, which only
+	// falls), so no assignment is scored twice.
+	levelCap float64
+	prev     box
+	hasPrev  bool
+	evals    int  // assignments scored
+	over     bool // the evaluation budget ran out
+}
+
+// passLevels are the error levels (dB) of the successive passes of a
+// section search, up to the ceiling.
+func passLevels(ceiling float64) []float64 {
+	var out []float64
+	for b := 0.01; b < ceiling; b *= 4 {
+		out = append(out, b)
+	}
+	return append(out, ceiling)
+}
+
+// halted reports whether the worker must stop: the fit was cancelled or
+// its evaluation budget ran out.
+func (w *worker) halted() bool { return w.over || w.s.halted() }
+
+// seen reports whether the point (x, y) was inside the previous pass's
+// box, so that its assignment was scored then.
+func (w *worker) seen(x, y float64) bool {
+	p := &w.prev
+	return w.hasPrev && x >= p.xlo && x <= p.xhi && y >= p.ylo && y <= p.yhi
+}
+
+// setPass starts a pass at error level b.
+func (w *worker) setPass(b float64) {
+	w.levelCap = b
+	w.lastOK = false
+	w.cacheBox = [16]*box{}
+}
+
+// maxClassLimit is the largest entry limit over the part counts the
+// section can have.
+func (w *worker) maxClassLimit() float64 {
+	n := w.s.t.topo.NumElements()
+	var m float64
+	for p := n; p <= 2*n && p < len(w.list.cum); p++ {
+		m = math.Max(m, w.list.cum[p])
+	}
+	return m
+}
+
+// hull returns the smallest box containing a and b.
+func hull(a, b box) box {
+	if a.empty() {
+		return b
+	}
+	if b.empty() {
+		return a
+	}
+	h := box{xlo: math.Min(a.xlo, b.xlo), xhi: math.Max(a.xhi, b.xhi), ylo: math.Min(a.ylo, b.ylo), yhi: math.Max(a.yhi, b.yhi)}
+	h.e2xhi, h.e2xlo = math.Exp(-2*h.xhi), math.Exp(-2*h.xlo)
+	h.eyhi, h.eylo = math.Exp(h.yhi), math.Exp(h.ylo)
+	h.exhi, h.exlo = math.Exp(-h.xhi), math.Exp(-h.xlo)
+	return h
 }
 
 // classBox returns the box for the entry limit of part count p, cached
@@ -241,6 +312,9 @@ func (w *worker) box(e float64) box {
 }
 
 func (w *worker) boxLevel(e float64) box {
+	if w.levelCap > 0 {
+		e = math.Min(e, w.levelCap)
+	}
 	k := levelOf(e)
 	if b, ok := w.boxes[k]; ok {
 		return b
@@ -275,6 +349,8 @@ func (s *sectionSearch) run(workers int) ([]sectionCand, sectionDiag) {
 	for _, w := range ws {
 		final.merge(&w.list, s.ceiling)
 		diag.addFrom(&w.diag)
+		diag.evals += w.evals
+		diag.truncated = diag.truncated || w.over
 	}
 	out := final.all()
 	for i := range out {
@@ -302,6 +378,11 @@ func (w *worker) offer() {
 		parts += w.realOf(i).n
 	}
 	lim := w.list.limit(parts, s.ceiling)
+	w.evals++
+	if s.evalBudget > 0 && w.evals > s.evalBudget {
+		w.over = true
+		return
+	}
 	e, ok := s.t.errFor(w.v[:n], lim)
 	if !ok {
 		return
@@ -363,18 +444,32 @@ func (w *worker) rowUse(n int) ([]rowCount, bool) {
 }
 
 func (w *worker) search(part, of int) {
-	if w.s.t.topo.Poles() <= 2 {
-		w.seed(part, of)
-	}
-	switch w.s.t.topo {
-	case synth.FirstOrderLowPass(), synth.FirstOrderHighPass():
-		w.searchFirstOrder(part, of)
-	case synth.SallenKeyLowPass():
-		w.searchSallenKeyLowPass(part, of)
-	case synth.SallenKeyHighPass():
-		w.searchSallenKeyHighPass(part, of)
-	default:
+	if w.s.t.topo.Poles() > 2 {
 		w.searchThreePole(part, of)
+		return
+	}
+	w.seed(part, of)
+	levels := passLevels(w.s.ceiling)
+	if w.maxClassLimit() < w.s.ceiling {
+		// The seeding filled every class: one pass at the limits, which
+		// only fall from here.
+		levels = levels[len(levels)-1:]
+	}
+	for _, b := range levels {
+		w.setPass(b)
+		switch w.s.t.topo {
+		case synth.FirstOrderLowPass(), synth.FirstOrderHighPass():
+			w.searchFirstOrder(part, of)
+		case synth.SallenKeyLowPass():
+			w.searchSallenKeyLowPass(part, of)
+		case synth.SallenKeyHighPass():
+			w.searchSallenKeyHighPass(part, of)
+		}
+		if w.halted() || w.maxClassLimit() <= b {
+			return
+		}
+		w.setPass(0)
+		w.prev, w.hasPrev = w.box(b), true
 	}
 }
 
@@ -400,7 +495,7 @@ func (w *worker) seed(part, of int) {
 			}
 		}
 	}
-	for x := part; x < len(capSets) && !s.halted(); x += of {
+	for x := part; x < len(capSets) && !w.halted(); x += of {
 		cs := capSets[x]
 		for j, i := range ci {
 			w.r[i] = cs[j]
@@ -455,7 +550,7 @@ func (w *worker) searchFirstOrder(part, of int) {
 	if t.topo.Element(0).Kind == synth.Capacitor {
 		ri, ci = 1, 0
 	}
-	for c := part; c < len(s.cap.reals) && !s.halted(); c += of {
+	for c := part; c < len(s.cap.reals) && !w.halted(); c += of {
 		cr := &s.cap.reals[c]
 		w.diag.capSets++
 		w.diag.ratioOK++
@@ -470,6 +565,9 @@ func (w *worker) searchFirstOrder(part, of int) {
 				w.diag.inRange++
 			}
 			for r := i0; r < i1; r++ {
+				if w.seen(math.Log(1/(rs.vals[r]*C*t.w0)), 0) {
+					continue
+				}
 				w.r[ri], w.r[ci] = rs.global[r], int32(c)
 				w.v[ri], w.v[ci] = rs.vals[r], C
 				w.offer()
@@ -516,7 +614,11 @@ func (w *worker) skLowPassClass(g int, cgR *real, big, small *valueSet, same boo
 	t := s.t
 	w0t, qt := t.w0, t.q
 	Cg := cgR.value
-	b := w.box(math.Max(w.list.limit(cgR.n+1+rparts, s.ceiling), w.list.limit(cgR.n+2+rparts, s.ceiling)))
+	// The window must hold the box of each class it can end in.
+	b := hull(w.box(w.list.limit(cgR.n+1+rparts, s.ceiling)), w.box(w.list.limit(cgR.n+2+rparts, s.ceiling)))
+	if b.empty() {
+		return false
+	}
 	s0 := 1 / (w0t * qt * Cg)
 	sLo := s0 * math.Exp(-(b.xhi + b.yhi))
 	sHi := s0 * math.Exp(-(b.xlo + b.ylo))
@@ -525,7 +627,7 @@ func (w *worker) skLowPassClass(g int, cgR *real, big, small *valueSet, same boo
 	top := sort.Search(len(big.vals), func(i int) bool { return big.vals[i] > sHi })
 	jl, jh := 0, 0
 	ns := len(small.vals)
-	for r1 := top - 1; r1 >= 0 && !s.halted(); r1-- {
+	for r1 := top - 1; r1 >= 0 && !w.halted(); r1-- {
 		R1 := big.vals[r1]
 		if 2*R1 < sLo {
 			break
@@ -563,7 +665,7 @@ func (w *worker) skLowPassClass(g int, cgR *real, big, small *valueSet, same boo
 				cb := w.classBox(cgR.n + cfR.n + rparts)
 				x := math.Log(1 / (math.Sqrt(P*Cf*Cg) * w0t))
 				y := math.Log(math.Sqrt(P*Cf*Cg) / (Cg * S) / qt)
-				if x < cb.xlo || x > cb.xhi || y < cb.ylo || y > cb.yhi {
+				if x < cb.xlo || x > cb.xhi || y < cb.ylo || y > cb.yhi || w.seen(x, y) {
 					continue
 				}
 				w.v[2], w.r[2] = Cf, int32(f)
@@ -594,18 +696,21 @@ func (w *worker) searchSallenKeyHighPass(part, of int) {
 		any := false
 		for nf := 1; nf <= 2; nf++ {
 			fs := s.res.sub[nf]
-			var lim float64
+			// The window must hold the box of each class it can end in.
+			b := box{xlo: 1, xhi: -1, ylo: 1, yhi: -1}
 			for c2n := int8(1); c2n <= 2; c2n++ {
 				for ng := int8(1); ng <= 2; ng++ {
-					lim = math.Max(lim, w.list.limit(c1R.n+c2n+int8(nf)+ng, s.ceiling))
+					b = hull(b, w.box(w.list.limit(c1R.n+c2n+int8(nf)+ng, s.ceiling)))
 				}
 			}
-			b := w.box(lim)
+			if b.empty() {
+				continue
+			}
 			aLo := math.Exp(-(b.xhi + b.yhi)) / (w0t * qt)
 			aHi := math.Exp(-(b.xlo + b.ylo)) / (w0t * qt)
 			top := sort.Search(len(fs.vals), func(i int) bool { return fs.vals[i] > aHi/C1 })
 			jl, jh := 0, 0
-			for rf := top - 1; rf >= 0 && !s.halted(); rf-- {
+			for rf := top - 1; rf >= 0 && !w.halted(); rf-- {
 				Rf := fs.vals[rf]
 				if Rf < aLo/(2*C1) {
 					break
@@ -639,7 +744,7 @@ func (w *worker) searchSallenKeyHighPass(part, of int) {
 							P := Rf * Rg
 							x := math.Log(1 / (math.Sqrt(P*prod) * w0t))
 							y := math.Log(math.Sqrt(Rg*prod/Rf) / sum / qt)
-							if x < cb.xlo || x > cb.xhi || y < cb.ylo || y > cb.yhi {
+							if x < cb.xlo || x > cb.xhi || y < cb.ylo || y > cb.yhi || w.seen(x, y) {
 								continue
 							}
 							w.v[0], w.v[1], w.v[2], w.v[3] = C1, C2, Rf, Rg
@@ -688,7 +793,7 @@ func (w *worker) searchThreePole(part, of int) {
 	for x := part; x < len(capIdx); x += of {
 		a := capIdx[x]
 		for _, bb := range capIdx {
-			if s.halted() {
+			if w.halted() {
 				return
 			}
 			for _, c := range capIdx {
