@@ -22,6 +22,7 @@ type buildOptions struct {
 	boards int
 	dryRun bool
 	csv    string
+	force  bool
 	json   bool
 }
 
@@ -66,7 +67,8 @@ without drawing. drawerfit build undo returns a build's parts.`,
 	f := cmd.Flags()
 	f.IntVar(&o.boards, "boards", 0, "number of boards in the batch (required)")
 	f.BoolVar(&o.dryRun, "dry-run", false, "print the pick list and any shortfall without drawing")
-	f.StringVar(&o.csv, "csv", "", "also write the pick list to this CSV file")
+	f.StringVar(&o.csv, "csv", "", "also write the pick list to this CSV file (- for standard output)")
+	f.BoolVar(&o.force, "force", false, forceHelp)
 	f.BoolVar(&o.json, "json", false, "print one JSON object")
 	cmd.AddCommand(newBuildUndoCmd(env))
 	return cmd
@@ -97,6 +99,10 @@ func runBuild(env *Env, o *buildOptions, id string) error {
 	if o.boards < 1 {
 		return fault.Invalidf("--boards must be at least 1, not %d", o.boards)
 	}
+	// Refuse an output file that cannot be written before drawing parts.
+	if err := checkOutputFile(o.csv, o.force); err != nil {
+		return err
+	}
 	db, d, err := env.openDesign(id, !o.dryRun)
 	if err != nil {
 		return err
@@ -124,7 +130,7 @@ func runBuild(env *Env, o *buildOptions, id string) error {
 	}
 	refused := buildErr != nil || len(res.Shortfall) > 0 || blocking(res.Issues)
 	if o.csv != "" {
-		if err := writeFileAtomic(o.csv, func(w io.Writer) error { return writePicksCSV(w, res.Batch) }); err != nil {
+		if err := env.writeOutputFile(o.csv, o.force, func(w io.Writer) error { return writePicksCSV(w, res.Batch) }); err != nil {
 			return fmt.Errorf("write pick list: %w", err)
 		}
 	}

@@ -16,7 +16,7 @@ func TestMissingDatabaseIsNeverCreated(t *testing.T) {
 	backup := s.write("backup.csv", "kind,value,quantity\nR,4k7,10\n")
 	for _, args := range [][]string{
 		{"stock", "list"},
-		{"stock", "export", backup},
+		{"stock", "export", backup, "--force"},
 		{"stock", "history"},
 		{"stock", "set", "1", "--qty", "3", "--reason", "count"},
 		{"stock", "remove", "1"},

@@ -242,6 +242,11 @@ func runFit(env *Env, o *fitOptions) error {
 	if o.plan != "" {
 		return runPlanFit(env, o)
 	}
+	for _, p := range []string{o.netlist, o.checks.report} {
+		if err := checkOutputFile(p, o.checks.force); err != nil {
+			return err
+		}
+	}
 	run, err := doFit(env, o)
 	if err != nil {
 		return err
@@ -256,7 +261,7 @@ func runFit(env *Env, o *fitOptions) error {
 		}
 	}
 	if o.netlist != "" && len(res.Candidates) > 0 {
-		if err := writeFileAtomic(o.netlist, func(w io.Writer) error { _, err := io.WriteString(w, candidateNetlist(res.Candidates[0])); return err }); err != nil {
+		if err := env.writeOutputFile(o.netlist, o.checks.force, func(w io.Writer) error { _, err := io.WriteString(w, candidateNetlist(res.Candidates[0])); return err }); err != nil {
 			return fmt.Errorf("write netlist: %w", err)
 		}
 	}

@@ -34,6 +34,7 @@ type fitCheckOptions struct {
 	tol       yieldOptions
 	report    string
 	png       string
+	force     bool // replace existing output files
 }
 
 // toleranceOnlyFlags are the flags that mean nothing without --yield.
@@ -43,6 +44,7 @@ var toleranceOnlyFlags = []string{"trials", "seed", "dist", "pass-margin", "stop
 // report share them).
 func addCheckFlags(f *pflag.FlagSet, o *fitCheckOptions, yieldUsage string) {
 	f.BoolVar(&o.yield, "yield", false, yieldUsage)
+	f.BoolVar(&o.force, "force", false, forceHelp)
 	addToleranceFlags(f, &o.tol)
 	if fl := f.Lookup("bias-resistor"); fl != nil {
 		fl.Usage = "fit from stock the bias-current compensation resistor of each follower (bipolar-input op-amps)"
@@ -634,22 +636,25 @@ func writeFitSheet(env *Env, o *fitOptions, run *fitRun) error {
 	}
 	c := run.result.Candidates[0]
 	s := checkSheet(env, c, run.checks.of(c), o.boards, run.source)
-	return writeSheetFiles(env, s, o.checks.report, o.checks.png, "")
+	return writeSheetFiles(env, s, o.checks.report, o.checks.png, "", o.checks.force)
 }
 
-// writeSheetFiles writes the sheet to path (atomically) and its plots as
-// PNG files into pngDir (created if needed); either may be empty.
-func writeSheetFiles(env *Env, s *report.Sheet, path, pngDir, prefix string) error {
+// writeSheetFiles writes the sheet to path (see Env.writeOutputFile; an
+// existing file only with force) and its plots as PNG files into pngDir
+// (created if needed); either may be empty.
+func writeSheetFiles(env *Env, s *report.Sheet, path, pngDir, prefix string, force bool) error {
 	if path != "" {
 		// Render first, so that a failure leaves no file behind.
 		b, err := report.HTML(s)
 		if err != nil {
 			return fmt.Errorf("build sheet: %w", err)
 		}
-		if err := writeFileAtomic(path, func(w io.Writer) error { _, err := w.Write(b); return err }); err != nil {
+		if err := env.writeOutputFile(path, force, func(w io.Writer) error { _, err := w.Write(b); return err }); err != nil {
 			return err
 		}
-		fmt.Fprintln(env.Err, "build sheet written to "+path)
+		if path != "-" {
+			fmt.Fprintln(env.Err, "build sheet written to "+path)
+		}
 	}
 	if pngDir != "" {
 		if err := os.MkdirAll(pngDir, 0o755); err != nil {

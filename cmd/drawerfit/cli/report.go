@@ -77,6 +77,11 @@ filter's sheet on its own pages); --split writes one file per filter
 			if err := o.checks.validate(cmd.Flags()); err != nil {
 				return err
 			}
+			if !o.split {
+				if err := checkOutputFile(o.output, o.checks.force); err != nil {
+					return err
+				}
+			}
 			return runReport(env, o, args[0])
 		},
 	}
@@ -185,7 +190,7 @@ func runReport(env *Env, o *reportOptions, id string) error {
 			path = strings.TrimSuffix(o.output, ext) + "-" + strconv.Itoa(n+1) + ext
 			prefix = "filter-" + strconv.Itoa(n+1)
 		}
-		if err := writeSheetFiles(env, s, path, o.png, prefix); err != nil {
+		if err := writeSheetFiles(env, s, path, o.png, prefix, o.checks.force); err != nil {
 			return err
 		}
 		what := "design " + d.ID
@@ -215,13 +220,15 @@ func runReport(env *Env, o *reportOptions, id string) error {
 		if err != nil {
 			return fmt.Errorf("build sheet: %w", err)
 		}
-		if err := writeFileAtomic(o.output, func(w io.Writer) error { _, err := w.Write(page); return err }); err != nil {
+		if err := env.writeOutputFile(o.output, o.checks.force, func(w io.Writer) error { _, err := w.Write(page); return err }); err != nil {
 			return err
 		}
-		fmt.Fprintln(env.Err, "build sheet written to "+o.output)
+		if o.output != "-" {
+			fmt.Fprintln(env.Err, "build sheet written to "+o.output)
+		}
 		if o.png != "" {
 			for i, s := range sheets {
-				if err := writeSheetFiles(env, s, "", o.png, "filter-"+strconv.Itoa(picked[i]+1)); err != nil {
+				if err := writeSheetFiles(env, s, "", o.png, "filter-"+strconv.Itoa(picked[i]+1), o.checks.force); err != nil {
 					return err
 				}
 			}

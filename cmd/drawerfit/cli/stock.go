@@ -4,8 +4,6 @@ import (
 	"context"
 	"fmt"
 	"io"
-	"os"
-	"path/filepath"
 	"strconv"
 	"strings"
 	"time"
@@ -707,32 +705,55 @@ func runStockRemove(ctx context.Context, env *Env, idText string) error {
 
 // ---- export ----
 
+type stockExportOptions struct {
+	File       string
+	Force      bool
+	AllowEmpty bool
+}
+
 func newStockExportCmd(env *Env) *cobra.Command {
-	return &cobra.Command{
+	var o stockExportOptions
+	cmd := &cobra.Command{
 		Use:   "export [FILE]",
 		Short: "Write the stock as CSV (standard output by default)",
 		Long: `Export writes every stock row as CSV in the format import reads, with exact
 values (4.7k, 2.2nF) and tolerances. Text that a spreadsheet would run as a
 formula (starting with =, +, - or @) gets a leading apostrophe, which import
-removes again. A FILE is replaced in one step: a reader never sees half a
-file.`,
+removes again. FILE "-" is standard output.
+
+A backup is precious, so an existing FILE is replaced only with --force
+(in one step: a reader never sees half a file; the file keeps its
+permissions), and an empty stock is exported only with --allow-empty: an
+export of nothing over a backup is the usual sign of a mistyped --db.`,
 		Example: `  # Hand the drawer to the spreadsheet for the quarterly order
   drawerfit stock export drawer.csv
+
+  # Refresh last week's backup
+  drawerfit stock export backup.csv --force
 
   # Move the inventory to a fresh database file
   drawerfit stock export | drawerfit --db new.db stock import - --replace`,
 		Args: cobra.MaximumNArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			file := ""
 			if len(args) == 1 {
-				file = args[0]
+				o.File = args[0]
 			}
-			return runStockExport(cmd.Context(), env, file)
+			return runStockExport(cmd.Context(), env, o)
 		},
 	}
+	cmd.Flags().BoolVar(&o.Force, "force", false, forceHelp)
+	cmd.Flags().BoolVar(&o.AllowEmpty, "allow-empty", false, "export an empty stock (a header line only)")
+	return cmd
 }
 
-func runStockExport(ctx context.Context, env *Env, file string) error {
+func runStockExport(ctx context.Context, env *Env, o stockExportOptions) error {
+	file := o.File
+	if file == "" {
+		file = "-"
+	}
+	if err := checkOutputFile(file, o.Force); err != nil {
+		return err
+	}
 	db, err := env.openStoreForReading()
 	if err != nil {
 		return err
@@ -742,51 +763,18 @@ func runStockExport(ctx context.Context, env *Env, file string) error {
 	if err != nil {
 		return err
 	}
-	if file == "" || file == "-" {
-		return stock.WriteCSV(env.Out, items)
-	}
-	if err := writeFileAtomic(file, func(w io.Writer) error { return stock.WriteCSV(w, items) }); err != nil {
-		return err
-	}
-	fmt.Fprintf(env.Err, "exported %d rows to %s\n", len(items), file)
-	return nil
-}
-
-// writeFileAtomic writes a file through a temporary file in the same
-// directory, synced and then renamed over the target, so the target is
-// either the old file or the whole new one.
-func writeFileAtomic(path string, write func(io.Writer) error) (err error) {
-	dir := filepath.Dir(path)
-	tmp, err := os.CreateTemp(dir, "."+filepath.Base(path)+".*.tmp")
-	if err != nil {
-		return fmt.Errorf("write %s: %w", path, err)
-	}
-	defer func() {
-		if err != nil {
-			tmp.Close()
-			os.Remove(tmp.Name())
+	if len(items) == 0 && !o.AllowEmpty {
+		where := "standard output"
+		if file != "-" {
+			where = file
 		}
-	}()
-	if err := write(tmp); err != nil {
+		return fault.Conflictf("the stock database at %s holds no rows; exporting it would write only a header line to %s, so nothing was written (check --db; add --allow-empty if an empty file is what you want)", db.Path(), where)
+	}
+	if err := env.writeOutputFile(file, o.Force, func(w io.Writer) error { return stock.WriteCSV(w, items) }); err != nil {
 		return err
 	}
-	if err := tmp.Chmod(0o644); err != nil {
-		return fmt.Errorf("write %s: %w", path, err)
-	}
-	if err := tmp.Sync(); err != nil {
-		return fmt.Errorf("write %s: %w", path, err)
-	}
-	if err := tmp.Close(); err != nil {
-		return fmt.Errorf("write %s: %w", path, err)
-	}
-	if err := os.Rename(tmp.Name(), path); err != nil {
-		return fmt.Errorf("write %s: %w", path, err)
-	}
-	// Make the rename itself durable (best effort; not all systems allow
-	// syncing a directory).
-	if d, derr := os.Open(dir); derr == nil {
-		d.Sync()
-		d.Close()
+	if file != "-" {
+		fmt.Fprintf(env.Err, "exported %s to %s\n", plural(len(items), "row"), file)
 	}
 	return nil
 }
