@@ -53,6 +53,10 @@ type CSVError struct {
 	Problems []CSVProblem
 	// More counts the problems found beyond those listed.
 	More int
+	// Unknown are the header's columns that are not CSVColumns and were
+	// not to be ignored (as written, trimmed, cut to an excerpt), so that
+	// a caller can offer to ignore them.
+	Unknown []string
 }
 
 // Error lists the problems, one per line after a summary line.
@@ -74,7 +78,15 @@ func (e *CSVError) Error() string {
 	return b.String()
 }
 
+// maxReason is the longest problem text kept (in runes): a reason quotes
+// the bad cell, and a cell can be megabytes long (common practice, no
+// source).
+const maxReason = 200
+
 func (e *CSVError) add(line int, col, reason string) {
+	if r := []rune(reason); len(r) > maxReason {
+		reason = string(r[:maxReason]) + "... (cut)"
+	}
 	if len(e.Problems) < MaxCSVProblems {
 		e.Problems = append(e.Problems, CSVProblem{line, col, reason})
 	} else {
@@ -133,9 +145,72 @@ var bom = []byte{0xEF, 0xBB, 0xBF}
 // column and reason (the first MaxCSVProblems of them). Rows are returned
 // in file order, ID 0, duplicates not merged.
 func ReadCSV(r io.Reader) ([]Item, error) {
+	items, _, err := ReadCSVWith(r, CSVOptions{})
+	return items, err
+}
+
+// CSVOptions relax ReadCSV.
+type CSVOptions struct {
+	// IgnoreUnknown ignores every column that is not one of CSVColumns.
+	IgnoreUnknown bool
+	// Ignore names columns to ignore (any letter case); a name that is
+	// also a known column ignores that column (unless it is required).
+	Ignore []string
+}
+
+// CSVInfo says how ReadCSVWith read a file.
+type CSVInfo struct {
+	// Ignored are the header's columns that were not read, as written.
+	Ignored []string
+}
+
+// Excerpt returns s for a message: at most n runes of it, with control
+// characters and invalid UTF-8 escaped as in a Go string literal, quoted,
+// and "..." after the quote when it was cut.
+func Excerpt(s string, n int) string {
+	cut := false
+	if r := []rune(s); len(r) > n {
+		s, cut = string(r[:n]), true
+	}
+	q := strconv.Quote(s)
+	if cut {
+		q += "..."
+	}
+	return q
+}
+
+// excerptLen is how much of a bad cell or column name a message quotes
+// (common practice, no source).
+const excerptLen = 40
+
+// utf16BOMs are the byte order marks of UTF-16 (little and big endian).
+var utf16BOMs = [][]byte{{0xFF, 0xFE}, {0xFE, 0xFF}}
+
+// ReadCSVWith is ReadCSV with options: columns to ignore instead of
+// refusing them. Its CSVInfo lists the columns it ignored.
+func ReadCSVWith(r io.Reader, opts CSVOptions) ([]Item, CSVInfo, error) {
+	var info CSVInfo
 	br := bufio.NewReader(r)
 	if b, err := br.Peek(len(bom)); err == nil && bytes.Equal(b, bom) {
 		br.Discard(len(bom))
+	}
+	if b, err := br.Peek(2); err == nil {
+		for _, m := range utf16BOMs {
+			if bytes.Equal(b, m) {
+				p := &CSVError{}
+				p.add(1, "", "the file is UTF-16 text (it starts with a UTF-16 byte order mark); save it as UTF-8 (most spreadsheets call it \"CSV UTF-8\") and import that")
+				return nil, info, p.fault()
+			}
+		}
+	}
+	if b, _ := br.Peek(64); bytes.IndexByte(b, 0) >= 0 {
+		p := &CSVError{}
+		p.add(1, "", "the file holds zero bytes, as UTF-16 text without a byte order mark does; save it as UTF-8 (\"CSV UTF-8\") and import that")
+		return nil, info, p.fault()
+	}
+	ignore := map[string]bool{}
+	for _, n := range opts.Ignore {
+		ignore[strings.ToLower(strings.TrimSpace(n))] = true
 	}
 	cr := csv.NewReader(br)
 	cr.FieldsPerRecord = -1    // checked below, with a better message
@@ -145,15 +220,16 @@ func ReadCSV(r io.Reader) ([]Item, error) {
 	header, err := cr.Read()
 	if errors.Is(err, io.EOF) {
 		problems.add(1, "", "the file is empty; it needs a header line such as "+strings.Join(CSVColumns, ","))
-		return nil, problems.fault()
+		return nil, info, problems.fault()
 	}
 	if err != nil {
 		problems.add(csvErrLine(err, 1), "", csvErrReason(err))
-		return nil, problems.fault()
+		return nil, info, problems.fault()
 	}
 	headerLine, _ := cr.FieldPos(0)
 	cols := map[string]int{}
 	names := make([]string, len(header))
+	var unknown []string
 	for i, h := range header {
 		name := strings.ToLower(strings.TrimSpace(h))
 		names[i] = name
@@ -162,8 +238,13 @@ func ReadCSV(r io.Reader) ([]Item, error) {
 			problems.add(headerLine, "", fmt.Sprintf("column %d's name is not valid UTF-8", i+1))
 		case name == "":
 			problems.add(headerLine, "", fmt.Sprintf("column %d has no name", i+1))
+		case ignore[name] && !isRequired(name):
+			info.Ignored = append(info.Ignored, strings.TrimSpace(h))
+		case !isCSVColumn(name) && opts.IgnoreUnknown:
+			info.Ignored = append(info.Ignored, strings.TrimSpace(h))
 		case !isCSVColumn(name):
-			problems.add(headerLine, "", fmt.Sprintf("unknown column %q (known: %s)", strings.TrimSpace(h), strings.Join(CSVColumns, ", ")))
+			unknown = append(unknown, Excerpt(strings.TrimSpace(h), excerptLen))
+			problems.Unknown = append(problems.Unknown, strings.TrimSpace(h))
 		default:
 			if _, dup := cols[name]; dup {
 				problems.add(headerLine, "", fmt.Sprintf("column %q appears twice", name))
@@ -171,13 +252,20 @@ func ReadCSV(r io.Reader) ([]Item, error) {
 			cols[name] = i
 		}
 	}
+	if len(unknown) > 0 {
+		word := "column"
+		if len(unknown) > 1 {
+			word = "columns"
+		}
+		problems.add(headerLine, "", fmt.Sprintf("unknown %s %s (known: %s)", word, strings.Join(unknown, ", "), strings.Join(CSVColumns, ", ")))
+	}
 	for _, req := range requiredColumns {
 		if _, ok := cols[req]; !ok {
 			problems.add(headerLine, "", fmt.Sprintf("required column %q is missing", req))
 		}
 	}
 	if len(problems.Problems) > 0 {
-		return nil, problems.fault()
+		return nil, info, problems.fault()
 	}
 
 	var items []Item
@@ -208,9 +296,18 @@ func ReadCSV(r io.Reader) ([]Item, error) {
 		}
 	}
 	if len(problems.Problems) > 0 {
-		return nil, problems.fault()
+		return nil, info, problems.fault()
 	}
-	return items, nil
+	return items, info, nil
+}
+
+func isRequired(name string) bool {
+	for _, c := range requiredColumns {
+		if c == name {
+			return true
+		}
+	}
+	return false
 }
 
 func isCSVColumn(name string) bool {

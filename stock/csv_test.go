@@ -67,7 +67,7 @@ func TestReadCSVRefuses(t *testing.T) {
 		{"missing column", "kind,value\nR,1k\n", []CSVProblem{{1, "", `required column "quantity" is missing`}}},
 		{"repeated column", "kind,value,quantity,Value\nR,1k,1,2k\n", []CSVProblem{{1, "", `column "value" appears twice`}}},
 		{"nameless column", "kind,value,quantity,\nR,1k,1,\n", []CSVProblem{{1, "", "column 4 has no name"}}},
-		{"header only with data first", "R,1k,1\n", []CSVProblem{{1, "", `unknown column "R"`}, {1, "", `unknown column "1k"`}, {1, "", `unknown column "1"`}, {1, "", `required column "kind"`}, {1, "", `required column "value"`}, {1, "", `required column "quantity"`}}},
+		{"header only with data first", "R,1k,1\n", []CSVProblem{{1, "", `unknown columns "R", "1k", "1"`}, {1, "", `required column "kind"`}, {1, "", `required column "value"`}, {1, "", `required column "quantity"`}}},
 		{"bad cells on several lines",
 			"kind,value,quantity,tolerance,dielectric\n" +
 				"R,1k,10,1%,\n" +
@@ -275,5 +275,61 @@ func TestParseQuantity(t *testing.T) {
 		if _, err := ParseQuantity(in); !fault.Is(err, fault.Invalid) {
 			t.Errorf("ParseQuantity(%q): %v", in, err)
 		}
+	}
+}
+
+// TestReadCSVIgnoresColumns: unknown columns are refused with their
+// names; ignored on request, all of them or by name, and listed.
+func TestReadCSVIgnoresColumns(t *testing.T) {
+	t.Parallel()
+	const file = "kind,value,quantity,MPN,supplier\nR,1k,5,ABC-1,shop\n"
+	_, _, err := ReadCSVWith(strings.NewReader(file), CSVOptions{})
+	var ce *CSVError
+	if !errors.As(err, &ce) || !reflect.DeepEqual(ce.Unknown, []string{"MPN", "supplier"}) ||
+		!strings.Contains(err.Error(), `unknown columns "MPN", "supplier"`) {
+		t.Fatalf("strict: %v", err)
+	}
+	for _, opts := range []CSVOptions{{IgnoreUnknown: true}, {Ignore: []string{"mpn", "Supplier"}}} {
+		items, info, err := ReadCSVWith(strings.NewReader(file), opts)
+		if err != nil || len(items) != 1 || items[0].Quantity != 5 || !reflect.DeepEqual(info.Ignored, []string{"MPN", "supplier"}) {
+			t.Errorf("%+v: %v %+v %v", opts, items, info, err)
+		}
+	}
+	// Naming only one leaves the other refused.
+	if _, _, err := ReadCSVWith(strings.NewReader(file), CSVOptions{Ignore: []string{"mpn"}}); err == nil || !strings.Contains(err.Error(), `"supplier"`) {
+		t.Errorf("one named: %v", err)
+	}
+	// A required column cannot be ignored away.
+	if _, _, err := ReadCSVWith(strings.NewReader(file), CSVOptions{IgnoreUnknown: true, Ignore: []string{"quantity"}}); err != nil {
+		t.Errorf("ignoring a required column: %v", err)
+	}
+}
+
+// TestReadCSVMessagesQuoteExcerpts: a huge or control-laden cell is quoted
+// short and escaped; UTF-16 gets advice about the encoding.
+func TestReadCSVMessagesQuoteExcerpts(t *testing.T) {
+	t.Parallel()
+	huge := strings.Repeat("x", 10<<20)
+	_, err := ReadCSV(strings.NewReader("kind,value,quantity," + huge + "\n"))
+	if err == nil || len(err.Error()) > 2000 {
+		t.Errorf("a 10 MB header cell gives a message of %d bytes", len(err.Error()))
+	}
+	_, err = ReadCSV(strings.NewReader("kind,value,quantity,\x1b[31mred\n"))
+	if err == nil || strings.ContainsRune(err.Error(), 0x1b) || !strings.Contains(err.Error(), `\x1b[31mred`) {
+		t.Errorf("escape sequence: %q", err)
+	}
+	_, err = ReadCSV(strings.NewReader("kind,value,quantity\nR," + huge + ",1\n"))
+	if err == nil || len(err.Error()) > 2000 {
+		t.Errorf("a 10 MB value cell gives a message of %d bytes", len(err.Error()))
+	}
+	// "kind,..." in UTF-16 little endian with its byte order mark.
+	u16 := []byte{0xFF, 0xFE, 'k', 0, 'i', 0, 'n', 0, 'd', 0}
+	_, err = ReadCSV(bytes.NewReader(u16))
+	if err == nil || !strings.Contains(err.Error(), "UTF-16") || !strings.Contains(err.Error(), "UTF-8") {
+		t.Errorf("UTF-16: %v", err)
+	}
+	_, err = ReadCSV(bytes.NewReader(u16[2:]))
+	if err == nil || !strings.Contains(err.Error(), "UTF-16") {
+		t.Errorf("UTF-16 without a mark: %v", err)
 	}
 }

@@ -164,6 +164,12 @@ func (e *Env) memoryStoreFrom(ctx context.Context, csvPath string) (*store.DB, e
 // readStockCSV reads and checks a stock CSV file; "-" is standard input.
 // A bad file is a fault.Invalid error that lists its problems.
 func (e *Env) readStockCSV(path string) ([]stock.Item, error) {
+	items, _, err := e.readStockCSVWith(path, stock.CSVOptions{})
+	return items, err
+}
+
+// readStockCSVWith is readStockCSV with options (columns to ignore).
+func (e *Env) readStockCSVWith(path string, opts stock.CSVOptions) ([]stock.Item, stock.CSVInfo, error) {
 	name := path
 	in := e.In
 	if path == "-" {
@@ -172,18 +178,18 @@ func (e *Env) readStockCSV(path string) ([]stock.Item, error) {
 		f, err := os.Open(path)
 		if err != nil {
 			if os.IsNotExist(err) {
-				return nil, fault.NotFoundf("stock file %s does not exist", path)
+				return nil, stock.CSVInfo{}, fault.NotFoundf("stock file %s does not exist", path)
 			}
-			return nil, fmt.Errorf("open stock file: %w", err)
+			return nil, stock.CSVInfo{}, fmt.Errorf("open stock file: %w", err)
 		}
 		defer f.Close()
 		in = f
 	}
-	items, err := stock.ReadCSV(in)
+	items, info, err := stock.ReadCSVWith(in, opts)
 	if err != nil {
-		return nil, fault.Invalidf("%s: %w", name, err)
+		return nil, info, fault.Invalidf("%s: %w", name, err)
 	}
-	return items, nil
+	return items, info, nil
 }
 
 // openDesign opens the stock database (for reading only unless write) and

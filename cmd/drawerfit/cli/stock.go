@@ -2,6 +2,7 @@ package cli
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"io"
 	"strconv"
@@ -125,9 +126,11 @@ func parseID(s string) (int64, error) {
 // ---- import ----
 
 type stockImportOptions struct {
-	File    string
-	Replace bool
-	JSON    bool
+	File       string
+	Replace    bool
+	AllowEmpty bool
+	Ignore     []string // column names; "*" alone: every unknown column
+	JSON       bool
 }
 
 func newStockImportCmd(env *Env) *cobra.Command {
@@ -156,9 +159,20 @@ the voltage, price, min, pack and supplier-ref the row lacks (values it has
 are kept; two different voltage ratings are refused as different parts).
 With --replace the inventory becomes exactly the file's content, in one step,
 attributes included. Attribute changes are written to the ledger as notes.
-FILE "-" reads standard input.`,
+FILE "-" reads standard input.
+
+A column drawerfit does not know is refused with its name, so that a
+misspelt column never loses its data silently. --ignore-columns imports
+the rest and ignores every unknown column; --ignore-columns=mpn,supplier
+ignores only those (note the =). The summary lists what was ignored.
+
+--replace with a file of no rows would empty the stock (a truncated export
+looks like that), so it is refused unless --allow-empty is given too.`,
 		Example: `  # First fill of the workshop's database from its spreadsheet export
   drawerfit stock import sample-stock.csv
+
+  # The purchasing sheet has extra columns for the order numbers
+  drawerfit stock import bench-order.csv --ignore-columns=order-no,vendor
 
   # After a full stocktake: make the database match the counted sheet
   drawerfit stock import stocktake-march.csv --replace`,
@@ -169,17 +183,40 @@ FILE "-" reads standard input.`,
 		},
 	}
 	cmd.Flags().BoolVar(&o.Replace, "replace", false, "make the inventory exactly the file's content")
+	cmd.Flags().BoolVar(&o.AllowEmpty, "allow-empty", false, "with --replace: accept a file of no rows, emptying the stock")
+	cmd.Flags().StringSliceVar(&o.Ignore, "ignore-columns", nil, "ignore unknown columns: all of them, or =NAME,NAME only those")
+	cmd.Flags().Lookup("ignore-columns").NoOptDefVal = "*"
 	cmd.Flags().BoolVar(&o.JSON, "json", false, "print the summary as JSON")
 	return cmd
 }
 
 func runStockImport(ctx context.Context, env *Env, o stockImportOptions) error {
-	items, err := env.readStockCSV(o.File)
+	var opts stock.CSVOptions
+	for _, n := range o.Ignore {
+		if n == "*" {
+			opts.IgnoreUnknown = true
+		} else {
+			opts.Ignore = append(opts.Ignore, n)
+		}
+	}
+	items, info, err := env.readStockCSVWith(o.File, opts)
 	if err != nil {
 		if fault.Is(err, fault.Invalid) {
-			return fault.Invalidf("%w\nnothing was imported", err)
+			hint := ""
+			var ce *stock.CSVError
+			if errors.As(err, &ce) && len(ce.Unknown) > 0 {
+				hint = "\nto import the other columns, add --ignore-columns (every unknown column) or --ignore-columns=NAME,... (only those)"
+			}
+			return fault.Invalidf("%w%s\nnothing was imported", err, hint)
 		}
 		return err
+	}
+	name := o.File
+	if name == "-" {
+		name = "standard input"
+	}
+	if o.Replace && len(items) == 0 && !o.AllowEmpty {
+		return fault.Invalidf("%s has no rows: --replace with it would remove every row of the stock, so nothing was changed (a truncated export looks like this; add --allow-empty to empty the stock)", name)
 	}
 	db, err := env.openStoreCreating()
 	if err != nil {
@@ -193,14 +230,13 @@ func runStockImport(ctx context.Context, env *Env, o stockImportOptions) error {
 	if o.JSON {
 		return writeJSON(env.Out, map[string]any{
 			"rows": sum.Rows, "added": sum.Added, "merged": sum.Merged, "kept": sum.Kept,
-			"removed": sum.Removed, "units": sum.Units, "replace": o.Replace,
+			"removed": sum.Removed, "units": sum.Units, "replace": o.Replace, "ignored_columns": append([]string{}, info.Ignored...),
 		})
 	}
-	name := o.File
-	if name == "-" {
-		name = "standard input"
-	}
 	fmt.Fprintf(env.Out, "imported %d rows from %s into %s\n", sum.Rows, name, db.Path())
+	if len(info.Ignored) > 0 {
+		fmt.Fprintf(env.Out, "  ignored %s: %s\n", pluralWord(len(info.Ignored), "column"), strings.Join(info.Ignored, ", "))
+	}
 	fmt.Fprintf(env.Out, "  %s\n", plural(sum.Added, "new stock row"))
 	if sum.Merged > 0 {
 		fmt.Fprintf(env.Out, "  %d rows matched a row already there; their quantities were added to it\n", sum.Merged)
@@ -628,12 +664,15 @@ func runStockSet(ctx context.Context, env *Env, o stockSetOptions) error {
 		return err
 	}
 	defer db.Close()
-	before, err := db.Get(ctx, id)
-	if err != nil {
-		return err
-	}
-	got := before
+	// The row is read inside the writing transaction, so that the report
+	// is the change actually written even while other processes change
+	// the row.
+	var before, got stock.Item
 	err = db.Tx(ctx, func(tx *store.Tx) error {
+		if before, err = tx.Get(ctx, id); err != nil {
+			return err
+		}
+		got = before
 		if !attrs.Empty() {
 			if got, err = tx.SetAttrs(ctx, id, attrs, o.Reason); err != nil {
 				return err
@@ -887,6 +926,14 @@ commands that only read never change the file, and ask for this instead.`,
 			return nil
 		},
 	}
+}
+
+// pluralWord is noun with an s unless n is 1.
+func pluralWord(n int, noun string) string {
+	if n == 1 {
+		return noun
+	}
+	return noun + "s"
 }
 
 // plural writes n with the noun, adding an s unless n is 1: "1 part",
