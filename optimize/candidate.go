@@ -1,6 +1,7 @@
 package optimize
 
 import (
+	"drawerfit/stock"
 	"drawerfit/synth"
 )
 
@@ -100,6 +101,10 @@ type Candidate struct {
 	StockUse      []StockUse
 	// BoardsBuildable is how many boards the stock covers for this design.
 	BoardsBuildable int
+	// CostPerBoard is the parts cost of one board: every physical part
+	// (both parts of a pair) at its stock row's unit price. Unknown when a
+	// row used has no price.
+	CostPerBoard stock.Money
 	// Pareto is true when no other listed candidate is at least as good in
 	// response error, part count and unique parts and better in one.
 	Pareto bool
@@ -115,4 +120,18 @@ func (c *Candidate) Stages() []synth.Stage {
 		st[i] = c.Sections[i].Stage()
 	}
 	return st
+}
+
+// costPerBoard sums the unit prices of the parts one board takes, exactly;
+// unknown when a row has no price.
+func costPerBoard(use []StockUse, rows []Row) stock.Money {
+	price := map[int64]stock.Money{}
+	for _, r := range rows {
+		price[r.StockID] = r.Price
+	}
+	var t stock.Tally
+	for _, u := range use {
+		t.Add(price[u.StockID], u.PerBoard)
+	}
+	return t.Total()
 }

@@ -19,14 +19,20 @@ const (
 	RankParts
 	// RankUnique orders by unique parts (ties: parts, error).
 	RankUnique
+	// RankCost orders by parts cost per board (ties: error, parts, unique
+	// parts); candidates with a part of unknown price come last.
+	RankCost
 )
 
+// Ranks lists every ranking in a stable order.
+var Ranks = []Rank{RankBalanced, RankError, RankParts, RankUnique, RankCost}
+
 func (r Rank) String() string {
-	return [...]string{"balanced", "error", "parts", "unique"}[r]
+	return [...]string{"balanced", "error", "parts", "unique", "cost"}[r]
 }
 
 // rankKey is a lexicographic sort key; smaller is better.
-type rankKey [4]float64
+type rankKey [5]float64
 
 func (a rankKey) less(b rankKey) bool {
 	for i := range a {
@@ -37,20 +43,26 @@ func (a rankKey) less(b rankKey) bool {
 	return false
 }
 
-func makeKey(r Rank, goodEnough, err float64, parts, unique int) rankKey {
+// makeKey is the sort key of a combination. cost is the parts cost per
+// board in millionths of the currency, +Inf when a price is unknown: the
+// balanced ranking breaks ties of parts and unique parts on it, RankCost
+// orders by it, the others use it last.
+func makeKey(r Rank, goodEnough, err float64, parts, unique int, cost float64) rankKey {
 	p, u := float64(parts), float64(unique)
 	switch r {
 	case RankError:
-		return rankKey{err, p, u, 0}
+		return rankKey{err, p, u, cost, 0}
 	case RankParts:
-		return rankKey{p, u, err, 0}
+		return rankKey{p, u, err, cost, 0}
 	case RankUnique:
-		return rankKey{u, p, err, 0}
+		return rankKey{u, p, err, cost, 0}
+	case RankCost:
+		return rankKey{cost, err, p, u, 0}
 	}
 	if err <= goodEnough {
-		return rankKey{0, p, u, err}
+		return rankKey{0, p, u, cost, err}
 	}
-	return rankKey{1, err, p, u}
+	return rankKey{1, err, p, u, cost}
 }
 
 // combo is one complete assignment of section candidates.
@@ -169,6 +181,13 @@ type combiner struct {
 	// per section suffix bounds over the remaining sections
 	remMin, remMax [][]float64
 	remParts       []int
+	remCost        []float64 // the least cost of the remaining sections (micros; +Inf if unknown)
+
+	// cost[s][i] is the parts cost of section s's candidate i, in
+	// millionths of the currency (+Inf when a price is unknown). Section
+	// costs add up exactly: cost is per part, shared rows change nothing.
+	cost [][]float64
+	sum  float64 // the cost of the sections picked so far
 
 	// state
 	partial [][]float64 // per depth, the deviation sum so far
@@ -194,16 +213,26 @@ func (c *combiner) prepare() {
 	c.remMin = make([][]float64, m+1)
 	c.remMax = make([][]float64, m+1)
 	c.remParts = make([]int, m+1)
+	c.remCost = make([]float64, m+1)
+	c.cost = make([][]float64, m)
+	for s, l := range c.lists {
+		c.cost[s] = make([]float64, len(l))
+		for i := range l {
+			c.cost[s][i] = sectionCost(&l[i], c.rows)
+		}
+	}
 	c.remMin[m] = make([]float64, g)
 	c.remMax[m] = make([]float64, g)
 	for s := m - 1; s >= 0; s-- {
 		mn := make([]float64, g)
 		mx := make([]float64, g)
 		minParts := math.MaxInt32
+		minCost := math.Inf(1)
 		for i := range mn {
 			mn[i], mx[i] = math.Inf(1), math.Inf(-1)
 		}
-		for _, sc := range c.lists[s] {
+		for i, sc := range c.lists[s] {
+			minCost = math.Min(minCost, c.cost[s][i])
 			for i, d := range sc.dev {
 				mn[i] = math.Min(mn[i], d)
 				mx[i] = math.Max(mx[i], d)
@@ -216,6 +245,7 @@ func (c *combiner) prepare() {
 		}
 		c.remMin[s], c.remMax[s] = mn, mx
 		c.remParts[s] = minParts + c.remParts[s+1]
+		c.remCost[s] = minCost + c.remCost[s+1]
 	}
 	c.partial = make([][]float64, m+1)
 	for i := range c.partial {
@@ -285,9 +315,12 @@ func (c *combiner) dfs(s, parts int) {
 			}
 			np := parts + int(sc.parts)
 			c.picks[s] = i
+			before := c.sum
+			c.sum += c.cost[s][i]
 			if c.promising(s+1, np) {
 				c.dfs(s+1, np)
 			}
+			c.sum = before
 		}
 		c.unique -= added
 		for _, rc := range sc.rows {
@@ -316,8 +349,22 @@ func (c *combiner) promising(s, parts int) bool {
 		return true
 	}
 	lb := c.lowerErr(s)
-	k := makeKey(c.rank, c.goodEnough, lb, parts+c.remParts[s], c.unique)
+	k := makeKey(c.rank, c.goodEnough, lb, parts+c.remParts[s], c.unique, c.sum+c.remCost[s])
 	return !worst.less(k)
+}
+
+// sectionCost is the parts cost of one section candidate in millionths of
+// the currency, +Inf when a row it uses has no price.
+func sectionCost(sc *sectionCand, rows []Row) float64 {
+	var t float64
+	for _, rc := range sc.rows {
+		p := rows[rc.row].Price
+		if !p.Known() {
+			return math.Inf(1)
+		}
+		t += float64(p.Micros()) * float64(rc.count)
+	}
+	return t
 }
 
 // signature encodes the element values of the current picks.
@@ -354,7 +401,7 @@ func (c *combiner) leaf(parts int) {
 		tol += c.lists[s][p].tol
 	}
 	cb := &combo{
-		key: makeKey(c.rank, c.goodEnough, e, parts, c.unique), design: c.design,
+		key: makeKey(c.rank, c.goodEnough, e, parts, c.unique, c.sum), design: c.design,
 		err: e, parts: parts, unique: c.unique, passAtten: pa, stopAtten: sa, meets: meets, tol: tol,
 	}
 	if meets || c.keepFail {

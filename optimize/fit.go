@@ -29,6 +29,11 @@ type Options struct {
 	// film (names as in stock.NormalizeDielectric).
 	AllowDielectric []string
 	ShowFailing     bool // also list candidates that miss the specification
+	// MinVoltage, when > 0, is the working voltage in volts: capacitor rows
+	// rated below it are never used. Unrated rows are used (the result's
+	// notes count them) unless RequireRating is set.
+	MinVoltage    float64
+	RequireRating bool
 	// Odd restricts odd orders to one arrangement; nil tries both.
 	Odd *synth.Odd
 	// Shortlist is how many candidates per part count each section keeps
@@ -220,6 +225,22 @@ func Fit(ctx context.Context, items []stock.Item, spec synth.Spec, o Options) (*
 	for _, c := range top.list {
 		r.Candidates = append(r.Candidates, assemble(c, r.Designs[c.design], lists[c.design], rows, res, caps, o))
 	}
+	if o.MinVoltage > 0 && !o.RequireRating {
+		unrated := map[int64]bool{}
+		for _, it := range items {
+			if it.Kind == stock.Capacitor && it.Voltage == 0 {
+				unrated[it.ID] = true
+			}
+		}
+		worst := 0
+		for _, c := range r.Candidates {
+			worst = max(worst, unratedUsed(c, unrated))
+		}
+		if worst > 0 {
+			r.Notes = append(r.Notes, fmt.Sprintf("capacitor rows without a voltage rating were used (up to %d in a candidate): check that they are rated for %s, or require a rating",
+				worst, stock.FormatVoltage(o.MinVoltage)))
+		}
+	}
 	markPareto(r.Candidates)
 	for i, c := range r.Candidates {
 		_ = i
@@ -330,6 +351,12 @@ func checkOptions(o *Options) error {
 	if o.Shortlist <= 0 {
 		o.Shortlist = 10
 	}
+	if math.IsNaN(o.MinVoltage) || o.MinVoltage < 0 || math.IsInf(o.MinVoltage, 0) {
+		return fault.Invalidf("the minimum voltage must be a positive number of volts")
+	}
+	if o.RequireRating && o.MinVoltage == 0 {
+		return fault.Invalidf("requiring a voltage rating needs a minimum voltage")
+	}
 	if o.Workers <= 0 {
 		o.Workers = runtime.GOMAXPROCS(0)
 	}
@@ -350,7 +377,7 @@ func usableRows(items []stock.Item, o Options) ([]Row, string, int) {
 		allowed[stock.NormalizeDielectric(d)] = true
 	}
 	var rows []Row
-	var short, diel, rng int
+	var short, diel, rng, volt int
 	var shortKind [2]int
 	for _, it := range items {
 		if !it.Kind.Passive() {
@@ -365,6 +392,10 @@ func usableRows(items []stock.Item, o Options) ([]Row, string, int) {
 				diel++
 				continue
 			}
+			if !VoltageOK(it, o) {
+				volt++
+				continue
+			}
 		}
 		if it.Quantity < o.Boards {
 			short++
@@ -375,10 +406,13 @@ func usableRows(items []stock.Item, o Options) ([]Row, string, int) {
 			rng++
 			continue
 		}
-		rows = append(rows, Row{Kind: k, Quantity: it.Quantity, Part: Part{StockID: it.ID, Value: it.Value,
+		rows = append(rows, Row{Kind: k, Quantity: it.Quantity, Price: it.Price, Part: Part{StockID: it.ID, Value: it.Value,
 			Tolerance: it.Tolerance, Location: it.Location, Dielectric: it.Dielectric, Package: it.Package}})
 	}
 	var why []string
+	if volt > 0 {
+		why = append(why, fmt.Sprintf("%d capacitor rows rated below %s or not rated", volt, stock.FormatVoltage(o.MinVoltage)))
+	}
 	if rng > 0 {
 		why = append(why, fmt.Sprintf("%d rows outside the value range", rng))
 	}
@@ -392,6 +426,32 @@ func usableRows(items []stock.Item, o Options) ([]Row, string, int) {
 		return rows, "", short
 	}
 	return rows, " (excluded: " + strings.Join(why, "; ") + ")", short
+}
+
+// VoltageOK reports whether the fit may use capacitor row it at the
+// options' minimum voltage: always when no minimum is set; otherwise when
+// the row is rated at least o.MinVoltage, or is not rated and
+// o.RequireRating is false. Resistors always pass.
+func VoltageOK(it stock.Item, o Options) bool {
+	if it.Kind != stock.Capacitor || o.MinVoltage <= 0 {
+		return true
+	}
+	if it.Voltage == 0 {
+		return !o.RequireRating
+	}
+	return it.Voltage >= o.MinVoltage
+}
+
+// unratedUsed counts the capacitor rows without a rating among the rows a
+// candidate uses (for the note that warns about them).
+func unratedUsed(c *Candidate, unrated map[int64]bool) int {
+	n := 0
+	for _, u := range c.StockUse {
+		if unrated[u.StockID] {
+			n++
+		}
+	}
+	return n
 }
 
 func stockHasDielectric(items []stock.Item, d string) bool {
@@ -499,6 +559,7 @@ func assemble(cb *combo, d *synth.Design, lists [][]sectionCand, rows []Row, res
 		c.StockUse = append(c.StockUse, StockUse{StockID: id, PerBoard: n})
 	}
 	sort.Slice(c.StockUse, func(a, b int) bool { return c.StockUse[a].StockID < c.StockUse[b].StockID })
+	c.CostPerBoard = costPerBoard(c.StockUse, rows)
 	return c
 }
 

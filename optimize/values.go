@@ -5,6 +5,7 @@ import (
 	"sort"
 
 	"drawerfit/fault"
+	"drawerfit/stock"
 	"drawerfit/synth"
 )
 
@@ -13,6 +14,8 @@ type Row struct {
 	Part
 	Kind     synth.PartKind
 	Quantity int
+	// Price is the row's unit price (unknown when the stock has none).
+	Price stock.Money
 }
 
 // real is one realisable value: a single part or a pair of parts in series

@@ -67,6 +67,10 @@ type Settings struct {
 	// Odd is "1pole" or "3pole" when the fit was restricted to one odd
 	// arrangement, else empty.
 	Odd string `json:"odd"`
+	// MinVoltage is the working voltage the capacitors had to be rated
+	// for (0: none); RequireRating left unrated capacitors out.
+	MinVoltage    float64 `json:"min_voltage,omitempty"`
+	RequireRating bool    `json:"require_rating,omitempty"`
 }
 
 // SettingsOf returns the settings of o worth keeping (not the progress
@@ -74,7 +78,7 @@ type Settings struct {
 func SettingsOf(o optimize.Options) Settings {
 	s := Settings{Combine: o.Combine, Boards: o.Boards, MaxOrder: o.MaxOrder, Rank: o.Rank.String(), Top: o.Top,
 		GoodEnough: o.GoodEnough, RMin: o.RMin, RMax: o.RMax, CMin: o.CMin, CMax: o.CMax,
-		AllowDielectric: append([]string(nil), o.AllowDielectric...)}
+		AllowDielectric: append([]string(nil), o.AllowDielectric...), MinVoltage: o.MinVoltage, RequireRating: o.RequireRating}
 	if o.Odd != nil {
 		s.Odd = o.Odd.String()
 	}
@@ -89,6 +93,7 @@ func (s Settings) Options() (optimize.Options, error) {
 	o.Combine, o.Boards, o.MaxOrder, o.Top, o.GoodEnough = s.Combine, s.Boards, s.MaxOrder, s.Top, s.GoodEnough
 	o.RMin, o.RMax, o.CMin, o.CMax = s.RMin, s.RMax, s.CMin, s.CMax
 	o.AllowDielectric = append([]string(nil), s.AllowDielectric...)
+	o.MinVoltage, o.RequireRating = s.MinVoltage, s.RequireRating
 	r, err := ParseRank(s.Rank)
 	if err != nil {
 		return o, err
@@ -105,14 +110,15 @@ func (s Settings) Options() (optimize.Options, error) {
 }
 
 // ParseRank reads a ranking name as optimize.Rank.String writes it
-// (balanced, error, parts, unique; any letter case). Errors: fault.Invalid.
+// (balanced, error, parts, unique, cost; any letter case). Errors:
+// fault.Invalid.
 func ParseRank(s string) (optimize.Rank, error) {
-	for _, r := range []optimize.Rank{optimize.RankBalanced, optimize.RankError, optimize.RankParts, optimize.RankUnique} {
+	for _, r := range optimize.Ranks {
 		if strings.EqualFold(s, r.String()) {
 			return r, nil
 		}
 	}
-	return optimize.RankBalanced, fault.Invalidf("unknown ranking %q: use balanced, error, parts or unique", s)
+	return optimize.RankBalanced, fault.Invalidf("unknown ranking %q: use balanced, error, parts, unique or cost", s)
 }
 
 // WorstError returns the largest response error (dB) of the board's

@@ -169,6 +169,11 @@ func FitPlan(ctx context.Context, items []stock.Item, p Plan, o PlanOptions) (*P
 	if err := p.Validate(); err != nil {
 		return nil, err
 	}
+	if o.Fit.Rank == optimize.RankCost {
+		// The joint search bounds boards by error, parts and unique parts
+		// only; ranking whole boards by cost is not built.
+		return nil, fault.Invalidf("a board plan cannot be ranked by cost; rank it balanced, by error, parts or unique parts (each filter's candidates still show their cost)")
+	}
 	fits := map[string]*optimize.Result{}
 	pr := &PlanResult{Plan: p}
 	groups := groupFilters(p)

@@ -69,6 +69,20 @@ type Suggestion struct {
 	Before, After Outcome
 }
 
+// Cost is what the purchase costs: each item's quantity at its unit price.
+// A new row's price is an estimate (newPart), so estimated is true when
+// the purchase has one; the total is unknown when an item has no price.
+func (s Suggestion) Cost() (total stock.Money, estimated bool) {
+	var t stock.Tally
+	for _, it := range s.Items {
+		t.Add(it.Price, it.Quantity)
+		if it.ID == 0 {
+			estimated = true
+		}
+	}
+	return t.Total(), estimated
+}
+
 // ClosesShortfall reports whether the purchase makes the batch buildable.
 func (s Suggestion) ClosesShortfall() bool { return !s.Before.Feasible && s.After.Feasible }
 
@@ -316,8 +330,39 @@ func usableValues(items []stock.Item, o optimize.Options) (res, caps []float64, 
 }
 
 // newPart is the row a suggestion would add: the drawer's most common
-// tolerance and package for the kind, C0G for capacitors.
-func newPart(items []stock.Item, k synth.PartKind, v float64) stock.Item {
+// tolerance and package for the kind, C0G for capacitors. Its price is an
+// estimate, the most common unit price of rows of the same kind, package
+// and dielectric (unknown when none has one); a capacitor is rated at the
+// most common rating of such rows that the fit's minimum voltage allows,
+// else at that minimum.
+func newPart(items []stock.Item, k synth.PartKind, v float64, o optimize.Options) stock.Item {
+	it := newPartShape(items, k, v)
+	prices, volts := map[int64]int{}, map[float64]int{}
+	for _, r := range items {
+		if r.Kind != it.Kind || r.Package != it.Package || stock.NormalizeDielectric(r.Dielectric) != it.Dielectric {
+			continue
+		}
+		if r.Price.Known() {
+			prices[r.Price.Micros()]++
+		}
+		if r.Voltage > 0 && r.Voltage >= o.MinVoltage {
+			volts[r.Voltage]++
+		}
+	}
+	if p, ok := mostCommon(prices); ok {
+		it.Price = stock.MoneyFromMicros(p)
+	}
+	if it.Kind == stock.Capacitor {
+		if vv, ok := mostCommon(volts); ok {
+			it.Voltage = vv
+		} else {
+			it.Voltage = o.MinVoltage
+		}
+	}
+	return it
+}
+
+func newPartShape(items []stock.Item, k synth.PartKind, v float64) stock.Item {
 	kind := stock.Resistor
 	tol := 0.01 // a 1 % metal-film resistor (common practice, no source)
 	diel := ""
@@ -419,7 +464,7 @@ func newValueTrials(items []stock.Item, refs []*optimize.Candidate, groups []int
 			continue
 		}
 		taken[cd.k]++
-		tr := trial{items: []stock.Item{newPart(items, cd.k, cd.v)}, est: cd.est}
+		tr := trial{items: []stock.Item{newPart(items, cd.k, cd.v, o)}, est: cd.est}
 		if groups != nil {
 			for g := range cd.groups {
 				tr.groups = append(tr.groups, g)

@@ -34,6 +34,8 @@ type fitOptions struct {
 	rMin, rMax  string
 	cMin, cMax  string
 	allowDiel   []string
+	minVoltage  string
+	requireRate bool
 	showFailing bool
 	stockCSV    string
 	netlist     string
@@ -73,9 +75,23 @@ fs. Parts counts physical parts per board; unique counts distinct stock rows.
 
 Ranking (--rank balanced, the default): candidates whose error is within
 --good-enough come first, fewest parts first, then fewest unique parts, then
-error; the rest follow by error. --rank error|parts|unique sorts by one
-objective. A '*' in the pareto column marks candidates that no other listed
-candidate beats in error, parts and unique parts at once.
+cost per board, then error; the rest follow by error. --rank
+error|parts|unique|cost sorts by one objective. A '*' in the pareto column
+marks candidates that no other listed candidate beats in error, parts and
+unique parts at once.
+
+Cost: with unit prices in the stock (stock set ID --price 0.012), every
+candidate shows its parts cost per board: each physical part, both parts of
+a pair, at its row's price. It is blank (null in --json) when a row used has
+no price; --rank cost lists those last. Prices are in the stock's one
+currency; drawerfit converts none. --rank cost orders the combinations the
+search builds from its per-section shortlists, which are chosen by response
+error, so a cheaper design made of sections far off their targets is not
+looked for.
+
+Voltage: --min-voltage V never uses a capacitor rated below V. Capacitors
+without a rating in the stock are used and the fit warns about them;
+--require-rating leaves them out too.
 
 The stock is the database (--db), or a CSV file read into memory (--stock)
 without importing it. Only C0G/NP0 and film capacitors are used unless
@@ -95,7 +111,10 @@ person under the applicable local rules.`,
   drawerfit fit highpass --pass 20 --order 4 --response bessel --boards 25 --combine 1 --rank unique
 
   # The same fit for a script
-  drawerfit fit lowpass --pass 1k --stop 3k --atten 40 --stock sample-stock.csv --json`,
+  drawerfit fit lowpass --pass 1k --stop 3k --atten 40 --stock sample-stock.csv --json
+
+  # A 24 V sensor front end: only capacitors rated for 35 V, cheapest first
+  drawerfit fit lowpass --pass 1k --stop 3k --atten 40 --stock sample-stock.csv --min-voltage 35V --rank cost`,
 		Args: func(cmd *cobra.Command, args []string) error {
 			if o.plan != "" && len(args) == 0 {
 				return nil // the plan file holds the filters
@@ -128,7 +147,9 @@ person under the applicable local rules.`,
 	f.IntVar(&o.combine, "combine", 2, "parts per position: 1 (single parts) or 2 (also pairs in series or parallel)")
 	f.IntVar(&o.boards, "boards", 1, "every stock row used must cover this many boards")
 	f.IntVar(&o.maxOrder, "max-order", 0, "highest order to try (default: the minimum order + 1)")
-	f.StringVar(&o.rank, "rank", "balanced", "ordering: balanced, error, parts, unique, or yield (implies --yield)")
+	f.StringVar(&o.rank, "rank", "balanced", "ordering: balanced, error, parts, unique, cost, or yield (implies --yield)")
+	f.StringVar(&o.minVoltage, "min-voltage", "", "never use capacitors rated below this voltage (50, 50V, 6.3V); unrated ones are used with a warning")
+	f.BoolVar(&o.requireRate, "require-rating", false, "with --min-voltage: leave out capacitors without a voltage rating too")
 	f.IntVar(&o.top, "top", 10, "how many candidates to list")
 	f.Float64Var(&o.goodEnough, "good-enough", 0.05, "response error, dB, that the balanced ranking treats as good enough")
 	f.StringVar(&o.rMin, "r-min", "1k", "smallest resistor or combination to use")
@@ -174,8 +195,23 @@ func (o *fitOptions) optimizeOptions() (optimize.Options, error) {
 		opt.Rank = optimize.RankParts
 	case "unique":
 		opt.Rank = optimize.RankUnique
+	case "cost":
+		opt.Rank = optimize.RankCost
 	default:
-		return opt, fault.Invalidf("--rank must be balanced, error, parts, unique or yield, not %q", o.rank)
+		return opt, fault.Invalidf("--rank must be balanced, error, parts, unique, cost or yield, not %q", o.rank)
+	}
+	if strings.TrimSpace(o.minVoltage) != "" {
+		v, err := stock.ParseVoltage(o.minVoltage)
+		if err != nil {
+			return opt, fault.Invalidf("--min-voltage: %w", err)
+		}
+		opt.MinVoltage = v
+	}
+	if o.requireRate {
+		if opt.MinVoltage == 0 {
+			return opt, fault.Invalidf("--require-rating goes with --min-voltage V")
+		}
+		opt.RequireRating = true
 	}
 	var err error
 	parse := func(flag, s string, k stock.Kind, dst *float64) {
@@ -317,8 +353,8 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 		fmt.Fprintln(w, "\n"+tryText(run))
 		return
 	}
-	g := newGrid("#", "order", "sections", "error dB", "at fp dB", "at fs dB", "parts", "unique", "boards", "pareto")
-	g.right(0, 1, 3, 4, 5, 6, 7, 8)
+	g := newGrid("#", "order", "sections", "error dB", "at fp dB", "at fs dB", "parts", "unique", "cost/board", "boards", "pareto")
+	g.right(0, 1, 3, 4, 5, 6, 7, 8, 9)
 	for i, c := range res.Candidates {
 		mark := ""
 		if c.Pareto {
@@ -329,12 +365,13 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 		}
 		g.add(strconv.Itoa(i+1), strconv.Itoa(c.Order()), c.Arrangement(), fmtErr(c.ResponseError),
 			formatDB(c.PassAtten, 3), stopCell(c.StopAtten), strconv.Itoa(c.PartCount), strconv.Itoa(c.UniqueParts),
-			strconv.Itoa(c.BoardsBuildable), strings.TrimSpace(mark))
+			c.CostPerBoard.String(), strconv.Itoa(c.BoardsBuildable), strings.TrimSpace(mark))
 	}
 	addIDColumn(g, run.ids)
 	run.checks.printTable(env, w, g, res.Candidates)
 	fmt.Fprintf(w, "\nRanked %s; error = largest deviation from the ideal %s response; '*' = on the Pareto front of error, parts and unique parts.\n",
 		rankTextFor(run), approxName(res.Spec))
+	fmt.Fprintln(w, costText(res.Candidates, run.opts.Boards))
 	printCandidateDetail(env, w, res.Candidates[0], 1)
 	printFitChecks(env, w, run, res.Candidates[0])
 	for _, n := range res.Notes {
@@ -345,8 +382,12 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 
 // printCandidateDetail writes one candidate's sections and parts.
 func printCandidateDetail(env *Env, w io.Writer, c *optimize.Candidate, rank int) {
-	fmt.Fprintf(w, "\nCandidate #%d: order %d, %s, response error %s dB, %d parts from %d stock rows, %d op-amp(s)\n",
-		rank, c.Order(), c.Arrangement(), fmtErr(c.ResponseError), c.PartCount, c.UniqueParts, len(c.Sections))
+	cost := ""
+	if c.CostPerBoard.Known() {
+		cost = ", parts cost " + c.CostPerBoard.String() + " per board"
+	}
+	fmt.Fprintf(w, "\nCandidate #%d: order %d, %s, response error %s dB, %d parts from %d stock rows%s, %d op-amp(s)\n",
+		rank, c.Order(), c.Arrangement(), fmtErr(c.ResponseError), c.PartCount, c.UniqueParts, cost, len(c.Sections))
 	for i, s := range c.Sections {
 		t := s.Target
 		head := fmt.Sprintf("Section %d, %s: target f0 %s", i+1, t.Topology.Name(), formatHz(t.F0))
@@ -456,9 +497,28 @@ func rankTextFor(run *fitRun) string {
 
 func rankText(o optimize.Options) string {
 	if o.Rank == optimize.RankBalanced {
-		return fmt.Sprintf("balanced (error within %g dB first, by parts, unique parts, error; then the rest by error)", o.GoodEnough)
+		return fmt.Sprintf("balanced (error within %g dB first, by parts, unique parts, cost, error; then the rest by error)", o.GoodEnough)
 	}
 	return "by " + o.Rank.String()
+}
+
+// costText explains the cost column: per board, at the stock's unit
+// prices, and what the batch costs for the first candidate.
+func costText(cs []*optimize.Candidate, boards int) string {
+	known := 0
+	for _, c := range cs {
+		if c.CostPerBoard.Known() {
+			known++
+		}
+	}
+	if known == 0 {
+		return "cost/board: the stock has no prices for these parts (stock set ID --price P)."
+	}
+	s := "cost/board = parts at the stock's unit prices (pairs count both parts; no currency conversion); blank when a part has no price."
+	if b, ok := cs[0].CostPerBoard.Times(boards); ok && b.Known() && boards > 1 {
+		s += fmt.Sprintf(" #1 for %d boards: %s.", boards, b)
+	}
+	return s
 }
 
 func searchedText(r *optimize.Result) string {
@@ -546,6 +606,7 @@ type jsonCandidate struct {
 	Attenuation     jsonAtten      `json:"attenuation_db"`
 	PartCount       int            `json:"part_count"`
 	UniqueParts     int            `json:"unique_parts"`
+	CostPerBoard    *string        `json:"cost_per_board"`
 	BoardsBuildable int            `json:"boards_buildable"`
 	Pareto          bool           `json:"pareto"`
 	Sections        []jsonSection  `json:"sections"`
@@ -598,7 +659,8 @@ func specJSON(s synth.Spec, order int) jsonSpec {
 func candidateJSON(c *optimize.Candidate, rank int) jsonCandidate {
 	jc := jsonCandidate{Rank: rank, Order: c.Order(), Arrangement: c.Arrangement(), ResponseError: c.ResponseError,
 		MeetsSpec: c.MeetsSpec, Attenuation: jsonAtten{Pass: c.PassAtten}, PartCount: c.PartCount,
-		UniqueParts: c.UniqueParts, BoardsBuildable: c.BoardsBuildable, Pareto: c.Pareto, Netlist: candidateNetlist(c)}
+		UniqueParts: c.UniqueParts, CostPerBoard: moneyJSON(c.CostPerBoard), BoardsBuildable: c.BoardsBuildable,
+		Pareto: c.Pareto, Netlist: candidateNetlist(c)}
 	if !math.IsNaN(c.StopAtten) {
 		v := c.StopAtten
 		jc.Attenuation.Stop = &v

@@ -178,8 +178,9 @@ func (s *fitSuggestions) print(env *Env, w io.Writer) {
 		fmt.Fprintln(w, "  none: no E24/E96 resistor or E6/E12 capacitor near the values the design needs improves on what is in stock.")
 		return
 	}
-	g := newGrid("#", "buy", "part", "for row", "what it buys")
-	g.right(0, 1)
+	g := newGrid("#", "buy", "part", "for row", "cost", "what it buys")
+	g.right(0, 1, 4)
+	estimates := false
 	for i, sg := range s.list {
 		for j, it := range sg.Items {
 			num, buys := "", ""
@@ -190,10 +191,20 @@ func (s *fitSuggestions) print(env *Env, w io.Writer) {
 			if it.ID != 0 {
 				row = strconv.FormatInt(it.ID, 10)
 			}
-			g.add(num, strconv.Itoa(it.Quantity), it.Label(), row, buys)
+			cost := "?"
+			if c, ok := it.Price.Times(it.Quantity); ok && c.Known() {
+				cost = c.String()
+				if it.ID == 0 {
+					cost, estimates = "≈"+cost, true
+				}
+			}
+			g.add(num, strconv.Itoa(it.Quantity), it.Label(), row, cost, buys)
 		}
 	}
 	g.render(env, w)
+	if estimates {
+		fmt.Fprintln(w, "≈: a new row's price is the most common price of stock rows of the same kind, package and dielectric; ?: no price known.")
+	}
 }
 
 type jsonPurchase struct {
@@ -205,6 +216,11 @@ type jsonPurchase struct {
 	Package    string  `json:"package"`
 	Quantity   int     `json:"quantity"`
 	Part       string  `json:"part"`
+	// UnitPrice is the row's price, or for a new row an estimate (the
+	// most common price of rows like it); null when none is known.
+	UnitPrice      *string  `json:"unit_price"`
+	PriceEstimated bool     `json:"price_estimated"`
+	Voltage        *float64 `json:"voltage"`
 }
 
 type jsonSuggestion struct {
@@ -218,6 +234,10 @@ type jsonSuggestion struct {
 	PartsBefore     int            `json:"parts_before"`
 	PartsAfter      int            `json:"parts_after"`
 	Buys            string         `json:"buys"`
+	// Cost is the purchase's total (null when a price is unknown);
+	// CostEstimated says it includes an estimated price.
+	Cost          *string `json:"cost"`
+	CostEstimated bool    `json:"cost_estimated"`
 }
 
 func finite(v float64) *float64 {
@@ -236,9 +256,12 @@ func (s *fitSuggestions) json() []jsonSuggestion {
 		js := jsonSuggestion{ClosesShortfall: sg.ClosesShortfall(), ResponseError: finite(sg.After.WorstError),
 			ErrorBefore: finite(sg.Before.WorstError), UniqueBefore: sg.Before.UniqueParts, UniqueAfter: sg.After.UniqueParts,
 			UniqueSaved: sg.UniqueSaved(), PartsBefore: sg.Before.PartCount, PartsAfter: sg.After.PartCount, Buys: sg.Buys()}
+		cost, est := sg.Cost()
+		js.Cost, js.CostEstimated = moneyJSON(cost), est && cost.Known()
 		for _, it := range sg.Items {
 			jp := jsonPurchase{Kind: it.Kind.String(), Value: it.Value, Tolerance: it.Tolerance, Dielectric: it.Dielectric,
-				Package: it.Package, Quantity: it.Quantity, Part: it.Label()}
+				Package: it.Package, Quantity: it.Quantity, Part: it.Label(), UnitPrice: moneyJSON(it.Price),
+				PriceEstimated: it.ID == 0 && it.Price.Known(), Voltage: nonZero(it.Voltage)}
 			if it.ID != 0 {
 				id := it.ID
 				jp.StockID = &id
