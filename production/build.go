@@ -203,10 +203,14 @@ const (
 	Moved
 	// Short: the row holds fewer parts than the batch needs.
 	Short
+	// Readded: the row was removed and a row of the same identity (kind,
+	// value, tolerance, package, dielectric, location) added since; the
+	// pick list uses the new row. Not blocking.
+	Readded
 )
 
 func (k IssueKind) String() string {
-	return [...]string{"missing", "changed", "altered", "moved", "short"}[k]
+	return [...]string{"missing", "changed", "altered", "moved", "short", "readded"}[k]
 }
 
 // Issue is one problem of a saved design with the stock as it is now.
@@ -223,7 +227,7 @@ type Issue struct {
 	Needed, OnHand int
 	// Substitute is a row in the inventory with the same value,
 	// tolerance, dielectric and package as a missing or changed one (0:
-	// none).
+	// none). For Readded it is the row now used.
 	Substitute int64
 }
 
@@ -249,6 +253,9 @@ func (i Issue) String() string {
 		return s
 	case Altered:
 		return fmt.Sprintf("row %d is now %s (saved as %s): %s work, but their tolerance figures differ", i.StockID, i.Now.Label(), i.Saved.Label(), refs)
+	case Readded:
+		return fmt.Sprintf("row %d (%s) was removed and the same part added again as row %d; the pick list uses row %d (%s)",
+			i.StockID, i.Saved.Label(), i.Substitute, i.Substitute, refs)
 	case Moved:
 		return fmt.Sprintf("row %d moved from %s to %s (%s)", i.StockID, orDash(i.Saved.Location), orDash(i.Now.Location), refs)
 	}
@@ -302,6 +309,44 @@ func (b *Batch) Check(rows map[int64]stock.Item, all []stock.Item) []Issue {
 	return out
 }
 
+// Rebind points every pick whose row is no longer in the inventory (all:
+// the whole inventory) at the row of the same identity, when one was
+// added since (a recount: remove, then add the same part again), and
+// returns a Readded issue for each. Call it before Deltas and Check: a
+// saved design keeps finding its parts by identity, not only by row id.
+func (b *Batch) Rebind(all []stock.Item) []Issue {
+	live := map[int64]bool{}
+	byIdentity := map[stock.Identity]stock.Item{}
+	for _, it := range all {
+		live[it.ID] = true
+		byIdentity[it.Identity()] = it
+	}
+	var out []Issue
+	merged := map[int64]int{} // new row id -> index in b.Picks
+	var keep []Pick
+	for _, p := range b.Picks {
+		if !live[p.StockID] {
+			if now, ok := byIdentity[p.Part.Identity()]; ok {
+				out = append(out, Issue{Kind: Readded, StockID: p.StockID, Saved: p.Part, Now: now, Refs: p.Refs,
+					Needed: p.Quantity, OnHand: now.Quantity, Substitute: now.ID})
+				p.StockID = now.ID
+				p.Part.ID = now.ID
+			}
+		}
+		// Two saved rows can now be one (both re-added as the same row).
+		if i, ok := merged[p.StockID]; ok {
+			keep[i].Quantity += p.Quantity
+			keep[i].Refs = append(keep[i].Refs, p.Refs...)
+			continue
+		}
+		merged[p.StockID] = len(keep)
+		keep = append(keep, p)
+	}
+	b.Picks = keep
+	b.sort()
+	return out
+}
+
 // substitute finds a row holding the same part as saved.
 func substitute(saved stock.Item, all []stock.Item) int64 {
 	for _, it := range all {
@@ -349,7 +394,8 @@ func DryRun(ctx context.Context, st Store, b *Batch) (*BuildResult, error) {
 	for _, it := range all {
 		rows[it.ID] = it
 	}
-	issues := b.Check(rows, all)
+	readded := b.Rebind(all)
+	issues := append(readded, b.Check(rows, all)...)
 	return &BuildResult{Batch: b, Issues: issues, Shortfall: Shortfall(issues)}, nil
 }
 
@@ -364,9 +410,10 @@ func BuildBatch(ctx context.Context, st Store, b *Batch) (*BuildResult, error) {
 		return nil, err
 	}
 	res := &BuildResult{Batch: b}
+	readded := b.Rebind(all)
 	req := DrawRequest{DesignID: b.Design.ID, Boards: b.Boards, Deltas: b.Deltas(),
 		Check: func(rows map[int64]stock.Item) error {
-			res.Issues = b.Check(rows, all)
+			res.Issues = append(append([]Issue(nil), readded...), b.Check(rows, all)...)
 			var bad []string
 			for _, i := range res.Issues {
 				if i.Kind == Missing || i.Kind == Changed {

@@ -210,3 +210,55 @@ func (db *DB) DesignsUsing(ctx context.Context, stockID int64) ([]string, error)
 	}
 	return out, rows.Err()
 }
+
+// RowUse says which live designs and standing builds use a stock row.
+type RowUse struct {
+	// Designs are the ids of listed (not removed) designs that use the
+	// row, in id order.
+	Designs []string
+	// Builds are the ids of builds not undone that drew from the row, in
+	// id order.
+	Builds []int64
+}
+
+// Empty reports whether nothing uses the row.
+func (u RowUse) Empty() bool { return len(u.Designs) == 0 && len(u.Builds) == 0 }
+
+// RowUse returns what uses stock row id, read inside the transaction (so
+// that a removal can refuse on it without a race).
+func (tx *Tx) RowUse(ctx context.Context, stockID int64) (RowUse, error) {
+	var u RowUse
+	rows, err := tx.QueryContext(ctx, `SELECT d.id FROM design_stock s JOIN design d ON d.id = s.design_id
+		WHERE s.stock_id = ? AND d.removed_at IS NULL ORDER BY d.id`, stockID)
+	if err != nil {
+		return u, fmt.Errorf("designs using row %d: %w", stockID, err)
+	}
+	for rows.Next() {
+		var id string
+		if err := rows.Scan(&id); err != nil {
+			rows.Close()
+			return u, fmt.Errorf("designs using row %d: %w", stockID, err)
+		}
+		u.Designs = append(u.Designs, id)
+	}
+	rows.Close()
+	if err := rows.Err(); err != nil {
+		return u, err
+	}
+	rows, err = tx.QueryContext(ctx, `SELECT DISTINCT b.id FROM build b
+		JOIN build_movement bm ON bm.build_id = b.id AND bm.undo = 0
+		JOIN movement m ON m.id = bm.movement_id
+		WHERE m.stock_id = ? AND b.undone_at IS NULL ORDER BY b.id`, stockID)
+	if err != nil {
+		return u, fmt.Errorf("builds using row %d: %w", stockID, err)
+	}
+	defer rows.Close()
+	for rows.Next() {
+		var id int64
+		if err := rows.Scan(&id); err != nil {
+			return u, fmt.Errorf("builds using row %d: %w", stockID, err)
+		}
+		u.Builds = append(u.Builds, id)
+	}
+	return u, rows.Err()
+}

@@ -220,7 +220,7 @@ func TestBuildRefusedOnShortfall(t *testing.T) {
 	// Taking the design's rows out of the inventory is reported by show
 	// and stops a build, naming the parts.
 	row := res.Picks[0]
-	s.ok("stock", "remove", itoa64(row.StockID))
+	s.ok("stock", "remove", itoa64(row.StockID), "--force")
 	var shown map[string]any
 	s.jsonOf(&shown, "show", id, "--json")
 	issues := shown["stock_issues"].([]any)
@@ -341,6 +341,64 @@ func TestProductionCommandsHaveExamples(t *testing.T) {
 		out := s.ok(append(args, "--help")...)
 		if !strings.Contains(out, "Examples:") || !strings.Contains(out, "drawerfit "+args[0]) {
 			t.Errorf("%v --help has no worked example:\n%s", args, out)
+		}
+	}
+}
+
+// TestRemovedRowFoundAgainByIdentity: a row that a saved design uses is
+// removed only with --force (the refusal lists the design); once the same
+// part is added again, the design finds the new row, says so, and builds
+// from it.
+func TestRemovedRowFoundAgainByIdentity(t *testing.T) {
+	t.Parallel()
+	s := sampleEnv(t)
+	var fit map[string]any
+	s.jsonOf(&fit, "fit", "lowpass", "--pass", "2k", "--order", "2", "--combine", "1", "--top", "1", "--save", "--json")
+	id := fit["candidates"].([]any)[0].(map[string]any)["id"].(string)
+	var dry jsonBuild
+	if code := s.jsonOf(&dry, "build", id, "--boards", "1", "--dry-run", "--json"); code != 0 {
+		t.Fatalf("dry run exit %d", code)
+	}
+	old := dry.Picks[0].StockID
+	var row map[string]any
+	for _, it := range s.listJSON() {
+		if int64(it["id"].(float64)) == old {
+			row = it
+		}
+	}
+	_, errs, code := s.run("", "stock", "remove", itoa64(old))
+	if code != 1 || !strings.Contains(errs, "saved design "+id) || !strings.Contains(errs, "--force") {
+		t.Fatalf("remove without --force: exit %d %q", code, errs)
+	}
+	out := s.ok("stock", "remove", itoa64(old), "--force")
+	if !strings.Contains(out, id) {
+		t.Errorf("remove --force does not name the design:\n%s", out)
+	}
+	// The recount: the same part, added again.
+	kind := row["kind"].(string)
+	value := strconv.FormatFloat(row["value"].(float64), 'g', -1, 64)
+	if kind == "capacitor" {
+		value += "F"
+	}
+	args := []string{"stock", "add", value, "--kind", kind, "--qty", "40",
+		"--tol", strconv.FormatFloat(row["tolerance"].(float64)*100, 'g', -1, 64) + "%",
+		"--package", row["package"].(string), "--dielectric", row["dielectric"].(string), "--location", row["location"].(string)}
+	s.ok(args...)
+	var again jsonBuild
+	if code := s.jsonOf(&again, "build", id, "--boards", "1", "--dry-run", "--json"); code != 0 {
+		t.Fatalf("dry run after re-adding: exit %d %+v", code, again)
+	}
+	text, _, code := s.run("", "build", id, "--boards", "1", "--dry-run")
+	if code != 0 || !strings.Contains(text, "added again") {
+		t.Errorf("dry run text: exit %d\n%s", code, text)
+	}
+	var built jsonBuild
+	if code := s.jsonOf(&built, "build", id, "--boards", "1", "--json"); code != 0 || !built.Drawn {
+		t.Fatalf("build after re-adding: exit %d %+v", code, built)
+	}
+	for _, p := range built.Picks {
+		if p.StockID == old {
+			t.Errorf("the build drew from the removed row %d", old)
 		}
 	}
 }

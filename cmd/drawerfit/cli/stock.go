@@ -709,19 +709,32 @@ func runStockSet(ctx context.Context, env *Env, o stockSetOptions) error {
 // ---- remove ----
 
 func newStockRemoveCmd(env *Env) *cobra.Command {
-	return &cobra.Command{
+	force := false
+	cmd := &cobra.Command{
 		Use:   "remove ID",
 		Short: "Take a stock row out of the inventory (its history stays)",
 		Long: `Remove takes the row with the given id out of the inventory. The ledger keeps
-its history and gets a closing entry that takes its quantity to zero.`,
+its history and gets a closing entry that takes its quantity to zero.
+
+A row that saved designs or standing builds use is removed only with
+--force, after the command has listed them. Those designs keep working when
+the same part (kind, value, tolerance, package, dielectric, location) is
+added again: build and show find the new row by its identity and say so.`,
 		Example: `  # The old carbon-film bin D6 (row 31) was emptied into the scrap box
-  drawerfit stock remove 31`,
+  drawerfit stock remove 31
+
+  # A recount: take row 12 out and add what was counted; saved designs
+  # that used row 12 find the new row
+  drawerfit stock remove 12 --force
+  drawerfit stock add 4K7 --kind R --qty 38 --tol 1% --package 0805 --location A3`,
 		Args: cobra.ExactArgs(1),
-		RunE: func(cmd *cobra.Command, args []string) error { return runStockRemove(cmd.Context(), env, args[0]) },
+		RunE: func(cmd *cobra.Command, args []string) error { return runStockRemove(cmd.Context(), env, args[0], force) },
 	}
+	cmd.Flags().BoolVar(&force, "force", false, "remove the row even though saved designs or standing builds use it")
+	return cmd
 }
 
-func runStockRemove(ctx context.Context, env *Env, idText string) error {
+func runStockRemove(ctx context.Context, env *Env, idText string, force bool) error {
 	id, err := parseID(idText)
 	if err != nil {
 		return err
@@ -731,15 +744,45 @@ func runStockRemove(ctx context.Context, env *Env, idText string) error {
 		return err
 	}
 	defer db.Close()
-	it, err := db.Get(ctx, id)
+	var it stock.Item
+	var use store.RowUse
+	err = db.Tx(ctx, func(tx *store.Tx) error {
+		if it, err = tx.Get(ctx, id); err != nil {
+			return err
+		}
+		if use, err = tx.RowUse(ctx, id); err != nil {
+			return err
+		}
+		if !use.Empty() && !force {
+			return fault.Conflictf("row %d (%s) is used by %s; nothing was removed (add --force to remove it anyway; the designs find the part again if the same part is added back)",
+				id, it.Label(), useText(use))
+		}
+		return tx.Remove(ctx, id, "removed")
+	})
 	if err != nil {
 		return err
 	}
-	if err := db.Remove(ctx, id); err != nil {
-		return err
-	}
 	fmt.Fprintf(env.Out, "removed #%d %s (%s written off in the ledger)\n", it.ID, it.Label(), plural(it.Quantity, "part"))
+	if !use.Empty() {
+		fmt.Fprintf(env.Out, "  it was used by %s\n", useText(use))
+	}
 	return nil
+}
+
+// useText lists designs and builds: "designs k7m2, p4q9 and standing build 3".
+func useText(u store.RowUse) string {
+	var parts []string
+	if len(u.Designs) > 0 {
+		parts = append(parts, pluralWord(len(u.Designs), "saved design")+" "+strings.Join(u.Designs, ", "))
+	}
+	if len(u.Builds) > 0 {
+		ids := make([]string, len(u.Builds))
+		for i, b := range u.Builds {
+			ids[i] = strconv.FormatInt(b, 10)
+		}
+		parts = append(parts, pluralWord(len(u.Builds), "standing build")+" "+strings.Join(ids, ", "))
+	}
+	return strings.Join(parts, " and ")
 }
 
 // ---- export ----
