@@ -25,6 +25,27 @@ type physPart struct {
 	comp    int     // index into board.comps
 	stockID int64
 	diel    string
+	// assumed is set when the stock gives no tolerance and tol is the
+	// default of DefaultTolerance.
+	assumed bool
+}
+
+// Default tolerances for parts whose stock row gives none (a stored 0): the
+// usual tolerance of a film or C0G capacitor and of a metal-film resistor
+// (common practice, no source). Simulating such parts as exact would make
+// the yield optimistic.
+const (
+	DefaultCapacitorTolerance = 0.05
+	DefaultResistorTolerance  = 0.01
+)
+
+// DefaultTolerance returns the tolerance assumed for a part of kind k whose
+// stock row gives none.
+func DefaultTolerance(k synth.PartKind) float64 {
+	if k == synth.Capacitor {
+		return DefaultCapacitorTolerance
+	}
+	return DefaultResistorTolerance
 }
 
 // boardComp is one circuit position: parts[lo:hi] joined by arr.
@@ -104,10 +125,14 @@ func newBoard(c *optimize.Candidate) (*board, error) {
 					return nil, fault.Invalidf("section %d: %s has a part with tolerance %g (want a fraction in [0, 1))", si+1, bc.ref, p.Tolerance)
 				}
 				vals[pi] = p.Value
-				b.parts = append(b.parts, physPart{
+				pp := physPart{
 					nominal: p.Value, tol: p.Tolerance, comp: len(b.comps),
 					stockID: p.StockID, diel: p.Dielectric,
-				})
+				}
+				if pp.tol == 0 {
+					pp.tol, pp.assumed = DefaultTolerance(comp.Kind), true
+				}
+				b.parts = append(b.parts, pp)
 			}
 			bc.hi = len(b.parts)
 			// The nominal value is recomputed from the parts so that the

@@ -61,15 +61,18 @@ type Refit struct {
 	// Spec is the specification the design was fitted to (the acceptance is
 	// still judged against the original).
 	Spec synth.Spec `json:"-"`
-	// Pass is the new passband edge in Hz; Ripple the new Chebyshev ripple.
+	// Pass is where the new target reaches Ap (for Chebyshev where its
+	// ripple band ends), Hz; Ripple the new Chebyshev ripple.
 	Pass   float64 `json:"pass_hz"`
 	Ripple float64 `json:"ripple_db,omitempty"`
-	// Margin is the balanced design margin at fp and fs (dB each).
-	Margin    float64             `json:"margin_db"`
-	Yield     float64             `json:"yield"`
-	CILow     float64             `json:"ci_low"`
-	CIHigh    float64             `json:"ci_high"`
-	Candidate *optimize.Candidate `json:"-"`
+	// PassMargin and StopMargin are the new target's margins at fp and fs
+	// (dB; synth.Placing).
+	PassMargin float64             `json:"pass_margin_db"`
+	StopMargin float64             `json:"stop_margin_db"`
+	Yield      float64             `json:"yield"`
+	CILow      float64             `json:"ci_low"`
+	CIHigh     float64             `json:"ci_high"`
+	Candidate  *optimize.Candidate `json:"-"`
 }
 
 // Result is a yield analysis. Every float is finite (the result encodes as
@@ -245,7 +248,7 @@ func Run(ctx context.Context, c *optimize.Candidate, spec synth.Spec, opt Option
 			r.Remedies = remedies(b, j, &opt, r.Blame, tol)
 		}
 		if opt.Refit != nil && r.Yield < opt.TargetYield && r.Nominal.Pass && c.Design != nil {
-			r.Refit, err = refit(b, c, spec, opt)
+			r.Refit, err = refit(c, spec, opt)
 			var ns noSlack
 			switch {
 			case errors.As(err, &ns):
@@ -392,10 +395,10 @@ func advice(r *Result, j *judge, onLimit bool, refitNote string) []string {
 	if rf := r.Refit; rf != nil {
 		what := fmt.Sprintf("its edge moved to %s", hz(rf.Pass))
 		if rf.Ripple > 0 {
-			what = fmt.Sprintf("its ripple reduced to %.3g dB", rf.Ripple)
+			what = fmt.Sprintf("its ripple reduced to %.3g dB, band ending at %s", rf.Ripple, hz(rf.Pass))
 		}
-		a = append(a, fmt.Sprintf("The same order fitted with %s (design margins balanced at %.2f dB at fp and fs) passes %s of the boards (95%% interval %s to %s).",
-			what, rf.Margin, pct(rf.Yield), pct(rf.CILow), pct(rf.CIHigh)))
+		a = append(a, fmt.Sprintf("The same order fitted with its target placed inside the specification (%s; design margins %.2f dB at fp and %.2f dB at fs) passes %s of the boards (95%% interval %s to %s).",
+			what, rf.PassMargin, rf.StopMargin, pct(rf.Yield), pct(rf.CILow), pct(rf.CIHigh)))
 	}
 	return a
 }
@@ -413,13 +416,12 @@ func hz(f float64) string {
 }
 
 // unknownTolerances names the positions whose parts have no tolerance in
-// stock (stored as 0): they are simulated as exact, which makes the yield
-// optimistic.
+// stock (stored as 0): they are simulated with DefaultTolerance.
 func unknownTolerances(b *board) string {
 	var refs []string
 	seen := map[int]bool{}
 	for _, p := range b.parts {
-		if p.tol == 0 && !seen[p.comp] {
+		if p.assumed && !seen[p.comp] {
 			seen[p.comp] = true
 			refs = append(refs, b.comps[p.comp].ref)
 		}
@@ -427,6 +429,6 @@ func unknownTolerances(b *board) string {
 	if len(refs) == 0 {
 		return ""
 	}
-	return fmt.Sprintf("%s: the stock gives no tolerance, so these parts are simulated as exact and the yield is optimistic; set the tolerance in the stock (stock import with a tolerance column)",
-		strings.Join(refs, ", "))
+	return fmt.Sprintf("%s: the stock gives no tolerance, so these parts are simulated with %s for capacitors and %s for resistors (common practice, no source); set the real tolerance in the stock (stock import with a tolerance column)",
+		strings.Join(refs, ", "), tolString(DefaultCapacitorTolerance), tolString(DefaultResistorTolerance))
 }

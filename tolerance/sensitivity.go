@@ -1,7 +1,9 @@
 package tolerance
 
 import (
+	"fmt"
 	"math"
+	"math/bits"
 )
 
 // ComponentSensitivity holds the normalised sensitivities of a section's
@@ -68,9 +70,12 @@ func sensitivities(b *board) []SectionSensitivity {
 	return out
 }
 
-// WorstCase is the corner analysis: every part at a limit of its tolerance,
-// in the direction (found from the sensitivities) that hurts each figure
-// most. Corners are evaluated exactly, not extrapolated.
+// WorstCase is the corner analysis: every part at a limit of its
+// tolerance. With at most MaxExactCorners parts every one of the 2^n
+// corners is evaluated exactly and the figures are the true extremes over
+// the corners (Exact); with more parts each figure's corner is chosen from
+// the signs of the sensitivities, which is a sensitivity estimate and not a
+// bound.
 type WorstCase struct {
 	// PassAtten is the largest passband attenuation (Chebyshev: ripple) found (dB) and
 	// PassOK whether it is within the acceptance window.
@@ -84,13 +89,87 @@ type WorstCase struct {
 	// the -3 dB point, or the ripple-band edge for Chebyshev.
 	EdgeLow  float64 `json:"edge_low_hz"`
 	EdgeHigh float64 `json:"edge_high_hz"`
+	// Exact is true when every corner was evaluated; Corners is how many
+	// corners were evaluated.
+	Exact   bool `json:"exact"`
+	Corners int  `json:"corners"`
+	// Method says in words how the figures were found.
+	Method string `json:"method"`
 }
 
-// corners finds the worst-case corners. The direction of each part comes
-// from the sign of a central difference (relative step 1e-4, large enough
-// to stand clear of the root-search resolution) of the figure with respect
-// to the part's value.
+// MaxExactCorners is the largest number of parts whose 2^n corners are all
+// evaluated (65,536 corners, well under a second); above it the corners
+// are a sensitivity estimate.
+const MaxExactCorners = 16
+
+// corners finds the worst-case corners: all of them when there are few
+// parts, else the sensitivity estimate.
 func corners(b *board, j *judge, tol []float64, opt *Options) *WorstCase {
+	if len(b.parts) <= MaxExactCorners {
+		return allCorners(b, j, tol, opt)
+	}
+	return sensitivityCorners(b, j, tol, opt)
+}
+
+// allCorners evaluates every corner, visiting them in Gray-code order so
+// that each step moves one part and re-analyses only its section.
+func allCorners(b *board, j *judge, tol []float64, opt *Options) *WorstCase {
+	n := len(b.parts)
+	ws := b.newWorkspace()
+	nom := b.nominalParts()
+	parts := make([]float64, n)
+	for i := range parts {
+		parts[i] = nom[i] * (1 - tol[i])
+	}
+	ws.load(parts)
+	wc := &WorstCase{Exact: true, Corners: 1 << n, Method: fmt.Sprintf("all %d corners", 1<<n)}
+	wc.PassAtten = math.Inf(-1)
+	stop := math.Inf(1)
+	wc.EdgeLow, wc.EdgeHigh = math.Inf(1), math.Inf(-1)
+	high := make([]bool, n)
+	visit := func() {
+		m := j.measure(ws, true)
+		wc.PassAtten = math.Max(wc.PassAtten, m.passAtt)
+		if j.hasStop {
+			stop = math.Min(stop, m.stopAtt)
+		}
+		if !math.IsNaN(m.edge) {
+			wc.EdgeLow, wc.EdgeHigh = math.Min(wc.EdgeLow, m.edge), math.Max(wc.EdgeHigh, m.edge)
+		}
+	}
+	visit()
+	for i := 1; i < 1<<n; i++ {
+		if i&1023 == 0 && opt.cancelled() {
+			return nil
+		}
+		k := bits.TrailingZeros(uint(i))
+		high[k] = !high[k]
+		if high[k] {
+			parts[k] = nom[k] * (1 + tol[k])
+		} else {
+			parts[k] = nom[k] * (1 - tol[k])
+		}
+		ws.loadSection(b.comps[b.parts[k].comp].section, parts)
+		visit()
+	}
+	wc.PassOK = wc.PassAtten-j.ap <= opt.PassMargin+judgeSlack
+	wc.StopOK = true
+	if j.hasStop {
+		wc.StopAtten = &stop
+		wc.StopOK = j.as-stop <= opt.StopMargin+judgeSlack
+	}
+	if math.IsInf(wc.EdgeLow, 0) || math.IsInf(wc.EdgeHigh, 0) {
+		wc.EdgeLow, wc.EdgeHigh = 0, 0
+	}
+	return wc
+}
+
+// sensitivityCorners chooses one corner per figure. The direction of each
+// part comes from the sign of a central difference (relative step 1e-4,
+// large enough to stand clear of the root-search resolution) of the figure
+// with respect to the part's value. Interactions between parts can make
+// another corner worse, so the result is an estimate, not a bound.
+func sensitivityCorners(b *board, j *judge, tol []float64, opt *Options) *WorstCase {
 	const h = 1e-4
 	ws := b.newWorkspace()
 	nom := b.nominalParts()
@@ -129,7 +208,7 @@ func corners(b *board, j *judge, tol []float64, opt *Options) *WorstCase {
 		copy(parts, nom)
 		return m
 	}
-	wc := &WorstCase{}
+	wc := &WorstCase{Corners: 4, Method: fmt.Sprintf("sensitivity estimate (%d parts: more than %d, so not every corner is tried; not a bound)", n, MaxExactCorners)}
 	mp := corner(dPass, 1)
 	wc.PassAtten = mp.passAtt
 	wc.PassOK = j.passExcess(mp) <= opt.PassMargin+judgeSlack
@@ -141,9 +220,9 @@ func corners(b *board, j *judge, tol []float64, opt *Options) *WorstCase {
 	} else {
 		wc.StopOK = true
 	}
-	wc.EdgeLow = corner(dEdge, -1).edge
-	wc.EdgeHigh = corner(dEdge, 1).edge
-	if math.IsNaN(wc.EdgeLow) || math.IsNaN(wc.EdgeHigh) {
+	lo, hi := corner(dEdge, -1).edge, corner(dEdge, 1).edge
+	wc.EdgeLow, wc.EdgeHigh = math.Min(lo, hi), math.Max(lo, hi)
+	if math.IsNaN(lo) || math.IsNaN(hi) {
 		wc.EdgeLow, wc.EdgeHigh = 0, 0
 	}
 	return wc

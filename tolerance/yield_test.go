@@ -149,7 +149,7 @@ func TestNormalDistributionIsThreeSigma(t *testing.T) {
 	// section's f0 = 1/(2π sqrt(R1 R2 C1 C2)) has ln f0 ≈ -½ ln(1 + 0.05 Z/3),
 	// so the 5th-95th percentile span is about 2·1.645·0.05/3/2 in ln f0
 	// (1.645: the standard normal 95 % point).
-	c := sallenKey(10e3, 10e3, 20e-9, 5e-9, [4]float64{0.05, 0, 0, 0})
+	c := sallenKey(10e3, 10e3, 20e-9, 5e-9, [4]float64{0.05, exactTol, exactTol, exactTol})
 	f0nom := 1 / (2 * math.Pi * math.Sqrt(10e3*10e3*20e-9*5e-9))
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: f0nom, Order: 2}
 	r, err := Run(context.Background(), c, spec, Options{Trials: 40_000, Seed: 3, Dist: Normal, PassMargin: 100, Brief: true})
@@ -174,6 +174,10 @@ func TestNormalDistributionIsThreeSigma(t *testing.T) {
 	}
 }
 
+// exactTol stands for an exact part: a tolerance of 0 means "not given in
+// stock" and is simulated with DefaultTolerance.
+const exactTol = 1e-15
+
 func TestZeroToleranceGivesFullYield(t *testing.T) {
 	t.Parallel()
 	cases := []struct {
@@ -189,7 +193,7 @@ func TestZeroToleranceGivesFullYield(t *testing.T) {
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
-			c := designCandidate(t, tc.spec, tc.order, tc.odd, tols{0, 0})
+			c := designCandidate(t, tc.spec, tc.order, tc.odd, tols{exactTol, exactTol})
 			r, err := Run(context.Background(), c, tc.spec, Options{Trials: 500, Seed: 1})
 			if err != nil {
 				t.Fatal(err)
@@ -197,7 +201,7 @@ func TestZeroToleranceGivesFullYield(t *testing.T) {
 			if r.Yield != 1 || r.Passed != 500 || r.FailPassband != 0 || r.FailStopband != 0 {
 				t.Fatalf("zero tolerance: yield %v (%d passed, %d/%d failures), want 1", r.Yield, r.Passed, r.FailPassband, r.FailStopband)
 			}
-			if r.Edge.Min != r.Edge.Max {
+			if math.Abs(r.Edge.Max/r.Edge.Min-1) > 1e-9 {
 				t.Errorf("zero tolerance: edge spread %g..%g, want one value", r.Edge.Min, r.Edge.Max)
 			}
 			if len(r.Blame) != 0 {
@@ -395,7 +399,7 @@ func TestBlameSingleCulprit(t *testing.T) {
 	t.Parallel()
 	// Only Cg has a tolerance: every failure is its doing.
 	f0 := 1 / (2 * math.Pi * math.Sqrt(10e3*10e3*20e-9*10e-9))
-	c := sallenKey(10e3, 10e3, 20e-9, 10e-9, [4]float64{0, 0, 0, 0.05})
+	c := sallenKey(10e3, 10e3, 20e-9, 10e-9, [4]float64{exactTol, exactTol, exactTol, 0.05})
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: f0 * 0.99, Stop: f0 * 3, StopAtten: 15}
 	r, err := Run(context.Background(), c, spec, Options{Trials: 2000, Seed: 4})
 	if err != nil {
@@ -607,23 +611,33 @@ func TestOptionsErrors(t *testing.T) {
 }
 
 // TestUnknownToleranceWarned: a part whose stock row gives no tolerance is
-// simulated as exact; the result says so and names the position.
+// simulated with the stated default (5 % for a capacitor, common practice,
+// no source), exactly as if the stock gave 5 %; the result says so and
+// names the position.
 func TestUnknownToleranceWarned(t *testing.T) {
 	t.Parallel()
 	// Invented values: a 1 kHz Butterworth section.
 	c := sallenKey(22.5e3, 22.5e3, 10e-9, 5e-9, [4]float64{0.01, 0.01, 0.05, 0})
+	given := sallenKey(22.5e3, 22.5e3, 10e-9, 5e-9, [4]float64{0.01, 0.01, 0.05, DefaultCapacitorTolerance})
 	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2}
-	r, err := Run(context.Background(), c, spec, Options{Trials: 200, Seed: 1, Brief: true})
+	r, err := Run(context.Background(), c, spec, Options{Trials: 400, Seed: 1, Brief: true})
 	if err != nil {
 		t.Fatal(err)
 	}
+	rg, err := Run(context.Background(), given, spec, Options{Trials: 400, Seed: 1, Brief: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.Passed != rg.Passed || *r.PassAtten != *rg.PassAtten {
+		t.Errorf("no tolerance: %d passed, spread %+v; 5%% given: %d passed, spread %+v (want the same draws)", r.Passed, *r.PassAtten, rg.Passed, *rg.PassAtten)
+	}
 	found := false
 	for _, w := range r.Warnings {
-		if strings.Contains(w, "C2") && strings.Contains(w, "no tolerance") {
+		if strings.Contains(w, "C2") && strings.Contains(w, "no tolerance") && strings.Contains(w, "5%") {
 			found = true
 		}
 	}
 	if !found {
-		t.Errorf("no warning about the part without tolerance: %q", r.Warnings)
+		t.Errorf("no warning naming the part without tolerance and the default used: %q", r.Warnings)
 	}
 }

@@ -17,6 +17,7 @@ import (
 	"drawerfit/report"
 	"drawerfit/stock"
 	"drawerfit/synth"
+	"drawerfit/tolerance"
 )
 
 func init() { register("fit", newFitCmd) }
@@ -175,11 +176,13 @@ type fitRun struct {
 	result  *optimize.Result
 	source  string // where the stock came from
 	elapsed time.Duration
-	ids     []string        // saved design ids, parallel to result.Candidates (with --save)
-	items   []stock.Item    // the stock searched (for the checks' refit and bias resistors)
-	checks  *fitChecks      // results of the checks (fit_checks.go)
-	suggest *fitSuggestions // purchase suggestions (with --suggest; fit_production.go)
-	ctx     context.Context // cancelled on interrupt; the checks and refits stop with it
+	ids     []string              // saved design ids, parallel to result.Candidates (with --save)
+	items   []stock.Item          // the stock searched (for the checks' refit and bias resistors)
+	checks  *fitChecks            // results of the checks (fit_checks.go)
+	rank    tolerance.RankOptions // the yield ranking's options
+	ranking *tolerance.Ranking    // the ranking by yield (nil: another --rank)
+	suggest *fitSuggestions       // purchase suggestions (with --suggest; fit_production.go)
+	ctx     context.Context       // cancelled on interrupt; the checks and refits stop with it
 }
 
 func (o *fitOptions) optimizeOptions() (optimize.Options, error) {
@@ -712,3 +715,6 @@ func (r *fitRun) context() context.Context {
 	}
 	return r.ctx
 }
+
+// rankOptions are the options of the yield ranking and of a refit.
+func (run *fitRun) rankOptions() tolerance.RankOptions { return run.rank }

@@ -295,28 +295,13 @@ func rankByYield(cands []*optimize.Candidate, fc *fitChecks) {
 	}
 }
 
-// refitFor fits the same order and arrangement as c again for a modified
-// specification, from the same stock and with the same options.
+// refitFor is the refit of candidate c over run's stock and options: the
+// default fit path (tolerance.Refitter).
 func refitFor(run *fitRun, c *optimize.Candidate) tolerance.RefitFunc {
 	if run.items == nil {
 		return nil
 	}
-	return func(spec synth.Spec) (*optimize.Candidate, error) {
-		opt := run.opts
-		odd := c.Design.Odd
-		spec.Order, spec.Odd = c.Design.Order, odd
-		opt.Odd, opt.MaxOrder, opt.Top, opt.Progress, opt.ShowFailing = &odd, c.Design.Order, 1, nil, false
-		res, err := optimize.Fit(run.context(), run.items, spec, opt)
-		if err != nil {
-			return nil, err
-		}
-		for _, nc := range res.Candidates {
-			if nc.Arrangement() == c.Arrangement() {
-				return nc, nil
-			}
-		}
-		return nil, fault.Infeasiblef("the stock has no order-%d %s design for the moved edge", c.Design.Order, c.Arrangement())
-	}
+	return tolerance.Refitter(run.context(), run.items, run.opts, run.rankOptions(), c)
 }
 
 // fitBiasResistors computes each section's bias-current compensation

@@ -330,7 +330,7 @@ func writeYieldReport(env *Env, w io.Writer, rep *yieldReport, sens bool) {
 			}
 			return "fails"
 		}
-		s := fmt.Sprintf("worst-case corners (every part at a tolerance limit): %s %.3f dB (%s)", passLabel, wc.PassAtten, verdict(wc.PassOK))
+		s := fmt.Sprintf("worst-case corners (every part at a tolerance limit; %s): %s %.3f dB (%s)", wc.Method, passLabel, wc.PassAtten, verdict(wc.PassOK))
 		if wc.StopAtten != nil {
 			s += fmt.Sprintf(", %.2f dB at fs (%s)", *wc.StopAtten, verdict(wc.StopOK))
 		}
