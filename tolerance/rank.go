@@ -3,6 +3,7 @@ package tolerance
 import (
 	"context"
 	"fmt"
+	"math"
 	"sort"
 
 	"drawerfit/fault"
@@ -104,12 +105,20 @@ type Ranking struct {
 	Screened, ScreenTrials, Confirmed, Trials int
 	Seed                                      uint64
 	Target                                    float64
+	// PoolError is the response error (dB) within which the search kept
+	// candidates by parts for the screening (0: not known, the candidates
+	// were given).
+	PoolError float64
 }
 
 // Method says in a sentence how the candidates were screened and ranked.
 func (r *Ranking) Method() string {
-	return fmt.Sprintf("%d candidates screened with %d simulated boards each and the %d best confirmed with %d, the same random draws for every candidate (seed %d); those reaching the target %s listed first by parts, unique parts, then yield; then the rest by yield",
-		r.Screened, r.ScreenTrials, r.Confirmed, r.Trials, r.Seed, pct(r.Target))
+	pool := ""
+	if r.PoolError > 0 {
+		pool = fmt.Sprintf(" (the search's best by parts among those within %.3g dB of the ideal response)", r.PoolError)
+	}
+	return fmt.Sprintf("by yield: those reaching the target %s first, by parts, unique parts, then yield; then the rest by yield. %d candidates%s screened with %d simulated boards each, the %d best confirmed with %d, the same random draws for every candidate",
+		pct(r.Target), r.Screened, pool, r.ScreenTrials, r.Confirmed, r.Trials)
 }
 
 // RankByYield orders candidates by their simulated yield against spec:
@@ -228,17 +237,42 @@ func RankByYield(ctx context.Context, cands []*optimize.Candidate, spec synth.Sp
 // by yield chooses among more than it lists.
 func PoolSize(top int) int { return max(3*top, 30) }
 
+// poolErrorShare is the share of the target's smaller design margin that a
+// candidate's response error may take and still count as good enough for
+// the pool: fewest parts first among those (common practice, no source: a
+// third leaves two thirds of the margin for the tolerances).
+const poolErrorShare = 1.0 / 3
+
+// poolGoodEnough is the response error (dB) within which the pool search
+// ranks candidates by parts: the larger of good and a third of the
+// smaller design margin the minimum order's target leaves (synth.Placing),
+// so that candidates with fewer parts whose error the margins absorb are
+// screened too.
+func poolGoodEnough(spec synth.Spec, good float64) float64 {
+	d, err := synth.NewDesign(spec, 0, synth.OddDefault)
+	if err != nil {
+		return good
+	}
+	m := d.Placing.PassMargin
+	if !math.IsNaN(d.Placing.StopMargin) {
+		m = math.Min(m, d.Placing.StopMargin)
+	}
+	return math.Max(good, poolErrorShare*m)
+}
+
 // FitByYield searches the stock for spec (optimize.Fit with fo, asking for
-// PoolSize(fo.Top) candidates by fo.Rank) and lists the best fo.Top of them
-// by RankByYield with ro (ro.Top is fo.Top). The result's candidates are
+// PoolSize(fo.Top) candidates by the balanced ranking whose good-enough
+// error is widened to a third of the target's smaller design margin) and
+// lists the best fo.Top of them by RankByYield with ro (ro.Top is fo.Top). The result's candidates are
 // the listed ones in yield order, with the Pareto marks of the listed set;
 // a fit that finds nothing is returned as it is, with a nil ranking.
 func FitByYield(ctx context.Context, items []stock.Item, spec synth.Spec, fo optimize.Options, ro RankOptions) (*optimize.Result, *Ranking, error) {
 	top := fo.Top
-	if top < 1 {
-		return nil, nil, fault.Invalidf("the list needs at least one candidate, got %d", top)
+	if top >= 1 { // optimize.Fit refuses a smaller list
+		fo.Top = PoolSize(top)
 	}
-	fo.Top = PoolSize(top)
+	fo.Rank = optimize.RankBalanced
+	fo.GoodEnough = poolGoodEnough(spec, fo.GoodEnough)
 	res, err := optimize.Fit(ctx, items, spec, fo)
 	if err != nil {
 		return nil, nil, err
@@ -264,6 +298,7 @@ func FitByYield(ctx context.Context, items []stock.Item, spec synth.Spec, fo opt
 	if err != nil {
 		return nil, nil, err
 	}
+	rk.PoolError = fo.GoodEnough
 	res.Candidates = res.Candidates[:0]
 	for _, r := range rk.Listed {
 		res.Candidates = append(res.Candidates, r.Candidate)

@@ -563,26 +563,23 @@ func TestRefitMovesEdgeInside(t *testing.T) {
 			if s.Order != tc.n {
 				t.Errorf("refit order %d, want %d", s.Order, tc.n)
 			}
-			// The ideal design of the new spec has equal margins at fp and
-			// fs against the original limits.
+			// The refit is the fit's default path: the same specification
+			// with the target placed inside it, whose design margins it
+			// reports.
+			if s.Placement != synth.PlaceInside {
+				t.Errorf("refit placement %v, want inside", s.Placement)
+			}
 			d, err := synth.NewDesign(s, s.Order, s.Odd)
 			if err != nil {
 				t.Fatal(err)
 			}
-			pm := tc.spec.PassAtten
-			if pm == 0 {
-				pm = synth.HalfPowerDB
+			p := d.Placing
+			if p.Used != synth.PlaceInside || !(p.PassMargin > 0 && p.StopMargin > 0) {
+				t.Errorf("refit design placing %+v, want inside with positive margins", p)
 			}
-			if tc.spec.Approx == synth.Chebyshev {
-				pm = tc.spec.Ripple
-			}
-			passMargin := pm - d.AttenuationAt(tc.spec.Pass)
-			if tc.spec.Approx == synth.Chebyshev {
-				passMargin = pm - s.Ripple
-			}
-			stopMargin := d.AttenuationAt(tc.spec.Stop) - tc.spec.StopAtten
-			if math.Abs(passMargin-stopMargin) > 0.01 || passMargin <= 0 {
-				t.Errorf("refit margins %.4f dB at fp and %.4f dB at fs, want equal and positive", passMargin, stopMargin)
+			if r.Refit.PassMargin != p.PassMargin || r.Refit.StopMargin != p.StopMargin || r.Refit.Pass != p.Edge {
+				t.Errorf("refit reports margins %.4f/%.4f dB and edge %g Hz, the design %.4f/%.4f dB and %g Hz",
+					r.Refit.PassMargin, r.Refit.StopMargin, r.Refit.Pass, p.PassMargin, p.StopMargin, p.Edge)
 			}
 			if r.Refit.Yield <= r.Yield {
 				t.Errorf("refit yield %v not above %v", r.Refit.Yield, r.Yield)

@@ -148,7 +148,7 @@ person under the applicable local rules.`,
 	f.IntVar(&o.combine, "combine", 2, "parts per position: 1 (single parts) or 2 (also pairs in series or parallel)")
 	f.IntVar(&o.boards, "boards", 1, "every stock row used must cover this many boards")
 	f.IntVar(&o.maxOrder, "max-order", 0, "highest order to try (default: the minimum order + 1)")
-	f.StringVar(&o.rank, "rank", "balanced", "ordering: balanced, error, parts, unique, cost, or yield (implies --yield)")
+	f.StringVar(&o.rank, "rank", "yield", "ordering: yield (boards reaching --target-yield first, by parts), balanced, error, parts, unique or cost")
 	f.StringVar(&o.minVoltage, "min-voltage", "", "never use capacitors rated below this voltage (50, 50V, 6.3V); unrated ones are used with a warning")
 	f.BoolVar(&o.requireRate, "require-rating", false, "with --min-voltage: leave out capacitors without a voltage rating too")
 	f.IntVar(&o.top, "top", 10, "how many candidates to list")
@@ -190,7 +190,7 @@ func (o *fitOptions) optimizeOptions() (optimize.Options, error) {
 	opt.Combine, opt.Boards, opt.MaxOrder, opt.Top = o.combine, o.boards, o.maxOrder, o.top
 	opt.GoodEnough, opt.ShowFailing, opt.AllowDielectric = o.goodEnough, o.showFailing, o.allowDiel
 	switch strings.ToLower(o.rank) {
-	case "balanced", "yield": // yield: balanced search, then listed by yield (fit_checks.go)
+	case "balanced", "yield": // yield: the balanced search's candidates ranked by yield (tolerance.FitByYield)
 		opt.Rank = optimize.RankBalanced
 	case "error":
 		opt.Rank = optimize.RankError
@@ -201,7 +201,7 @@ func (o *fitOptions) optimizeOptions() (optimize.Options, error) {
 	case "cost":
 		opt.Rank = optimize.RankCost
 	default:
-		return opt, fault.Invalidf("--rank must be balanced, error, parts, unique, cost or yield, not %q", o.rank)
+		return opt, fault.Invalidf("--rank must be yield, balanced, error, parts, unique or cost, not %q", o.rank)
 	}
 	if strings.TrimSpace(o.minVoltage) != "" {
 		v, err := stock.ParseVoltage(o.minVoltage)
@@ -266,15 +266,28 @@ func doFit(env *Env, o *fitOptions) (*fitRun, error) {
 	if len(items) == 0 {
 		return nil, fault.Infeasiblef("the stock (%s) is empty: import a CSV with `drawerfit stock import FILE`, or fit against one with --stock FILE", source)
 	}
+	topt, err := o.checks.tol.tolOptions()
+	if err != nil {
+		return nil, err
+	}
+	topt.Boards, topt.Refit = 0, nil
+	ro := tolerance.RankOptions{Options: topt}
 	start := env.Now()
 	prog := newProgress(env, "fitting")
 	opt.Progress = prog.update
-	res, err := optimize.Fit(env.Ctx, items, spec, opt)
+	var res *optimize.Result
+	var rk *tolerance.Ranking
+	if o.checks.rankYield {
+		res, rk, err = tolerance.FitByYield(env.Ctx, items, spec, opt, ro)
+	} else {
+		res, err = optimize.Fit(env.Ctx, items, spec, opt)
+	}
 	prog.done()
 	if err != nil {
 		return nil, err
 	}
-	return &fitRun{spec: res.Spec, opts: opt, result: res, source: source, elapsed: env.Now().Sub(start), items: items, ctx: env.Ctx}, nil
+	return &fitRun{spec: res.Spec, opts: opt, result: res, source: source, elapsed: env.Now().Sub(start), items: items, ctx: env.Ctx,
+		rank: ro, ranking: rk}, nil
 }
 
 func runFit(env *Env, o *fitOptions) error {
@@ -371,7 +384,7 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 			c.CostPerBoard.String(), strconv.Itoa(c.BoardsBuildable), strings.TrimSpace(mark))
 	}
 	addIDColumn(g, run.ids)
-	run.checks.printTable(env, w, g, res.Candidates)
+	run.checks.printTable(env, w, g, run)
 	fmt.Fprintf(w, "\nRanked %s; error = largest deviation from the ideal %s response; '*' = on the Pareto front of error, parts and unique parts.\n",
 		rankTextFor(run), approxName(res.Spec))
 	fmt.Fprintln(w, costText(res.Candidates, run.opts.Boards))
@@ -492,8 +505,8 @@ func combineText(n int) string {
 // rankTextFor is rankText, naming the re-sort by yield when --rank yield
 // asked for it.
 func rankTextFor(run *fitRun) string {
-	if run.checks != nil && run.checks.opts.rankYield {
-		return "by simulated yield (of the candidates the " + rankText(run.opts) + " search kept)"
+	if rk := run.ranking; rk != nil {
+		return rk.Method()
 	}
 	return rankText(run.opts)
 }

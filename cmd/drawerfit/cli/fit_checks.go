@@ -30,11 +30,14 @@ import (
 // fitCheckOptions are fit's flags for the checks and the build sheet.
 type fitCheckOptions struct {
 	yield     bool
-	rankYield bool // --rank yield: list the candidates by simulated yield
-	tol       yieldOptions
-	report    string
-	png       string
-	force     bool // replace existing output files
+	rankYield bool // --rank yield (the default): list the candidates by simulated yield
+	// always: the yield of every listed candidate is always computed (fit),
+	// so the tolerance flags need no --yield.
+	always bool
+	tol    yieldOptions
+	report string
+	png    string
+	force  bool // replace existing output files
 }
 
 // toleranceOnlyFlags are the flags that mean nothing without --yield.
@@ -105,9 +108,7 @@ the plots as PNG files.`
 func prepareFitChecks(f *pflag.FlagSet, o *fitOptions) error {
 	c := &o.checks
 	c.rankYield = strings.EqualFold(strings.TrimSpace(o.rank), "yield")
-	if c.rankYield {
-		c.yield = true
-	}
+	c.always = o.plan == ""
 	if o.plan != "" && (c.yield || c.tol.gbw != "" || c.tol.biasResistor || c.report != "" || c.png != "") {
 		return fault.Invalidf("--yield, --gbw, --bias-resistor, --report and --png apply to a single filter, not to --plan")
 	}
@@ -120,14 +121,14 @@ func prepareFitChecks(f *pflag.FlagSet, o *fitOptions) error {
 // validate checks the check flags; f tells which were given.
 func (c *fitCheckOptions) validate(f *pflag.FlagSet) error {
 	c.tol.dcGainSet = f.Changed("dc-gain")
-	if !c.yield {
+	if !c.yield && !c.always {
 		for _, n := range toleranceOnlyFlags {
 			if f.Changed(n) {
 				return fault.Invalidf("--%s sets up the yield analysis: add --yield", n)
 			}
 		}
 	}
-	if c.yield {
+	if c.yield || c.always {
 		if c.tol.trials < 1 || c.tol.trials > tolerance.MaxTrials {
 			return fault.Invalidf("--trials must be between 1 and %d, got %d", tolerance.MaxTrials, c.tol.trials)
 		}
@@ -154,15 +155,23 @@ func (c *fitCheckOptions) opAmp() (*synth.OpAmp, error) {
 
 // fitChecks holds what the checks found, per candidate.
 type fitChecks struct {
-	opts  *fitCheckOptions
-	op    *synth.OpAmp
-	byCan map[*optimize.Candidate]*candidateChecks
+	opts    *fitCheckOptions
+	tolOpts tolerance.Options // the Monte Carlo's options
+	spec    synth.Spec
+	op      *synth.OpAmp
+	byCan   map[*optimize.Candidate]*candidateChecks
 }
 
 // candidateChecks are one candidate's check results.
 type candidateChecks struct {
-	practical   []string
-	opAmp       *tolerance.OpAmpReport
+	practical []string
+	opAmp     *tolerance.OpAmpReport
+	// est is the candidate's yield (the ranking's confirmed estimate), and
+	// estWarn names parts simulated with a default tolerance.
+	est     *tolerance.Estimate
+	estWarn []string
+	// yield is the analysis of the best candidate: the Monte Carlo with the
+	// blame, and with --yield the corners and the advice.
 	yield       *tolerance.Result
 	yieldRank   int // 1 = highest yield among the listed candidates
 	bias        []fittedBias
@@ -186,6 +195,8 @@ func (cc *candidateChecks) warnings() []string {
 	}
 	if cc.yield != nil {
 		w = append(w, cc.yield.Warnings...)
+	} else {
+		w = append(w, cc.estWarn...)
 	}
 	if cc.biasProblem != "" {
 		w = append(w, cc.biasProblem)
@@ -200,49 +211,43 @@ func (fc *fitChecks) of(c *optimize.Candidate) *candidateChecks {
 	return fc.byCan[c]
 }
 
-// runFitChecks runs the checks on the listed candidates of run, orders them
-// by yield for --rank yield, and writes the build sheet and plots. It is
-// called right after the search.
+// runFitChecks runs the checks on the listed candidates of run: the yield
+// of every one (from the ranking, or estimated here for another --rank),
+// the yield analysis of the best, the op-amp, bias and practical checks;
+// and writes the build sheet and plots. It is called right after the
+// search.
 func runFitChecks(env *Env, o *fitOptions, run *fitRun) error {
 	co := &o.checks
 	op, err := co.opAmp()
 	if err != nil {
 		return err
 	}
-	fc := &fitChecks{opts: co, op: op, byCan: map[*optimize.Candidate]*candidateChecks{}}
+	fc := &fitChecks{opts: co, op: op, byCan: map[*optimize.Candidate]*candidateChecks{},
+		tolOpts: run.rank.Options, spec: run.result.Spec}
 	run.checks = fc
 	res := run.result
-	var topt tolerance.Options
-	if co.yield {
-		if o.boards > 1 {
-			co.tol.boards = o.boards
-		}
-		if topt, err = co.tol.tolOptions(); err != nil {
-			return err
-		}
-	}
 	for _, c := range res.Candidates {
-		brief := topt
-		// Brief: only the Monte Carlo and the blame, for ranking.
-		brief.Brief, brief.Refit, brief.Boards = true, nil, 0
-		if fc.byCan[c], err = co.check(c, res.Spec, op, brief, run); err != nil {
+		if fc.byCan[c], err = co.check(c, res.Spec, op, run); err != nil {
 			return err
 		}
 	}
-	if co.yield && len(res.Candidates) > 0 {
-		rankByYield(res.Candidates, fc)
-		if co.rankYield {
-			sort.SliceStable(res.Candidates, func(a, b int) bool {
-				return fc.byCan[res.Candidates[a]].yieldRank < fc.byCan[res.Candidates[b]].yieldRank
-			})
-			res.Notes = append(res.Notes, "--rank yield: the candidates the balanced search kept are listed by simulated yield, highest first; equal yields keep the balanced order. Yields whose intervals overlap are not clearly different.")
-		}
-		// The best candidate gets the full analysis: corners, computed
-		// advice, the forecast for --boards and the refit. The same seed
-		// gives it the same yield as in the ranking.
+	if err := fc.estimate(run); err != nil {
+		return err
+	}
+	if len(res.Candidates) > 0 && res.Candidates[0].MeetsSpec {
+		// The best candidate's analysis: the blame (which parts cause the
+		// failures) and the nominal margins; with --yield also the corners,
+		// the computed advice, the forecast for --boards and the refit. The
+		// same seed gives it the same yield as in the ranking.
 		best := res.Candidates[0]
-		full := topt
-		full.Refit = refitFor(run, best)
+		full := run.rank.Options
+		full.Brief = !co.yield
+		if co.yield {
+			if o.boards > 1 {
+				full.Boards = o.boards
+			}
+			full.Refit = refitFor(run, best)
+		}
 		r, err := tolerance.Run(run.context(), best, res.Spec, full)
 		if err != nil {
 			return fmt.Errorf("yield of the best candidate: %w", err)
@@ -255,10 +260,38 @@ func runFitChecks(env *Env, o *fitOptions, run *fitRun) error {
 	return nil
 }
 
+// estimate fills every listed candidate's yield: the ranking's confirmed
+// estimates, or for another --rank the same Monte Carlo run here (the
+// same options and draws), and its place by yield.
+func (fc *fitChecks) estimate(run *fitRun) error {
+	cands := run.result.Candidates
+	if rk := run.ranking; rk != nil {
+		for _, l := range rk.Listed {
+			if cc := fc.byCan[l.Candidate]; cc != nil {
+				y := l.Yield
+				cc.est, cc.estWarn = &y, l.Warnings
+			}
+		}
+	}
+	for _, c := range cands {
+		cc := fc.byCan[c]
+		if cc.est != nil || !c.MeetsSpec {
+			continue
+		}
+		y, warn, err := tolerance.Yield(run.context(), c, run.result.Spec, run.rank.Options)
+		if err != nil {
+			return fmt.Errorf("yield analysis: %w", err)
+		}
+		cc.est, cc.estWarn = &y, warn
+	}
+	rankByYield(cands, fc)
+	return nil
+}
+
 // check runs the checks the options ask for on candidate c against spec:
 // the practical warnings always, the op-amp check with op, the bias
 // resistors fitted from run's stock, and the yield with topt.
-func (co *fitCheckOptions) check(c *optimize.Candidate, spec synth.Spec, op *synth.OpAmp, topt tolerance.Options, run *fitRun) (*candidateChecks, error) {
+func (co *fitCheckOptions) check(c *optimize.Candidate, spec synth.Spec, op *synth.OpAmp, run *fitRun) (*candidateChecks, error) {
 	cc := &candidateChecks{}
 	var err error
 	if cc.practical, err = tolerance.Practical(c); err != nil {
@@ -272,23 +305,24 @@ func (co *fitCheckOptions) check(c *optimize.Candidate, spec synth.Spec, op *syn
 	if co.tol.biasResistor {
 		cc.bias, cc.biasProblem = fitBiasResistors(c, run)
 	}
-	if co.yield {
-		if cc.yield, err = tolerance.Run(run.context(), c, spec, topt); err != nil {
-			return nil, fmt.Errorf("yield analysis: %w", err)
-		}
-	}
 	return cc, nil
 }
 
-// rankByYield gives every candidate its place by yield: most passing
-// trials first, ties in list order.
+// rankByYield gives every candidate with a yield its place by yield: most
+// passing trials first, ties in list order.
 func rankByYield(cands []*optimize.Candidate, fc *fitChecks) {
+	passed := func(c *optimize.Candidate) int {
+		if e := fc.byCan[c].est; e != nil {
+			return e.Passed
+		}
+		return -1
+	}
 	idx := make([]int, len(cands))
 	for i := range idx {
 		idx[i] = i
 	}
 	sort.SliceStable(idx, func(a, b int) bool {
-		return fc.byCan[cands[idx[a]]].yield.Passed > fc.byCan[cands[idx[b]]].yield.Passed
+		return passed(cands[idx[a]]) > passed(cands[idx[b]])
 	})
 	for place, i := range idx {
 		fc.byCan[cands[i]].yieldRank = place + 1
@@ -334,17 +368,16 @@ func fitBiasResistors(c *optimize.Candidate, run *fitRun) ([]fittedBias, string)
 
 // printFitTable adds the checks' columns to the candidate table, renders
 // it and explains the columns.
-func (fc *fitChecks) printTable(env *Env, w io.Writer, g *grid, cands []*optimize.Candidate) {
+func (fc *fitChecks) printTable(env *Env, w io.Writer, g *grid, run *fitRun) {
+	cands := run.result.Candidates
 	if fc == nil || len(cands) == 0 {
 		g.render(env, w)
 		return
 	}
 	n := len(g.header)
-	if fc.opts.yield {
-		g.header = append(g.header, "yield", "95% interval", "by yield")
-		g.right(n, n+1, n+2)
-		n += 3
-	}
+	g.header = append(g.header, "yield % (95% CI)")
+	g.right(n)
+	n++
 	if fc.op != nil {
 		g.header = append(g.header, "op-amp dB", "GBW rule")
 		g.right(n)
@@ -358,14 +391,15 @@ func (fc *fitChecks) printTable(env *Env, w io.Writer, g *grid, cands []*optimiz
 		if cc == nil {
 			continue
 		}
-		if fc.opts.yield && cc.yield != nil {
-			y := yieldPct(cc.yield.Yield)
-			if len(cc.yield.Warnings) > 0 {
-				y += " !"
+		cell := "-"
+		if e := cc.est; e != nil {
+			cell = yieldCell(*e)
+			if len(cc.estWarn) > 0 {
+				cell += " !"
 				warned = true
 			}
-			g.rows[i] = append(g.rows[i], y, yieldPct(cc.yield.CILow)+" to "+yieldPct(cc.yield.CIHigh), strconv.Itoa(cc.yieldRank))
 		}
+		g.rows[i] = append(g.rows[i], cell)
 		if fc.op != nil && cc.opAmp != nil {
 			low := 0
 			for _, s := range cc.opAmp.Sections {
@@ -381,17 +415,15 @@ func (fc *fitChecks) printTable(env *Env, w io.Writer, g *grid, cands []*optimiz
 		}
 	}
 	g.render(env, w)
-	if fc.opts.yield {
-		r := fc.byCan[cands[0]].yield
-		how := "uniform within"
-		if r.Dist == tolerance.Normal {
-			how = "normal, tolerance = 3 sigma, about"
-		}
-		fmt.Fprintf(w, "\nyield = share of %d simulated boards per candidate that meet the specification (parts %s their stock tolerances, seed %d, the same draws for every candidate); 95%% Wilson interval; 'by yield' = place among the listed candidates.\n",
-			r.Trials, how, r.Seed)
-		if warned {
-			fmt.Fprintln(w, "'!' = the yield analysis warns about this candidate (for #1 the warning is below; all are in --json).")
-		}
+	o := run.rank.Options
+	how := "uniform within"
+	if o.Dist == tolerance.Normal {
+		how = "normal, tolerance = 3 sigma, about"
+	}
+	fmt.Fprintf(w, "\nyield = share of %d simulated boards that meet the specification (parts %s their stock tolerances, seed %d, the same draws for every candidate), with its 95%% Wilson interval.\n",
+		o.Trials, how, o.Seed)
+	if warned {
+		fmt.Fprintln(w, "'!' = some parts have no tolerance in stock and were simulated with a default (see the warning; all are in --json).")
 	}
 	if fc.op != nil {
 		fmt.Fprintf(w, "op-amp dB = largest response change a single-pole op-amp of %s gain-bandwidth and %.0f dB DC gain adds; GBW rule = sections whose gain-bandwidth is below the rule of %s.\n",
@@ -451,6 +483,16 @@ func printFitChecks(env *Env, w io.Writer, run *fitRun, c *optimize.Candidate) {
 	if r := cc.yield; r != nil {
 		fmt.Fprintf(w, "Yield: %s of %d simulated boards pass (95%% interval %s to %s), seed %d; %d fail at the passband limit, %d at the stopband limit\n",
 			yieldPct(r.Yield), r.Trials, yieldPct(r.CILow), yieldPct(r.CIHigh), r.Seed, r.FailPassband, r.FailStopband)
+		pm, sm := nominalMargins(r, run.result.Spec)
+		margins := fmt.Sprintf("Margins of the board with nominal parts: %.2f dB at fp", pm)
+		if sm != nil {
+			margins += fmt.Sprintf(", %.2f dB at fs", *sm)
+		}
+		if r.PassAtten != nil {
+			margins += fmt.Sprintf("; over the simulated boards the passband figure spans %.2f to %.2f dB (5th to 95th percentile, limit %.3g dB)",
+				r.PassAtten.P5, r.PassAtten.P95, run.result.Spec.PassAtten)
+		}
+		fmt.Fprintln(w, margins)
 		if b := r.Boards; b != nil {
 			fmt.Fprintf(w, "Of %d boards built, expect about %.0f to pass (95%% range %d to %d)\n", b.Built, b.Expected, b.Low, b.High)
 		}
@@ -461,11 +503,16 @@ func printFitChecks(env *Env, w io.Writer, run *fitRun, c *optimize.Candidate) {
 			}
 			blame = append(blame, fmt.Sprintf("%s of section %d %s", b.Ref, b.Section, yieldPct(b.Share)))
 		}
-		if len(blame) > 0 {
+		switch {
+		case len(blame) > 0:
 			fmt.Fprintln(w, "Failures come mostly from: "+strings.Join(blame, ", "))
+		case r.Passed < r.Trials:
+			fmt.Fprintln(w, "No single part explains the failures: they come from several parts together.")
 		}
-		for _, a := range r.Advice {
-			fmt.Fprintln(w, a)
+		if fc := run.checks; fc.opts.yield {
+			for _, a := range r.Advice {
+				fmt.Fprintln(w, a)
+			}
 		}
 	}
 	for _, s := range cc.warnings() {
@@ -489,25 +536,36 @@ func offBy(v, want float64) string {
 // JSON of the checks, per candidate (omitted when not run).
 
 type jsonYield struct {
-	Yield        float64              `json:"yield"`
-	CILow        float64              `json:"ci_low"`
-	CIHigh       float64              `json:"ci_high"`
-	Trials       int                  `json:"trials"`
-	Passed       int                  `json:"passed"`
-	Seed         uint64               `json:"seed"`
-	Dist         string               `json:"dist"`
-	PassMargin   float64              `json:"pass_margin_db"`
-	StopMargin   float64              `json:"stop_margin_db"`
-	RankByYield  int                  `json:"rank_by_yield"`
-	FailPassband int                  `json:"fail_passband"`
-	FailStopband int                  `json:"fail_stopband"`
-	Blame        []tolerance.Blame    `json:"blame"`
-	Unattributed float64              `json:"unattributed"`
-	Boards       *tolerance.Boards    `json:"boards,omitempty"`
-	Needed       *tolerance.Margins   `json:"needed_margin,omitempty"`
-	WorstCase    *tolerance.WorstCase `json:"worst_case,omitempty"`
-	Refit        *tolerance.Refit     `json:"refit,omitempty"`
-	Advice       []string             `json:"advice,omitempty"`
+	Fraction      float64 `json:"fraction"`
+	CILow         float64 `json:"ci_low"`
+	CIHigh        float64 `json:"ci_high"`
+	Trials        int     `json:"trials"`
+	Seed          uint64  `json:"seed"`
+	Passed        int     `json:"passed"`
+	Dist          string  `json:"dist"`
+	PassMargin    float64 `json:"pass_margin_db"`
+	StopMargin    float64 `json:"stop_margin_db"`
+	TargetYield   float64 `json:"target_yield"`
+	ReachesTarget bool    `json:"reaches_target"`
+	RankByYield   int     `json:"rank_by_yield"`
+	// Analysis is the best candidate's (the failures and their causes;
+	// with --yield the corners and the advice).
+	Analysis *jsonYieldAnalysis `json:"analysis,omitempty"`
+}
+
+// jsonYieldAnalysis is the yield analysis of the best candidate.
+type jsonYieldAnalysis struct {
+	NominalPassMargin float64              `json:"nominal_pass_margin_db"`
+	NominalStopMargin *float64             `json:"nominal_stop_margin_db,omitempty"`
+	FailPassband      int                  `json:"fail_passband"`
+	FailStopband      int                  `json:"fail_stopband"`
+	Blame             []tolerance.Blame    `json:"blame"`
+	Unattributed      float64              `json:"unattributed"`
+	Boards            *tolerance.Boards    `json:"boards,omitempty"`
+	Needed            *tolerance.Margins   `json:"needed_margin,omitempty"`
+	WorstCase         *tolerance.WorstCase `json:"worst_case,omitempty"`
+	Refit             *tolerance.Refit     `json:"refit,omitempty"`
+	Advice            []string             `json:"advice,omitempty"`
 }
 
 // jsonOpAmp is the op-amp check of one candidate.
@@ -532,14 +590,24 @@ func (fc *fitChecks) fillJSON(jc *jsonCandidate, c *optimize.Candidate) {
 	}
 	jc.Warnings = cc.warnings()
 	jc.OpAmp = cc.opAmp
-	if r := cc.yield; r != nil {
-		jy := &jsonYield{Yield: r.Yield, CILow: r.CILow, CIHigh: r.CIHigh, Trials: r.Trials, Passed: r.Passed,
-			Seed: r.Seed, Dist: string(r.Dist), PassMargin: r.PassMargin, StopMargin: r.StopMargin,
-			RankByYield: cc.yieldRank, FailPassband: r.FailPassband, FailStopband: r.FailStopband,
-			Blame: r.Blame, Unattributed: r.Unattributed, Boards: r.Boards, Needed: r.Needed,
-			WorstCase: r.WorstCase, Refit: r.Refit, Advice: r.Advice}
-		if jy.Blame == nil {
-			jy.Blame = []tolerance.Blame{}
+	if e := cc.est; e != nil {
+		o := fc.tolOpts
+		jy := &jsonYield{Fraction: e.Fraction, CILow: e.CILow, CIHigh: e.CIHigh, Trials: e.Trials, Seed: e.Seed,
+			Passed: e.Passed, Dist: string(o.Dist), PassMargin: o.PassMargin, StopMargin: o.StopMargin,
+			TargetYield: o.TargetYield, ReachesTarget: e.Fraction >= o.TargetYield, RankByYield: cc.yieldRank}
+		if r := cc.yield; r != nil {
+			pm, sm := nominalMargins(r, fc.spec)
+			an := &jsonYieldAnalysis{NominalPassMargin: pm, NominalStopMargin: sm,
+				FailPassband: r.FailPassband, FailStopband: r.FailStopband,
+				Blame: r.Blame, Unattributed: r.Unattributed, Boards: r.Boards, Needed: r.Needed,
+				WorstCase: r.WorstCase, Refit: r.Refit}
+			if fc.opts.yield {
+				an.Advice = r.Advice
+			}
+			if an.Blame == nil {
+				an.Blame = []tolerance.Blame{}
+			}
+			jy.Analysis = an
 		}
 		jc.Yield = jy
 	}
@@ -652,4 +720,23 @@ func writeSheetFiles(env *Env, s *report.Sheet, path, pngDir, prefix string, for
 		fmt.Fprintln(env.Err, "plots written to "+strings.Join(files, ", "))
 	}
 	return nil
+}
+
+// nominalMargins are the best board's margins with nominal parts: Ap minus
+// its passband figure, and its attenuation at fs minus As (nil without a
+// stopband), dB.
+func nominalMargins(r *tolerance.Result, spec synth.Spec) (float64, *float64) {
+	pm := spec.PassAtten - r.Nominal.PassAtten
+	if r.Nominal.StopAtten == nil {
+		return pm, nil
+	}
+	sm := *r.Nominal.StopAtten - spec.StopAtten
+	return pm, &sm
+}
+
+// yieldCell writes a yield and its 95 % interval compactly, in percent:
+// "99.6 (99.2-99.8)".
+func yieldCell(e tolerance.Estimate) string {
+	f := func(x float64) string { return strconv.FormatFloat(100*x, 'f', 1, 64) }
+	return f(e.Fraction) + " (" + f(e.CILow) + "-" + f(e.CIHigh) + ")"
 }

@@ -67,24 +67,24 @@ func wilsonRef(k, n int) (lo, hi float64) {
 
 func TestFitYieldText(t *testing.T) {
 	t.Parallel()
-	// A 2nd-order Butterworth places its -3 dB point on fp by construction,
-	// so its nominal sits on the passband limit (issue text: about half the
-	// boards fail).
+	// A 2nd-order Butterworth given only by its order has no slack: its
+	// -3 dB point stays on fp (the classical placement), so its nominal
+	// sits on the passband limit (issue text: about half the boards fail).
 	code, out, errs := runChecksFit(t, "fit", "lowpass", "--pass", "10k", "--order", "2", "--combine", "1",
 		"--stock", checksStock, "--top", "3", "--yield", "--trials", "300", "--seed", "4")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
 	for _, want := range []string{
-		"yield\t95% interval\tby yield", "300 simulated boards per candidate", "seed 4",
-		"Yield: ", "sits on the passband limit", "Wilson",
+		"yield % (95% CI)", "300 simulated boards", "seed 4", "Wilson", "Ranked by yield: those reaching the target 95.0% first",
+		"Yield: ", "sits on the passband limit", "classical placement", "no stopband limit",
 	} {
 		if !strings.Contains(out, want) {
 			t.Errorf("output lacks %q:\n%s", want, out)
 		}
 	}
 	// Every table row carries a yield and its interval, the yield inside it.
-	row := regexp.MustCompile(`(?m)^\d+\t.*\t([0-9.]+)% !?\t([0-9.]+)% to ([0-9.]+)%\t(\d+)$`)
+	row := regexp.MustCompile(`(?m)^\d+\t.*\t([0-9.]+) \(([0-9.]+)-([0-9.]+)\)( !)?$`)
 	rows := row.FindAllStringSubmatch(out, -1)
 	if len(rows) == 0 {
 		t.Fatalf("no table rows with a yield:\n%s", out)
@@ -105,7 +105,7 @@ func TestFitYieldText(t *testing.T) {
 func TestFitYieldJSON(t *testing.T) {
 	t.Parallel()
 	args := []string{"fit", "lowpass", "--pass", "1k", "--stop", "3k", "--atten", "25", "--order", "3", "--odd", "1pole", "--combine", "1",
-		"--stock", checksStock, "--top", "4", "--yield", "--trials", "250", "--seed", "11"}
+		"--stock", checksStock, "--top", "4", "--trials", "250", "--seed", "11"}
 	f := checksFitJSON(t, args...)
 	for i, c := range f.Candidates {
 		y := c.Yield
@@ -116,20 +116,24 @@ func TestFitYieldJSON(t *testing.T) {
 			t.Errorf("candidate %d: trials %d seed %d, want 250 and 11", i+1, y.Trials, y.Seed)
 		}
 		lo, hi := wilsonRef(y.Passed, y.Trials)
-		if math.Abs(y.Yield-float64(y.Passed)/250) > 1e-12 || math.Abs(y.CILow-lo) > 1e-6 || math.Abs(y.CIHigh-hi) > 1e-6 {
-			t.Errorf("candidate %d: yield %v [%v, %v], want %v [%v, %v] (Wilson)", i+1, y.Yield, y.CILow, y.CIHigh,
+		if math.Abs(y.Fraction-float64(y.Passed)/250) > 1e-12 || math.Abs(y.CILow-lo) > 1e-6 || math.Abs(y.CIHigh-hi) > 1e-6 {
+			t.Errorf("candidate %d: yield %v [%v, %v], want %v [%v, %v] (Wilson)", i+1, y.Fraction, y.CILow, y.CIHigh,
 				float64(y.Passed)/250, lo, hi)
 		}
-		if y.Blame == nil {
-			t.Errorf("candidate %d: blame missing", i+1)
+		if (i == 0) != (y.Analysis != nil) {
+			t.Errorf("candidate %d: analysis %v, want it for the best only", i+1, y.Analysis != nil)
 		}
-		share := 0.0
-		for _, b := range y.Blame {
-			share += b.Share
-		}
-		if y.Passed < y.Trials && math.Abs(share+y.Unattributed-1) > 1e-9 {
-			t.Errorf("candidate %d: blame shares add up to %v with %v unattributed", i+1, share, y.Unattributed)
-		}
+	}
+	an := f.Candidates[0].Yield.Analysis
+	share := 0.0
+	for _, b := range an.Blame {
+		share += b.Share
+	}
+	if y := f.Candidates[0].Yield; y.Passed < y.Trials && math.Abs(share+an.Unattributed-1) > 1e-9 {
+		t.Errorf("blame shares add up to %v with %v unattributed", share, an.Unattributed)
+	}
+	if an.WorstCase != nil || an.Advice != nil {
+		t.Error("corners or advice without --yield")
 	}
 	// The raw keys the issue asks for.
 	withJSON := append(append([]string(nil), args...), "--json")
@@ -144,15 +148,15 @@ func TestFitYieldJSON(t *testing.T) {
 	if err := json.Unmarshal(raw.Candidates[0]["yield"], &yo); err != nil {
 		t.Fatal(err)
 	}
-	for _, k := range []string{"yield", "ci_low", "ci_high", "trials", "seed", "blame"} {
+	for _, k := range []string{"fraction", "ci_low", "ci_high", "trials", "seed", "analysis"} {
 		if _, ok := yo[k]; !ok {
 			t.Errorf("yield object lacks %q", k)
 		}
 	}
-	// Without --yield there is no yield key.
-	plain := checksFitJSON(t, append([]string(nil), args[:len(args)-5]...)...)
-	if plain.Candidates[0].Yield != nil {
-		t.Error("yield object without --yield")
+	// With --yield the best gets the corners and the advice.
+	full := checksFitJSON(t, append(append([]string(nil), args...), "--yield")...)
+	if a := full.Candidates[0].Yield.Analysis; a == nil || a.WorstCase == nil || len(a.Advice) == 0 {
+		t.Error("--yield: no corners or advice for the best candidate")
 	}
 	// Same seed, same answer.
 	if _, again, _ := runChecksFit(t, withJSON...); again != out {
@@ -160,27 +164,39 @@ func TestFitYieldJSON(t *testing.T) {
 	}
 }
 
+// TestFitRankYield checks the default ranking's order: candidates whose
+// yield reaches the target first, by parts, unique parts, then yield; then
+// the rest by yield.
 func TestFitRankYield(t *testing.T) {
 	t.Parallel()
-	f := checksFitJSON(t, "fit", "lowpass", "--pass", "1k", "--stop", "3k", "--atten", "25", "--order", "3", "--odd", "1pole", "--combine", "1",
-		"--stock", checksStock, "--top", "5", "--rank", "yield", "--trials", "250")
-	for i, c := range f.Candidates {
-		if c.Yield == nil {
-			t.Fatalf("--rank yield: candidate %d has no yield", i+1)
+	for _, target := range []string{"95%", "99.9%"} {
+		f := checksFitJSON(t, "fit", "lowpass", "--pass", "1k", "--stop", "3k", "--atten", "25", "--order", "3", "--odd", "1pole", "--combine", "1",
+			"--stock", checksStock, "--top", "6", "--trials", "250", "--target-yield", target)
+		for i, c := range f.Candidates {
+			if c.Yield == nil {
+				t.Fatalf("candidate %d has no yield", i+1)
+			}
+			if i == 0 {
+				continue
+			}
+			p, y := f.Candidates[i-1], c.Yield
+			py := p.Yield
+			switch {
+			case py.ReachesTarget && y.ReachesTarget:
+				if p.PartCount > c.PartCount || p.PartCount == c.PartCount && (p.UniqueParts > c.UniqueParts ||
+					p.UniqueParts == c.UniqueParts && py.Passed < y.Passed) {
+					t.Errorf("target %s: #%d (%d parts, %d unique, %d passed) before #%d (%d, %d, %d)", target, i, p.PartCount,
+						p.UniqueParts, py.Passed, i+1, c.PartCount, c.UniqueParts, y.Passed)
+				}
+			case !py.ReachesTarget && y.ReachesTarget:
+				t.Errorf("target %s: #%d misses the target but comes before #%d, which reaches it", target, i, i+1)
+			case !py.ReachesTarget && py.Passed < y.Passed:
+				t.Errorf("target %s: #%d passes %d trials, fewer than #%d's %d", target, i, py.Passed, i+1, y.Passed)
+			}
+			if y.ReachesTarget != (y.Fraction >= y.TargetYield) {
+				t.Errorf("candidate %d: reaches_target %v with %v of %v", i+1, y.ReachesTarget, y.Fraction, y.TargetYield)
+			}
 		}
-		if c.Yield.RankByYield != i+1 {
-			t.Errorf("candidate %d has rank_by_yield %d", i+1, c.Yield.RankByYield)
-		}
-		if i > 0 && c.Yield.Passed > f.Candidates[i-1].Yield.Passed {
-			t.Errorf("candidate %d passes %d trials, more than #%d's %d", i+1, c.Yield.Passed, i, f.Candidates[i-1].Yield.Passed)
-		}
-	}
-	noted := false
-	for _, n := range f.Notes {
-		noted = noted || strings.Contains(n, "by simulated yield")
-	}
-	if !noted {
-		t.Errorf("no note on the yield order: %v", f.Notes)
 	}
 }
 
@@ -522,7 +538,6 @@ func TestFitCheckErrors(t *testing.T) {
 		{"dc gain without gbw", []string{"--dc-gain", "90"}},
 		{"zero dc gain", []string{"--gbw", "1M", "--dc-gain", "0"}},
 		{"zero trials", []string{"--yield", "--trials", "0"}},
-		{"trials without yield", []string{"--trials", "100"}},
 		{"bad distribution", []string{"--yield", "--dist", "triangle"}},
 		{"bad target", []string{"--yield", "--target-yield", "120%"}},
 		{"negative margin", []string{"--yield", "--pass-margin", "-1"}},

@@ -169,9 +169,14 @@ func runReport(env *Env, o *reportOptions, id string) error {
 		if co.yield {
 			t.Refit = refitFor(run, c)
 		}
-		cc, err := co.check(c, f.Spec, op, t, run)
+		cc, err := co.check(c, f.Spec, op, run)
 		if err != nil {
 			return fmt.Errorf("filter %d: %w", n+1, err)
+		}
+		if co.yield {
+			if cc.yield, err = tolerance.Run(run.context(), c, f.Spec, t); err != nil {
+				return fmt.Errorf("filter %d: yield analysis: %w", n+1, err)
+			}
 		}
 		s := checkSheet(env, c, cc, d.Boards, source)
 		s.Warnings = append(stockWarnings(n), s.Warnings...)
