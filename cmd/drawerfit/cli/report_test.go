@@ -129,7 +129,7 @@ func TestReportSavedDesign(t *testing.T) {
 			t.Fatalf("show: exit %d %s", code, errs)
 		}
 		row := strconv.FormatInt(show.StockUse[0].StockID, 10)
-		if code, _, errs := runChecksFit(t, "--db", db, "stock", "remove", row); code != 0 {
+		if code, _, errs := runChecksFit(t, "--db", db, "stock", "remove", row, "--force"); code != 0 {
 			t.Fatalf("remove: %s", errs)
 		}
 		out := filepath.Join(dir, "changed.html")

@@ -728,7 +728,9 @@ added again: build and show find the new row by its identity and say so.`,
   drawerfit stock remove 12 --force
   drawerfit stock add 4K7 --kind R --qty 38 --tol 1% --package 0805 --location A3`,
 		Args: cobra.ExactArgs(1),
-		RunE: func(cmd *cobra.Command, args []string) error { return runStockRemove(cmd.Context(), env, args[0], force) },
+		RunE: func(cmd *cobra.Command, args []string) error {
+			return runStockRemove(cmd.Context(), env, args[0], force)
+		},
 	}
 	cmd.Flags().BoolVar(&force, "force", false, "remove the row even though saved designs or standing builds use it")
 	return cmd
