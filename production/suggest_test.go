@@ -2,7 +2,6 @@ package production
 
 import (
 	"context"
-	"math"
 	"testing"
 
 	"drawerfit/internal/testkit"
@@ -200,7 +199,7 @@ func TestCandidateValuesAreSeriesNeighbours(t *testing.T) {
 	// (E12 below) and 2.2 nF (E6 below) (IEC 60063 E6 and E12 tables).
 	got = candidateValues(synth.Capacitor, []float64{3.0e-9}, o, nil)
 	for _, v := range got {
-		if math.Abs(v-3.3e-9) > 1e-15 && math.Abs(v-2.7e-9) > 1e-15 && math.Abs(v-2.2e-9) > 1e-15 {
+		if !testkit.Abs(1e-15).Equal(v, 3.3e-9) && !testkit.Abs(1e-15).Equal(v, 2.7e-9) && !testkit.Abs(1e-15).Equal(v, 2.2e-9) {
 			t.Fatalf("capacitor value %g not expected (%v)", v, got)
 		}
 	}

@@ -6,6 +6,7 @@ import (
 	"strings"
 	"testing"
 
+	"drawerfit/internal/testkit"
 	"drawerfit/respplot"
 	"drawerfit/synth"
 	"drawerfit/tolerance"
@@ -45,7 +46,7 @@ func TestEnvelope(t *testing.T) {
 		}
 		b := Envelope(z, EnvelopeOptions{Trials: 20, Freq: f})
 		for i := range f {
-			if math.Abs(b.Hi[i]-nominal[i]) > 1e-12 || math.Abs(b.Lo[i]-nominal[i]) > 1e-12 {
+			if !testkit.Abs(1e-12).Equal(b.Hi[i], nominal[i]) || !testkit.Abs(1e-12).Equal(b.Lo[i], nominal[i]) {
 				t.Errorf("at %g Hz band %.6f..%.6f, want the nominal %.6f", f[i], b.Lo[i], b.Hi[i], nominal[i])
 			}
 		}

@@ -11,6 +11,7 @@ import (
 	"strings"
 	"testing"
 
+	"drawerfit/internal/testkit"
 	"drawerfit/synth"
 )
 
@@ -97,10 +98,10 @@ func TestSample(t *testing.T) {
 	const f0 = 1000.0
 	for _, n := range []int{1, 2, 4} {
 		gain, phase, _ := Sample(butterworth(n, f0, false), []float64{f0 / 100, f0})
-		if math.Abs(gain[1]+10*math.Log10(2)) > 1e-9 {
+		if !testkit.Abs(1e-9).Equal(gain[1], -10*math.Log10(2)) {
 			t.Errorf("n=%d gain at edge %.6f dB, want -3.0103", n, gain[1])
 		}
-		if math.Abs(phase[1]+float64(n)*45) > 1e-6 {
+		if !testkit.Abs(1e-6).Equal(phase[1], -float64(n)*45) {
 			t.Errorf("n=%d phase at edge %.6f°, want %d°", n, phase[1], -45*n)
 		}
 	}
@@ -110,7 +111,7 @@ func TestSample(t *testing.T) {
 	for i, fi := range f {
 		w := 2 * math.Pi * fi
 		want := tau / (1 + w*w*tau*tau)
-		if math.Abs(d[i]-want) > 1e-6*want {
+		if !testkit.Rel(1e-6).Equal(d[i], want) {
 			t.Errorf("group delay at %g Hz = %g s, want %g", fi, d[i], want)
 		}
 	}
@@ -280,7 +281,7 @@ func TestRange(t *testing.T) {
 		t.Run(c.name, func(t *testing.T) {
 			r := Response{Kind: c.kind, Limits: c.l}
 			lo, hi := r.Range()
-			if math.Abs(lo-c.lo) > 1e-9*c.lo || math.Abs(hi-c.hi) > 1e-9*c.hi {
+			if !testkit.Rel(1e-9).Equal(lo, c.lo) || !testkit.Rel(1e-9).Equal(hi, c.hi) {
 				t.Errorf("range %g..%g, want %g..%g", lo, hi, c.lo, c.hi)
 			}
 		})
@@ -375,7 +376,7 @@ func TestShiftToZero(t *testing.T) {
 			got := append([]float64(nil), c.in...)
 			shiftToZero(got, len(got)-1)
 			for i := range got {
-				if math.Abs(got[i]-c.want[i]) > 1e-9 {
+				if !testkit.Abs(1e-9).Equal(got[i], c.want[i]) {
 					t.Errorf("got %v, want %v", got, c.want)
 					break
 				}
@@ -393,7 +394,7 @@ func TestPercentileBand(t *testing.T) {
 	b := PercentileBand("x", f, gains, 5, 95)
 	want := [][2]float64{{1.2, 4.8}, {-4 + 0.05*3, -1 - 0.05*3}}
 	for i := range f {
-		if math.Abs(b.Lo[i]-want[i][0]) > 1e-12 || math.Abs(b.Hi[i]-want[i][1]) > 1e-12 {
+		if !testkit.Abs(1e-12).Equal(b.Lo[i], want[i][0]) || !testkit.Abs(1e-12).Equal(b.Hi[i], want[i][1]) {
 			t.Errorf("at %g Hz band %g..%g, want %g..%g", f[i], b.Lo[i], b.Hi[i], want[i][0], want[i][1])
 		}
 	}

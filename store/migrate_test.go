@@ -183,6 +183,7 @@ func TestMigrationsFromEveryVersion(t *testing.T) {
 // (to allow table rebuilds), so the runner's check must refuse a step that
 // leaves the ledger pointing at a row that is gone.
 func TestMigrationBreakingForeignKeysRefused(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	path := filepath.Join(t.TempDir(), "dangling.db")
 	buildAtVersion(t, path, migrations.Latest())

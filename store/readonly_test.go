@@ -63,6 +63,7 @@ func unprivilegedRole(ctx context.Context, role string, arg func(int) string) bo
 }
 
 func TestReadOnlyDatabaseAsUnprivilegedUser(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("starts subprocesses")
 	}

@@ -15,6 +15,7 @@ import (
 // them as CSV, imports the file into a fresh database and checks that every
 // column comes back identical.
 func TestShopAttributesRoundTrip(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	in := "kind,value,quantity,tolerance,dielectric,location,voltage,price,min,pack,supplier-ref\n" +
 		"R,4k7,50,1%,,A1,,0.012,40,100,bag R-4K7\n" +
@@ -67,6 +68,7 @@ func TestShopAttributesRoundTrip(t *testing.T) {
 }
 
 func TestSetAttrsWritesLedgerNotes(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	db := openTest(t)
 	r, _, err := db.Add(ctx, res(t, "10k", 30, "A2"), "")
@@ -101,6 +103,7 @@ func TestSetAttrsWritesLedgerNotes(t *testing.T) {
 }
 
 func TestMergeFillsAttributesAndRefusesOtherRatings(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	db := openTest(t)
 	c := capa(t, "10n", 10, "C0G", "C1")

@@ -5,6 +5,8 @@ import (
 	"math/cmplx"
 	"math/rand/v2"
 	"testing"
+
+	"drawerfit/internal/testkit"
 )
 
 // TestGroupDelay checks the analytic group delay of every topology against
@@ -29,7 +31,7 @@ func TestGroupDelay(t *testing.T) {
 				const h = 1e-5 // relative step of the central difference
 				dphi := cmplx.Phase(st.Response(w*(1+h)) / st.Response(w*(1-h)))
 				num := -dphi / (2 * h * w)
-				if got := st.GroupDelay(w); math.Abs(got-num) > 1e-6*math.Abs(num)+1e-15 {
+				if got := st.GroupDelay(w); !testkit.AbsOrRel(1e-15, 1e-6).Equal(got, num) {
 					t.Fatalf("%g Hz: group delay %g s, numerical %g s", f, got, num)
 				}
 			}
@@ -81,7 +83,7 @@ func TestSolveReproducesSection(t *testing.T) {
 					for _, v := range sols {
 						_, den := top.Coeffs(v)
 						for k := 1; k <= top.poles; k++ {
-							if !relClose(den[k], sec.Den[k], 1e-8) {
+							if !testkit.Rel(1e-8).Equal(den[k], sec.Den[k]) {
 								t.Fatalf("section %d (%s): solution %v gives den %v, want %v", i+1, top.id, v, den, sec.Den)
 							}
 						}

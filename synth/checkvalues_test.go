@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"testing"
+
+	"drawerfit/internal/testkit"
 )
 
 // Check values from docs/check-values.md (the project's collection of
@@ -15,8 +17,6 @@ import (
 // bookTol is the relative tolerance against 4-5 digit book tables, which
 // truncate rather than round (docs/check-values.md, introduction).
 const bookTol = 5e-4
-
-func relClose(got, want, tol float64) bool { return math.Abs(got-want) <= tol*math.Abs(want) }
 
 // designAt builds the design of an approximation at a 1/(2π) Hz edge, so
 // that frequencies in Hz times 2π are the normalised rad/s of the tables.
@@ -99,10 +99,10 @@ func TestSectionTables(t *testing.T) {
 			}
 			for i, s := range d.Sections {
 				w0 := s.F0 * 2 * math.Pi
-				if c.want[i].w0 != 0 && math.Abs(w0-c.want[i].w0) > c.tol {
+				if c.want[i].w0 != 0 && !testkit.Abs(c.tol).Equal(w0, c.want[i].w0) {
 					t.Errorf("section %d: w0 %.6f, table %.5f", i+1, w0, c.want[i].w0)
 				}
-				if math.Abs(s.Q-c.want[i].q) > c.tol {
+				if !testkit.Abs(c.tol).Equal(s.Q, c.want[i].q) {
 					t.Errorf("section %d: Q %.6f, table %.5f", i+1, s.Q, c.want[i].q)
 				}
 			}
@@ -162,7 +162,7 @@ func TestNormalisedValueTables(t *testing.T) {
 			for i := range d.Sections {
 				got := tableOrder(t, d, i)
 				for j, w := range c.want[i] {
-					if !relClose(got[j], w, bookTol) {
+					if !testkit.Rel(bookTol).Equal(got[j], w) {
 						t.Errorf("section %d value %d: %.6g, table %.6g (all %v)", i+1, j+1, got[j], w, got)
 					}
 				}
@@ -181,7 +181,7 @@ func tableOrder(t *testing.T, d *Design, i int) []float64 {
 	}
 	top := d.Sections[i].Topology
 	for j, e := range top.elements {
-		if e.Kind == Resistor && math.Abs(v[j]-1) > 1e-15 {
+		if e.Kind == Resistor && !testkit.Abs(1e-15).Equal(v[j], 1) {
 			t.Fatalf("normalised resistor %s = %g, want 1", e.Ref, v[j])
 		}
 	}
@@ -221,13 +221,13 @@ func TestChebyshevClassicNormalisation(t *testing.T) {
 				target -= 0.5
 			}
 			f3 := crossing(d, target) * 2 * math.Pi
-			if !relClose(f3, c.conv, 1e-6) {
+			if !testkit.Rel(1e-6).Equal(f3, c.conv) {
 				t.Errorf("-3 dB re peak at %.7f × edge, check value %.6f", f3, c.conv)
 			}
 			for i := range d.Sections {
 				got := tableOrder(t, d, i)
 				for j, w := range c.want[i] {
-					if !relClose(got[j]*c.conv, w, bookTol) {
+					if !testkit.Rel(bookTol).Equal(got[j]*c.conv, w) {
 						t.Errorf("section %d value %d: %.6g, table %.6g", i+1, j+1, got[j]*c.conv, w)
 					}
 				}
@@ -243,7 +243,7 @@ func TestChebyshevClassicNormalisation(t *testing.T) {
 			if n%2 == 0 {
 				target--
 			}
-			if f3 := crossing(d, target) * 2 * math.Pi; !relClose(f3, conv, 1e-6) {
+			if f3 := crossing(d, target) * 2 * math.Pi; !testkit.Rel(1e-6).Equal(f3, conv) {
 				t.Errorf("-3 dB re peak at %.7f × edge, check value %.6f", f3, conv)
 			}
 		})
@@ -281,12 +281,12 @@ func TestBesselDelayHalfPower(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if got := crossing(d, HalfPowerDB) * 2 * math.Pi; !relClose(got, want, 1e-7) {
+			if got := crossing(d, HalfPowerDB) * 2 * math.Pi; !testkit.Rel(1e-7).Equal(got, want) {
 				t.Errorf("-3 dB at %.8f rad/s, check value %.7f", got, want)
 			}
 			// Unit group delay at DC is the definition of the reverse Bessel
 			// polynomial normalisation (docs/check-values.md, "Approximations").
-			if tau := d.TargetGroupDelay(0); math.Abs(tau-1) > 1e-12 {
+			if tau := d.TargetGroupDelay(0); !testkit.Abs(1e-12).Equal(tau, 1) {
 				t.Errorf("group delay at DC %.15f s, want 1", tau)
 			}
 		})
@@ -328,7 +328,7 @@ func TestAttenuationTables(t *testing.T) {
 				if c.a == Bessel {
 					tol = 0.006
 				}
-				if math.Abs(got-want) > tol {
+				if !testkit.Abs(tol).Equal(got, want) {
 					t.Errorf("%.5f dB, table %.5g", got, want)
 				}
 			})
@@ -380,7 +380,7 @@ func TestOrderTable(t *testing.T) {
 				if err := ns.Normalize(); err != nil {
 					t.Fatal(err)
 				}
-				if got := closedFormOrder(&ns); math.Abs(got-raw) > 5e-5 {
+				if got := closedFormOrder(&ns); !testkit.Abs(5e-5).Equal(got, raw) {
 					t.Errorf("%s raw order %.5f, table %.4f", a, got, raw)
 				}
 				got, err := MinOrder(s)
@@ -411,7 +411,7 @@ func TestWorkedExamples(t *testing.T) {
 			t.Fatal(err)
 		}
 		v := st[0].Values()
-		if !relClose(v[0], 3386, bookTol) || !relClose(v[1], 47e-9, 1e-12) {
+		if !testkit.Rel(bookTol).Equal(v[0], 3386) || !testkit.Rel(1e-12).Equal(v[1], 47e-9) {
 			t.Errorf("R %.2f Ω, C %g F; want 3.386 kΩ, 47 nF", v[0], v[1])
 		}
 	})
@@ -425,7 +425,7 @@ func TestWorkedExamples(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if v := st[0].Values(); !relClose(v[0], 3183, bookTol) {
+		if v := st[0].Values(); !testkit.Rel(bookTol).Equal(v[0], 3183) {
 			t.Errorf("stage 1 R %.1f Ω, want 3.183 kΩ", v[0])
 		}
 		// The pair stages with the book's capacitors; the resistors come
@@ -458,7 +458,7 @@ func TestWorkedExamples(t *testing.T) {
 			}
 			r := sols[0]
 			lo, hi := math.Min(r[0], r[1]), math.Max(r[0], r[1])
-			if !relClose(lo, c.r1, bookTol) || !relClose(hi, c.r2, bookTol) {
+			if !testkit.Rel(bookTol).Equal(lo, c.r1) || !testkit.Rel(bookTol).Equal(hi, c.r2) {
 				t.Errorf("Q %g: resistors %.1f, %.1f; book %g, %g", c.q, lo, hi, c.r1, c.r2)
 			}
 		}
@@ -475,11 +475,11 @@ func TestWorkedExamples(t *testing.T) {
 			t.Fatal(err)
 		}
 		v0, v1 := st[0].Values(), st[1].Values()
-		if !relClose(v0[1], 2105, bookTol) {
+		if !testkit.Rel(bookTol).Equal(v0[1], 2105) {
 			t.Errorf("first-order R %.1f Ω, want 2.105 kΩ", v0[1])
 		}
 		// Sallen-Key high-pass Elements: C1 C2 Rf Rg.
-		if !relClose(v1[0], 100e-9, 1e-12) || !relClose(v1[1], 100e-9, 1e-12) || !relClose(v1[2], 1667, bookTol) || !relClose(v1[3], 3184, bookTol) {
+		if !testkit.Rel(1e-12).Equal(v1[0], 100e-9) || !testkit.Rel(1e-12).Equal(v1[1], 100e-9) || !testkit.Rel(bookTol).Equal(v1[2], 1667) || !testkit.Rel(bookTol).Equal(v1[3], 3184) {
 			t.Errorf("Sallen-Key values %v; want C 100 nF, Rf 1.667 kΩ, Rg 3.184 kΩ", v1)
 		}
 	})
@@ -511,10 +511,10 @@ func TestWorkedExamples(t *testing.T) {
 			t.Fatal("no real resistors")
 		}
 		r := sols[0]
-		if sum := r[0] + r[1]; !relClose(sum, 1233.5+1334.6, bookTol) {
+		if sum := r[0] + r[1]; !testkit.Rel(bookTol).Equal(sum, 1233.5+1334.6) {
 			t.Errorf("R1+R2 = %.1f Ω, want %.1f", sum, 1233.5+1334.6)
 		}
-		if prod := r[0] * r[1]; !relClose(prod, 1233.5*1334.6, 2*bookTol) {
+		if prod := r[0] * r[1]; !testkit.Rel(2*bookTol).Equal(prod, 1233.5*1334.6) {
 			t.Errorf("R1·R2 = %.6g Ω², want %.6g", prod, 1233.5*1334.6)
 		}
 	})

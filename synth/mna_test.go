@@ -9,6 +9,7 @@ import (
 	"testing"
 
 	"drawerfit/fault"
+	"drawerfit/internal/testkit"
 )
 
 // logSweep returns n frequencies spaced logarithmically from lo to hi (Hz).
@@ -219,12 +220,12 @@ func TestDomainFormulas(t *testing.T) {
 				num, den := f(v)
 				cn, cd := top.Coeffs(v)
 				for i := range den {
-					if !relClose(cd[i], den[i], 1e-14) {
+					if !testkit.Rel(1e-14).Equal(cd[i], den[i]) {
 						t.Fatalf("Coeffs den[%d] = %g, closed form %g (values %v)", i, cd[i], den[i], v)
 					}
 				}
 				for i := range num {
-					if !relClose(cn[i], num[i], 1e-14) {
+					if !testkit.Rel(1e-14).Equal(cn[i], num[i]) {
 						t.Fatalf("Coeffs num[%d] = %g, closed form %g", i, cn[i], num[i])
 					}
 				}
@@ -265,7 +266,7 @@ func TestDomainSectionFacts(t *testing.T) {
 			}
 			if ok {
 				_, got := SallenKeyLowPass().Coeffs(sols[0])
-				if !relClose(got[1], den[1], 1e-12) || !relClose(got[2], den[2], 1e-12) {
+				if !testkit.Rel(1e-12).Equal(got[1], den[1]) || !testkit.Rel(1e-12).Equal(got[2], den[2]) {
 					t.Errorf("Cf/Cg = %g·4Q²: solution %v gives %v, want %v", r, sols[0], got, den)
 				}
 			}
@@ -273,7 +274,7 @@ func TestDomainSectionFacts(t *testing.T) {
 		// At exactly 4Q² the discriminant is zero up to rounding, so Solve
 		// may report the boundary either way; the resistors must be equal.
 		sols, _ := SallenKeyLowPass().Solve([]float64{0, 0, 4 * q * q * cg, cg}, den)
-		if !relClose(sols[0][0], sols[0][1], 1e-6) {
+		if !testkit.Rel(1e-6).Equal(sols[0][0], sols[0][1]) {
 			t.Errorf("Cf/Cg = 4Q²: resistors %v, want equal", sols[0])
 		}
 	})
@@ -281,7 +282,7 @@ func TestDomainSectionFacts(t *testing.T) {
 		for _, q := range []float64{0.5, 0.7071, 1.3, 5} {
 			_, den := pairPoly(HighPass, 2*math.Pi*1e3, q)
 			v, _ := SallenKeyHighPass().Solve([]float64{1e-8, 1e-8, 0, 0}, den)
-			if r := v[0][3] / v[0][2]; !relClose(r, 4*q*q, 1e-12) {
+			if r := v[0][3] / v[0][2]; !testkit.Rel(1e-12).Equal(r, 4*q*q) {
 				t.Errorf("Q %g: Rg/Rf = %g, want 4Q² = %g", q, r, 4*q*q)
 			}
 		}
@@ -305,7 +306,7 @@ func TestDomainSectionFacts(t *testing.T) {
 			vh, _ := hp.Normalised(0)
 			// LP Elements R1 R2 R3 Ca Cf Cb; HP Elements C1 C2 C3 Ra Rf Rb.
 			for i := 0; i < 3; i++ {
-				if !relClose(vh[i], 1, 1e-12) || !relClose(vh[3+i], 1/vl[3+i], 1e-9) {
+				if !testkit.Rel(1e-12).Equal(vh[i], 1) || !testkit.Rel(1e-9).Equal(vh[3+i], 1/vl[3+i]) {
 					t.Errorf("%s: high-pass %v, low-pass %v", specName(s), vh, vl)
 				}
 			}
@@ -378,7 +379,7 @@ func TestParseSpiceValue(t *testing.T) {
 	for _, c := range cases {
 		t.Run(c.in, func(t *testing.T) {
 			got, err := parseSpiceValue(c.in)
-			if err != nil || !relClose(got, c.want, 1e-15) {
+			if err != nil || !testkit.Rel(1e-15).Equal(got, c.want) {
 				t.Errorf("got %g, %v; want %g", got, err, c.want)
 			}
 		})

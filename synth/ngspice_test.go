@@ -9,6 +9,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"drawerfit/internal/testkit"
 )
 
 // runNgspice simulates netlist with ngspice (Debian package ngspice) in
@@ -118,7 +120,7 @@ func TestNgspiceAgrees(t *testing.T) {
 			lo, hi := d.Band()
 			nl := Netlist(stages, NetlistOptions{Title: c.name, FStart: lo, FStop: hi, PointsPerDecade: 25, OpAmp: c.opamp})
 			freqs, sim := runNgspice(t, nl)
-			if len(freqs) < 25 || !relClose(freqs[0], lo, 1e-9) || !relClose(freqs[len(freqs)-1], hi, 1e-9) {
+			if len(freqs) < 25 || !testkit.Rel(1e-9).Equal(freqs[0], lo) || !testkit.Rel(1e-9).Equal(freqs[len(freqs)-1], hi) {
 				t.Fatalf("ngspice swept %d points %g..%g Hz, netlist asks %g..%g", len(freqs), freqs[0], freqs[len(freqs)-1], lo, hi)
 			}
 			mna, err := AnalyzeNetlist(nl, freqs)

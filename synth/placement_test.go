@@ -4,6 +4,8 @@ import (
 	"math"
 	"strings"
 	"testing"
+
+	"drawerfit/internal/testkit"
 )
 
 // butterworthAtten is the Butterworth magnitude of the handbook form
@@ -85,7 +87,7 @@ func TestPlacementInside(t *testing.T) {
 					if kind == HighPass {
 						stopAt = d.AttenuationAt(1000.0 / 3 * k)
 					}
-					if math.Abs(passAt-s.PassAtten) > 1e-6 || math.Abs(stopAt-s.StopAtten) > 1e-6 {
+					if !testkit.Abs(1e-6).Equal(passAt, s.PassAtten) || !testkit.Abs(1e-6).Equal(stopAt, s.StopAtten) {
 						t.Errorf("shift %.4f: %.6f dB at the shifted fp (want %.6f), %.6f dB at the shifted fs (want %.6f)",
 							p.Shift, passAt, s.PassAtten, stopAt, s.StopAtten)
 					}
@@ -101,7 +103,7 @@ func TestPlacementInside(t *testing.T) {
 						}
 						ff := 1000.0
 						got := butterworthAtten(ff, f3, n)
-						if math.Abs(got-(s.PassAtten-p.PassMargin)) > 1e-6 {
+						if !testkit.Abs(1e-6).Equal(got, s.PassAtten-p.PassMargin) {
 							t.Errorf("handbook attenuation at fp %.6f dB, design margin says %.6f", got, s.PassAtten-p.PassMargin)
 						}
 					case Chebyshev:
@@ -114,10 +116,10 @@ func TestPlacementInside(t *testing.T) {
 						}
 						xs := 3 * x
 						got := chebyshevAtten(xs, p.Ripple, n) - even
-						if math.Abs(got-(s.StopAtten+p.StopMargin)) > 1e-6 {
+						if !testkit.Abs(1e-6).Equal(got, s.StopAtten+p.StopMargin) {
 							t.Errorf("handbook attenuation at fs %.6f dB, design margin says %.6f", got, s.StopAtten+p.StopMargin)
 						}
-						if x < 1 && math.Abs(p.PassMargin-p.StopMargin) > 1e-6 && p.PassMargin < p.StopMargin {
+						if x < 1 && !testkit.Abs(1e-6).Equal(p.PassMargin, p.StopMargin) && p.PassMargin < p.StopMargin {
 							t.Errorf("dB margins %.4f at fp and %.4f at fs: the ripple could be smaller", p.PassMargin, p.StopMargin)
 						}
 					}

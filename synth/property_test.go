@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"drawerfit/fault"
+	"drawerfit/internal/testkit"
 )
 
 // randomSpecs draws specifications with a stopband over every
@@ -103,7 +104,7 @@ func TestPlannedDesignsMeetSpec(t *testing.T) {
 				t.Errorf("%.6f dB at fs, required %.6f", as, s.StopAtten)
 			}
 			exact := !(s.Approx == Bessel && s.BesselNorm == BesselDelay) && !(s.Approx == Chebyshev && d.Order%2 == 0)
-			if exact && math.Abs(ap-d.Spec.PassAtten) > 1e-9 {
+			if exact && !testkit.Abs(1e-9).Equal(ap, d.Spec.PassAtten) {
 				t.Errorf("edge not placed exactly: %.9f dB at fp, Ap %.9f", ap, d.Spec.PassAtten)
 			}
 			h, err := AnalyzeNetlist(Netlist(stages, NetlistOptions{}), []float64{s.Pass, s.Stop})
@@ -158,7 +159,7 @@ func TestHighPassMirrorsLowPass(t *testing.T) {
 			}
 			for i := range lp.Sections {
 				l, h := lp.Sections[i], hp.Sections[i]
-				if !relClose(h.F0, s.Pass*s.Pass/l.F0, 1e-12) || math.Abs(h.Q-l.Q) > 1e-12*math.Max(1, l.Q) {
+				if !testkit.Rel(1e-12).Equal(h.F0, s.Pass*s.Pass/l.F0) || !testkit.AbsOrRel(1e-12, 1e-12).Equal(h.Q, l.Q) {
 					t.Errorf("section %d: high-pass f0 %g Q %g, low-pass f0 %g Q %g", i+1, h.F0, h.Q, l.F0, l.Q)
 				}
 				if h.Topology.response != HighPass || h.Topology.poles != l.Topology.poles {
@@ -180,7 +181,7 @@ func TestHighPassMirrorsLowPass(t *testing.T) {
 				}
 			}
 			// Attenuation at mirrored specification edges is the same.
-			if math.Abs(lp.AttenuationAt(s.Pass)-hp.AttenuationAt(s.Pass)) > 1e-9 {
+			if !testkit.Abs(1e-9).Equal(lp.AttenuationAt(s.Pass), hp.AttenuationAt(s.Pass)) {
 				t.Errorf("attenuation at fp: low-pass %g, high-pass %g", lp.AttenuationAt(s.Pass), hp.AttenuationAt(s.Pass))
 			}
 		})

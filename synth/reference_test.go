@@ -10,6 +10,7 @@ import (
 	"testing"
 
 	"drawerfit/fault"
+	"drawerfit/internal/testkit"
 )
 
 // The reference file is written by testdata/gen/reference.py with
@@ -147,7 +148,7 @@ func TestSectionsScipy(t *testing.T) {
 					if kind == HighPass {
 						f0 = fp / rs.W0
 					}
-					if math.Abs(sec.F0-f0) > 1e-9*f0 || math.Abs(sec.Q-rs.Q) > 1e-9*math.Max(rs.Q, 1) {
+					if !testkit.Rel(1e-9).Equal(sec.F0, f0) || !testkit.AbsOrRel(1e-9, 1e-9).Equal(sec.Q, rs.Q) {
 						t.Errorf("section %d: f0 %.10g Q %.10g, scipy f0 %.10g Q %.10g", i+1, sec.F0, sec.Q, f0, rs.Q)
 					}
 				}
@@ -212,10 +213,10 @@ func TestOrdersScipy(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if got := d.AttenuationAt(o.Fp); math.Abs(got-*o.AttenPass) > 1e-6 {
+			if got := d.AttenuationAt(o.Fp); !testkit.Abs(1e-6).Equal(got, *o.AttenPass) {
 				t.Errorf("attenuation at fp %.9f dB, scipy %.9f", got, *o.AttenPass)
 			}
-			if got := d.AttenuationAt(o.Fs); math.Abs(got-*o.AttenStop) > 1e-6 {
+			if got := d.AttenuationAt(o.Fs); !testkit.Abs(1e-6).Equal(got, *o.AttenStop) {
 				t.Errorf("attenuation at fs %.9f dB, scipy %.9f", got, *o.AttenStop)
 			}
 		})

@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"drawerfit/fault"
+	"drawerfit/internal/testkit"
 )
 
 var update = flag.Bool("update", false, "rewrite golden files under testdata/")
@@ -83,7 +84,7 @@ func TestNormalizeDefaults(t *testing.T) {
 	if err := s.Normalize(); err != nil {
 		t.Fatal(err)
 	}
-	if s.PassAtten != HalfPowerDB || math.Abs(HalfPowerDB-3.0103) > 1e-4 || s.Odd != OddOnePole {
+	if s.PassAtten != HalfPowerDB || !testkit.Abs(1e-4).Equal(HalfPowerDB, 3.0103) || s.Odd != OddOnePole {
 		t.Errorf("Butterworth defaults %+v", s)
 	}
 	c := Spec{Approx: Chebyshev, Pass: 1000, Order: 3, PassAtten: 0.25}

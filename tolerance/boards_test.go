@@ -5,6 +5,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"drawerfit/internal/testkit"
 )
 
 func TestForecastBoardsTendsToBinomial(t *testing.T) {
@@ -34,7 +36,7 @@ func TestForecastBoardsTendsToBinomial(t *testing.T) {
 				break
 			}
 		}
-		if got.Low != lo || got.High != hi || math.Abs(got.Expected-tc.p*float64(tc.built)) > 1e-6 {
+		if got.Low != lo || got.High != hi || !testkit.Abs(1e-6).Equal(got.Expected, tc.p*float64(tc.built)) {
 			t.Errorf("p %.2f, %d boards: forecast %+v, binomial %d..%d, mean %.2f", tc.p, tc.built, got, lo, hi, tc.p*float64(tc.built))
 		}
 	}

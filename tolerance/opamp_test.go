@@ -11,6 +11,7 @@ import (
 	"strings"
 	"testing"
 
+	"drawerfit/internal/testkit"
 	"drawerfit/optimize"
 	"drawerfit/synth"
 )
@@ -190,7 +191,7 @@ func TestGBWRuleBookExample(t *testing.T) {
 	for _, s := range rep.Sections {
 		need = math.Max(need, s.RequiredGBW)
 	}
-	if math.Abs(need-1.5302e6) > 0.1e3 {
+	if !testkit.Abs(0.1e3).Equal(need, 1.5302e6) {
 		t.Errorf("required gain-bandwidth %.5g Hz, want 1.5302 MHz", need)
 	}
 	rule := ruleWarnings(rep.Warnings)
@@ -261,7 +262,7 @@ func TestHighPassUpperEdge(t *testing.T) {
 		t.Errorf("upper edge %g Hz, want somewhere near the 1 MHz GBW", rep.UpperEdge)
 	}
 	h := opampCascade(t, c, &synth.OpAmp{GBW: 1e6})(rep.UpperEdge)
-	if d := synth.Attenuation(h); math.Abs(d-synth.HalfPowerDB) > 1e-6 {
+	if d := synth.Attenuation(h); !testkit.Abs(1e-6).Equal(d, synth.HalfPowerDB) {
 		t.Errorf("attenuation at the reported upper edge %.6f dB, want 3.0103", d)
 	}
 }

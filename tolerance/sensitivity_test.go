@@ -6,6 +6,7 @@ import (
 	"strings"
 	"testing"
 
+	"drawerfit/internal/testkit"
 	"drawerfit/optimize"
 	"drawerfit/synth"
 )
@@ -47,10 +48,10 @@ func TestSensitivitiesSallenKeyAnalytic(t *testing.T) {
 			}
 			s := sensitivities(b)[0]
 			for k, cs := range s.Components {
-				if math.Abs(cs.F0+0.5) > 1e-8 {
+				if !testkit.Abs(1e-8).Equal(cs.F0, -0.5) {
 					t.Errorf("%s: S^f0 = %.10f, want -0.5", cs.Ref, cs.F0)
 				}
-				if math.Abs(cs.Q-tc.wantQ[k]) > 1e-8 {
+				if !testkit.Abs(1e-8).Equal(cs.Q, tc.wantQ[k]) {
 					t.Errorf("%s: S^Q = %.10f, want %.10f", cs.Ref, cs.Q, tc.wantQ[k])
 				}
 			}
@@ -92,10 +93,10 @@ func TestSensitivitiesHomogeneity(t *testing.T) {
 					}
 				}
 				const tol = 1e-7
-				if math.Abs(f0R+1) > tol || math.Abs(f0C+1) > tol || math.Abs(qR) > tol || math.Abs(qC) > tol {
+				if !testkit.Abs(tol).Equal(f0R, -1) || !testkit.Abs(tol).Equal(f0C, -1) || !testkit.Abs(tol).Equal(qR, 0) || !testkit.Abs(tol).Equal(qC, 0) {
 					t.Errorf("sums: f0 R %.9f C %.9f, Q R %.9f C %.9f", f0R, f0C, qR, qC)
 				}
-				if b.sections[si].topo.Poles() == 3 && (math.Abs(wrR+1) > tol || math.Abs(wrC+1) > tol) {
+				if b.sections[si].topo.Poles() == 3 && (!testkit.Abs(tol).Equal(wrR, -1) || !testkit.Abs(tol).Equal(wrC, -1)) {
 					t.Errorf("real pole sums: R %.9f C %.9f", wrR, wrC)
 				}
 			})
@@ -125,7 +126,7 @@ func TestWorstCaseFirstOrder(t *testing.T) {
 	wc := res.WorstCase
 	lo := 1 / (2 * math.Pi * r * 1.01 * cv * 1.05)
 	hi := 1 / (2 * math.Pi * r * 0.99 * cv * 0.95)
-	if math.Abs(wc.EdgeLow/lo-1) > 1e-9 || math.Abs(wc.EdgeHigh/hi-1) > 1e-9 {
+	if !testkit.Rel(1e-9).Equal(wc.EdgeLow, lo) || !testkit.Rel(1e-9).Equal(wc.EdgeHigh, hi) {
 		t.Errorf("edge corners %.6f..%.6f Hz, want %.6f..%.6f", wc.EdgeLow, wc.EdgeHigh, lo, hi)
 	}
 	// The Monte Carlo never leaves the corners.
@@ -134,11 +135,11 @@ func TestWorstCaseFirstOrder(t *testing.T) {
 	}
 	// Worst passband: the lowest edge, attenuation at fp = 10 log10(1 + (f/lo)²).
 	wantPass := 10 * math.Log10(1+(f/lo)*(f/lo))
-	if math.Abs(wc.PassAtten-wantPass) > 1e-9 || wc.PassOK {
+	if !testkit.Abs(1e-9).Equal(wc.PassAtten, wantPass) || wc.PassOK {
 		t.Errorf("worst passband %.9f dB (ok %v), want %.9f dB and a failure", wc.PassAtten, wc.PassOK, wantPass)
 	}
 	wantStop := 10 * math.Log10(1+(10*f/hi)*(10*f/hi))
-	if wc.StopAtten == nil || math.Abs(*wc.StopAtten-wantStop) > 1e-9 {
+	if wc.StopAtten == nil || !testkit.Abs(1e-9).Equal(*wc.StopAtten, wantStop) {
 		t.Errorf("worst stopband %v dB, want %.9f", wc.StopAtten, wantStop)
 	}
 }
@@ -155,7 +156,7 @@ func TestChebyshevRippleEdge(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if math.Abs(r.Nominal.Edge/2e3-1) > 1e-7 || math.Abs(r.Nominal.PassAtten-0.5) > 1e-7 {
+		if !testkit.Rel(1e-7).Equal(r.Nominal.Edge, 2e3) || !testkit.Abs(1e-7).Equal(r.Nominal.PassAtten, 0.5) {
 			t.Errorf("n=%d: edge %.6f Hz, ripple %.8f dB, want 2000 Hz and 0.5 dB", n, r.Nominal.Edge, r.Nominal.PassAtten)
 		}
 		if r.EdgeKind != "ripple-band edge" {
@@ -201,7 +202,7 @@ func TestBiasResistors(t *testing.T) {
 						}
 					}
 				}
-				if math.Abs(br.Ohms/sum-1) > 1e-12 {
+				if !testkit.Rel(1e-12).Equal(br.Ohms, sum) {
 					t.Errorf("%g Ω, want %g Ω (%s)", br.Ohms, sum, want[topo.ID()])
 				}
 				if br.Path != want[topo.ID()] {

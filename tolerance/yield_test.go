@@ -9,6 +9,7 @@ import (
 	"testing"
 
 	"drawerfit/fault"
+	"drawerfit/internal/testkit"
 	"drawerfit/optimize"
 	"drawerfit/synth"
 )
@@ -136,7 +137,7 @@ func TestF0DistributionAgainstExactConvolution(t *testing.T) {
 		t.Run(q.name, func(t *testing.T) {
 			got := evalCDF(ys, cdf, math.Log(q.v/f0nom))
 			se := math.Sqrt(q.p * (1 - q.p) / n)
-			if math.Abs(got-q.p) > 4*se {
+			if !testkit.Abs(4*se).Equal(got, q.p) {
 				t.Errorf("exact CDF at the reported %s = %.5f, want %.3f ± %.5f", q.name, got, q.p, 4*se)
 			}
 		})
@@ -201,7 +202,7 @@ func TestZeroToleranceGivesFullYield(t *testing.T) {
 			if r.Yield != 1 || r.Passed != 500 || r.FailPassband != 0 || r.FailStopband != 0 {
 				t.Fatalf("zero tolerance: yield %v (%d passed, %d/%d failures), want 1", r.Yield, r.Passed, r.FailPassband, r.FailStopband)
 			}
-			if math.Abs(r.Edge.Max/r.Edge.Min-1) > 1e-9 {
+			if !testkit.Rel(1e-9).Equal(r.Edge.Max, r.Edge.Min) {
 				t.Errorf("zero tolerance: edge spread %g..%g, want one value", r.Edge.Min, r.Edge.Max)
 			}
 			if len(r.Blame) != 0 {
@@ -388,7 +389,7 @@ func TestWilsonInterval(t *testing.T) {
 	for _, c := range cases {
 		t.Run("", func(t *testing.T) {
 			lo, hi := Wilson(c.k, c.n, z95)
-			if math.Abs(lo-c.lo) > 6e-5 || math.Abs(hi-c.hi) > 6e-5 {
+			if !testkit.Abs(6e-5).Equal(lo, c.lo) || !testkit.Abs(6e-5).Equal(hi, c.hi) {
 				t.Errorf("Wilson(%d/%d) = %.4f..%.4f, want %.4f..%.4f", c.k, c.n, lo, hi, c.lo, c.hi)
 			}
 		})
@@ -408,7 +409,7 @@ func TestBlameSingleCulprit(t *testing.T) {
 	if r.Yield == 1 || r.Yield == 0 {
 		t.Fatalf("fixture should lose some boards, yield %v", r.Yield)
 	}
-	if len(r.Blame) != 1 || r.Blame[0].Ref != "C2" || math.Abs(r.Blame[0].Share-1) > 1e-12 || r.Unattributed > 1e-12 {
+	if len(r.Blame) != 1 || r.Blame[0].Ref != "C2" || !testkit.Abs(1e-12).Equal(r.Blame[0].Share, 1) || r.Unattributed > 1e-12 {
 		t.Errorf("blame %+v (unattributed %v), want all on C2", r.Blame, r.Unattributed)
 	}
 }

@@ -11,6 +11,7 @@ import (
 	"testing"
 	"time"
 
+	"drawerfit/internal/testkit"
 	"drawerfit/stock"
 	"drawerfit/synth"
 )
@@ -116,7 +117,7 @@ func TestFitYieldJSON(t *testing.T) {
 			t.Errorf("candidate %d: trials %d seed %d, want 250 and 11", i+1, y.Trials, y.Seed)
 		}
 		lo, hi := wilsonRef(y.Passed, y.Trials)
-		if math.Abs(y.Fraction-float64(y.Passed)/250) > 1e-12 || math.Abs(y.CILow-lo) > 1e-6 || math.Abs(y.CIHigh-hi) > 1e-6 {
+		if !testkit.Abs(1e-12).Equal(y.Fraction, float64(y.Passed)/250) || !testkit.Abs(1e-6).Equal(y.CILow, lo) || !testkit.Abs(1e-6).Equal(y.CIHigh, hi) {
 			t.Errorf("candidate %d: yield %v [%v, %v], want %v [%v, %v] (Wilson)", i+1, y.Fraction, y.CILow, y.CIHigh,
 				float64(y.Passed)/250, lo, hi)
 		}
@@ -129,7 +130,7 @@ func TestFitYieldJSON(t *testing.T) {
 	for _, b := range an.Blame {
 		share += b.Share
 	}
-	if y := f.Candidates[0].Yield; y.Passed < y.Trials && math.Abs(share+an.Unattributed-1) > 1e-9 {
+	if y := f.Candidates[0].Yield; y.Passed < y.Trials && !testkit.Abs(1e-9).Equal(share+an.Unattributed, 1) {
 		t.Errorf("blame shares add up to %v with %v unattributed", share, an.Unattributed)
 	}
 	if an.WorstCase != nil || an.Advice != nil {
@@ -234,7 +235,7 @@ func TestFitGBW(t *testing.T) {
 				}
 				for _, s := range c.OpAmp.Sections {
 					// The Q <= 1 form of the rule, 100·Q·f0 (docs/check-values.md, "Practical rules").
-					if want := 100 * s.Q * s.F0; math.Abs(s.RequiredGBW/want-1) > 1e-9 {
+					if want := 100 * s.Q * s.F0; !testkit.Rel(1e-9).Equal(s.RequiredGBW, want) {
 						t.Errorf("section %d needs %v Hz, want %v", s.Section, s.RequiredGBW, want)
 					}
 					if s.OK == tc.warn {
@@ -275,7 +276,7 @@ func TestFitGBWPublished(t *testing.T) {
 			}
 			// The built section is within about 1 % of the ideal f0 and Q,
 			// so the requirement is within 2 % of the published figure.
-			if math.Abs(highest.RequiredGBW/1.531e6-1) > 0.02 {
+			if !testkit.Rel(0.02).Equal(highest.RequiredGBW, 1.531e6) {
 				t.Errorf("the Q %.3f section needs %v Hz, want about 1.531 MHz", highest.Q, highest.RequiredGBW)
 			}
 			if highest.OK != tc.ok {
@@ -373,7 +374,7 @@ func TestFitBiasResistor(t *testing.T) {
 							want += comp.Value
 						}
 					}
-					if math.Abs(b.TargetOhms/want-1) > 1e-9 {
+					if !testkit.Rel(1e-9).Equal(b.TargetOhms, want) {
 						t.Errorf("candidate %d section %d: bias target %v Ω, want %v Ω", i+1, k+1, b.TargetOhms, want)
 					}
 					if len(b.Parts) == 0 || len(b.Parts) > tc.combine {
@@ -385,7 +386,7 @@ func TestFitBiasResistor(t *testing.T) {
 						made = synth.Resistor.Combine(map[string]synth.Arrangement{"series": synth.Series, "parallel": synth.Parallel}[b.Arrangement],
 							b.Parts[0].Value, b.Parts[1].Value)
 					}
-					if math.Abs(made/b.Value-1) > 1e-12 {
+					if !testkit.Rel(1e-12).Equal(made, b.Value) {
 						t.Errorf("candidate %d section %d: value %v, parts make %v", i+1, k+1, b.Value, made)
 					}
 					// And it is the nearest the stock can make.

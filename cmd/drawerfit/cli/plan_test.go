@@ -10,6 +10,7 @@ import (
 	"strings"
 	"testing"
 
+	"drawerfit/internal/testkit"
 	"drawerfit/synth"
 )
 
@@ -76,7 +77,7 @@ func TestPlanJSONKeys(t *testing.T) {
 	if v, present := att["stop"]; !present || v != nil {
 		t.Errorf("attenuation_db.stop should be null without fs, got %v (present %v)", v, present)
 	}
-	if p, ok := att["pass"].(float64); !ok || math.Abs(p-synth.HalfPowerDB) > 1e-9 {
+	if p, ok := att["pass"].(float64); !ok || !testkit.Abs(1e-9).Equal(p, synth.HalfPowerDB) {
 		t.Errorf("attenuation_db.pass %v, want 3.0103", att["pass"])
 	}
 	secs, ok := raw["sections"].([]any)
@@ -199,7 +200,7 @@ func TestPlanAnchor(t *testing.T) {
 					cmax = math.Max(cmax, c.Value)
 				}
 			}
-			if math.Abs(cmax-4.7e-9) > 1e-21 {
+			if !testkit.Abs(1e-21).Equal(cmax, 4.7e-9) {
 				t.Errorf("%s section %d: largest capacitor %g F, want 4.7 nF", kind, i+1, cmax)
 			}
 		}
@@ -207,7 +208,7 @@ func TestPlanAnchor(t *testing.T) {
 	// Default: the resistors' geometric middle at sqrt(1 kΩ · 1 MΩ).
 	p := planJSONOf(t, "lowpass", "--pass", "3k", "--order", "4")
 	for _, c := range p.Sections[0].Components {
-		if c.Kind == "resistor" && math.Abs(c.Value-math.Sqrt(1e9)) > 1e-6 {
+		if c.Kind == "resistor" && !testkit.Abs(1e-6).Equal(c.Value, math.Sqrt(1e9)) {
 			t.Errorf("default-scaled %s = %g Ω, want 31.62 kΩ", c.Ref, c.Value)
 		}
 	}

@@ -2,13 +2,14 @@ package cli
 
 import (
 	"encoding/json"
-	"math"
 	"os"
 	"path/filepath"
 	"reflect"
 	"strconv"
 	"strings"
 	"testing"
+
+	"drawerfit/internal/testkit"
 )
 
 // sampleEnv is a test environment whose database holds the sample drawer.
@@ -326,7 +327,7 @@ func TestYieldReadsSavedDesigns(t *testing.T) {
 	if code := s.jsonOf(&board, "yield", id, "--trials", "200", "--json"); code != 0 || len(board.Filters) != 2 {
 		t.Fatalf("board yield: exit %d %+v", code, board)
 	}
-	if want := board.Filters[0].Yield * board.Filters[1].Yield; math.Abs(board.Yield-want) > 1e-12 {
+	if want := board.Filters[0].Yield * board.Filters[1].Yield; !testkit.Abs(1e-12).Equal(board.Yield, want) {
 		t.Errorf("board yield %v, want the product %v", board.Yield, want)
 	}
 	if board.Filters[1].Yield != y["yield"].(float64) {

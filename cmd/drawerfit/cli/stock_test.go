@@ -262,6 +262,7 @@ func TestStockExportImportRoundTrip(t *testing.T) {
 // TestStockAmplifierRows: amplifier rows through add, list --kind, set and
 // history, and the refusals of bad figures naming the flag.
 func TestStockAmplifierRows(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	s.ok("stock", "import", s.write("drawer.csv", smallDrawer))
 	out := s.ok("stock", "add", "QA-10", "--kind", "op-amp", "--qty", "6", "--channels", "dual", "--gbw", "10M", "--package", "SO-8", "--location", "E1")
