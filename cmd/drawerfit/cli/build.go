@@ -22,6 +22,7 @@ type buildOptions struct {
 	boards int
 	dryRun bool
 	csv    string
+	bom    string
 	force  bool
 	json   bool
 }
@@ -44,12 +45,28 @@ The pick list groups the parts by bin: for each stock row its value, the
 quantity for the whole batch and the reference designators it fills on one
 board (F2.R3 is R3 of the board's second filter; R3a and R3b are the two
 parts of a pair). --csv writes it as a file. --dry-run prints the same
-without drawing. drawerfit build undo returns a build's parts.`,
+without drawing. drawerfit build undo returns a build's parts.
+
+After the pick list comes the reorder list: the rows below their minimum
+stock once the batch is drawn (with a dry run, once it would be), with what
+to buy, as drawerfit stock reorder prints it.
+
+--bom FILE writes a purchaser's bill of materials as CSV: one line per
+distinct stock row with its designators, quantity per board and for the
+batch, value with its unit, kind, tolerance, package, dielectric, voltage
+rating, location, supplier-ref, unit price and extended price (prices in
+the stock's one currency, no conversion; empty when unknown). Text cells
+that a spreadsheet would run as a formula get a leading apostrophe, as in
+stock export. With --dry-run it is the BOM of a saved design without
+building it.`,
 		Example: `  # A school's weather-station kit: pick list for 25 anemometer boards first
   drawerfit build q3vx7m --boards 25 --dry-run --csv picks-25.csv
 
   # Then draw the parts
   drawerfit build q3vx7m --boards 25
+
+  # The bill of materials purchasing orders 100 boards from, nothing drawn
+  drawerfit build q3vx7m --boards 100 --dry-run --bom bom-q3vx7m.csv
 
   # Undo build 4 (the parts go back to their rows)
   drawerfit build undo 4`,
@@ -68,6 +85,7 @@ without drawing. drawerfit build undo returns a build's parts.`,
 	f.IntVar(&o.boards, "boards", 0, "number of boards in the batch (required)")
 	f.BoolVar(&o.dryRun, "dry-run", false, "print the pick list and any shortfall without drawing")
 	f.StringVar(&o.csv, "csv", "", "also write the pick list to this CSV file (- for standard output)")
+	f.StringVar(&o.bom, "bom", "", "also write a purchaser's bill of materials to this CSV file (- for standard output)")
 	f.BoolVar(&o.force, "force", false, forceHelp)
 	f.BoolVar(&o.json, "json", false, "print one JSON object")
 	cmd.AddCommand(newBuildUndoCmd(env))
@@ -92,6 +110,8 @@ type jsonBuild struct {
 	Picks     []jsonPick       `json:"picks"`
 	Shortfall []stock.ShortRow `json:"shortfall,omitempty"`
 	Issues    []jsonIssue      `json:"issues,omitempty"`
+	// Reorder lists the rows below their minimum once the batch is drawn.
+	Reorder []jsonReorder `json:"reorder"`
 	Error     string           `json:"error,omitempty"`
 }
 
@@ -102,6 +122,12 @@ func runBuild(env *Env, o *buildOptions, id string) error {
 	// Refuse an output file that cannot be written before drawing parts.
 	if err := checkOutputFile(o.csv, o.force); err != nil {
 		return err
+	}
+	if err := checkOutputFile(o.bom, o.force); err != nil {
+		return err
+	}
+	if o.csv != "" && o.csv == o.bom {
+		return fault.Invalidf("--csv and --bom name the same file %s", o.csv)
 	}
 	db, d, err := env.openDesign(id, !o.dryRun)
 	if err != nil {
@@ -134,8 +160,32 @@ func runBuild(env *Env, o *buildOptions, id string) error {
 			return fmt.Errorf("write pick list: %w", err)
 		}
 	}
+	// The rows as they are now: after the build when it drew, else before
+	// it, with the batch's takes still to come.
+	now, err := db.List(env.Ctx, stock.Filter{})
+	if err != nil {
+		return err
+	}
+	var reorder []production.ReorderLine
+	if res.Drawn() {
+		reorder = production.Reorder(now, nil)
+	} else {
+		reorder = production.Reorder(now, batch.Takes())
+	}
+	var bomLines []production.BOMLine
+	if o.bom != "" {
+		rows := map[int64]stock.Item{}
+		for _, it := range now {
+			rows[it.ID] = it
+		}
+		bomLines = batch.BOM(rows)
+		if err := env.writeOutputFile(o.bom, o.force, func(w io.Writer) error { return production.WriteBOMCSV(w, bomLines) }); err != nil {
+			return fmt.Errorf("write bill of materials: %w", err)
+		}
+	}
 	if o.json {
-		jb := jsonBuild{DesignID: d.ID, Boards: o.boards, Drawn: res.Drawn(), Picks: picksJSON(res.Batch), Issues: issuesJSON(res.Issues)}
+		jb := jsonBuild{DesignID: d.ID, Boards: o.boards, Drawn: res.Drawn(), Picks: picksJSON(res.Batch), Issues: issuesJSON(res.Issues),
+			Reorder: reorderJSON(reorder)}
 		if res.Build != nil {
 			bid := res.Build.ID
 			jb.ID = &bid
@@ -154,6 +204,13 @@ func runBuild(env *Env, o *buildOptions, id string) error {
 		}
 	} else {
 		printBuild(env, env.Out, d, o, res, buildErr)
+		if len(reorder) > 0 {
+			fmt.Fprintf(env.Out, "\nTo reorder once the batch is drawn (%s below minimum or short; stock reorder lists the same):\n", plural(len(reorder), "row"))
+			printReorder(env, env.Out, reorder, !res.Drawn())
+		}
+		if o.bom != "" && o.bom != "-" {
+			fmt.Fprintf(env.Out, "\nBill of materials written to %s: %s.\n", o.bom, bomSummary(bomLines, o.boards))
+		}
 	}
 	if refused {
 		msg := ""
@@ -260,9 +317,10 @@ func writePicksCSV(w io.Writer, b *production.Batch) error {
 	if err := cw.Write([]string{"location", "stock_id", "kind", "value", "part", "quantity", "refs"}); err != nil {
 		return err
 	}
+	g := stock.GuardCell // the one guard against spreadsheet formulas, as stock export uses
 	for _, p := range b.Picks {
-		if err := cw.Write([]string{p.Part.Location, strconv.FormatInt(p.StockID, 10), p.Part.Kind.String(),
-			stock.FormatValue(p.Part.Value, p.Part.Kind), partText(p.Part), strconv.Itoa(p.Quantity), strings.Join(p.Refs, " ")}); err != nil {
+		if err := cw.Write([]string{g(p.Part.Location), strconv.FormatInt(p.StockID, 10), p.Part.Kind.String(),
+			g(stock.FormatValue(p.Part.Value, p.Part.Kind)), g(partText(p.Part)), strconv.Itoa(p.Quantity), g(strings.Join(p.Refs, " "))}); err != nil {
 			return err
 		}
 	}

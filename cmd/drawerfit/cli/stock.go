@@ -56,7 +56,7 @@ may only read, and while another process writes.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error { return cmd.Help() },
 	}
-	cmd.AddCommand(newStockImportCmd(env), newStockListCmd(env), newStockAddCmd(env),
+	cmd.AddCommand(newStockImportCmd(env), newStockListCmd(env), newStockAddCmd(env), newStockReorderCmd(env),
 		newStockSetCmd(env), newStockRemoveCmd(env), newStockExportCmd(env), newStockHistoryCmd(env), newStockUpgradeCmd(env))
 	return cmd
 }
