@@ -112,7 +112,7 @@ type jsonBuild struct {
 	Issues    []jsonIssue      `json:"issues,omitempty"`
 	// Reorder lists the rows below their minimum once the batch is drawn.
 	Reorder []jsonReorder `json:"reorder"`
-	Error     string           `json:"error,omitempty"`
+	Error   string        `json:"error,omitempty"`
 }
 
 func runBuild(env *Env, o *buildOptions, id string) error {

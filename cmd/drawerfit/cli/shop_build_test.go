@@ -178,4 +178,3 @@ func quantitiesOf(items []map[string]any) map[float64]float64 {
 	}
 	return q
 }
-
