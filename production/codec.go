@@ -271,19 +271,8 @@ func parseArrangement(s string) (synth.Arrangement, error) {
 	return synth.Single, fmt.Errorf("unknown arrangement %q", s)
 }
 
-// formatHz writes a frequency with an SI prefix and up to four
-// significant digits: "1 kHz", "15.5 kHz", "20 Hz".
-func formatHz(f float64) string {
-	prefixes := []struct {
-		scale float64
-		p     string
-	}{{1e9, "G"}, {1e6, "M"}, {1e3, "k"}, {1, ""}, {1e-3, "m"}}
-	for _, p := range prefixes {
-		if math.Abs(f) >= p.scale || p.p == "m" {
-			return strconv.FormatFloat(f/p.scale, 'g', 4, 64) + " " + p.p + "Hz"
-		}
-	}
-	return strconv.FormatFloat(f, 'g', 4, 64) + " Hz"
-}
+// formatHz writes a frequency with up to four significant digits (see
+// synth.FormatFrequency): "1 kHz", "15.5 kHz", "0.5 Hz".
+func formatHz(f float64) string { return synth.FormatFrequency(f, 4) }
 
 func itoa(n int) string { return strconv.Itoa(n) }

@@ -109,10 +109,11 @@ func (s Suggestion) Buys() string {
 		}
 	}
 	if n := s.UniqueSaved(); n > 0 {
-		out = append(out, fmt.Sprintf("%d fewer unique part(s)", n))
+		out = append(out, fmt.Sprintf("%d fewer unique %s", n, map[bool]string{true: "part", false: "parts"}[n == 1]))
 	}
 	if s.Before.Feasible && s.After.PartCount < s.Before.PartCount {
-		out = append(out, fmt.Sprintf("%d fewer part(s) per board", s.Before.PartCount-s.After.PartCount))
+		n := s.Before.PartCount - s.After.PartCount
+		out = append(out, fmt.Sprintf("%d fewer %s per board", n, map[bool]string{true: "part", false: "parts"}[n == 1]))
 	}
 	return strings.Join(out, "; ")
 }

@@ -457,7 +457,7 @@ func kindName(k synth.Kind) string {
 	return "low-pass"
 }
 
-func hz(f float64) string { return respplot.FormatEng(f, "Hz", 4) }
+func hz(f float64) string { return synth.FormatFrequency(f, 4) }
 
 // num writes x with up to sig significant digits and no exponent.
 func num(x float64, sig int) string {

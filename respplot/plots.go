@@ -244,7 +244,7 @@ func addMask(p *plot.Plot, leg *legend, r *Response, lo, hi, bottom, top float64
 		right := (e.name == "fp") != hp
 		l, err := plotter.NewLabels(plotter.XYLabels{
 			XYs:    plotter.XYs{{X: e.f, Y: bottom}},
-			Labels: []string{e.name + " " + FormatEng(e.f, "Hz", 4)},
+			Labels: []string{e.name + " " + synth.FormatFrequency(e.f, 4)},
 		})
 		if err != nil {
 			return fmt.Errorf("respplot: edge labels: %w", err)

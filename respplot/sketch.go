@@ -167,9 +167,9 @@ func Sketch(r *Response, cols, rows int) (string, error) {
 		key = append(key, "* nominal")
 	}
 	key = append(key, ". target", "- limits")
-	edges := "| fp " + FormatEng(L.Fp, "Hz", 4)
+	edges := "| fp " + synth.FormatFrequency(L.Fp, 4)
 	if L.Fs > 0 {
-		edges += ", fs " + FormatEng(L.Fs, "Hz", 4)
+		edges += ", fs " + synth.FormatFrequency(L.Fs, 4)
 	}
 	key = append(key, edges)
 	sb.WriteString(strings.Repeat(" ", gutter) + " " + strings.Join(key, "  ") + "\n")

@@ -7,6 +7,8 @@ import (
 	"strings"
 
 	"gonum.org/v1/plot"
+
+	"drawerfit/synth"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 )
@@ -44,7 +46,7 @@ func (FreqTicks) Ticks(min, max float64) []plot.Tick {
 			}
 			t := plot.Tick{Value: v}
 			if labelled(m) {
-				t.Label = FormatEng(v, "Hz", 3)
+				t.Label = synth.FormatFrequency(v, 3)
 			}
 			ticks = append(ticks, t)
 		}

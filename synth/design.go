@@ -5,6 +5,8 @@ import (
 	"math"
 	"math/cmplx"
 	"sort"
+	"strconv"
+	"strings"
 
 	"drawerfit/fault"
 )
@@ -73,8 +75,8 @@ func MinOrder(s Spec) (int, error) {
 	if s.Stop != 0 && s.Approx != Bessel {
 		raw := closedFormOrder(&s)
 		if raw > MaxOrder {
-			return 0, fault.Infeasiblef("%s %s needs order %d for %g dB at %g Hz; the limit is %d",
-				s.Approx, s.Kind, int(math.Ceil(raw-1e-9)), s.StopAtten, s.Stop, MaxOrder)
+			return 0, fault.Infeasiblef("%s %s needs order %d for %g dB at %s; the limit is %d. %s",
+				s.Approx, s.Kind, int(math.Ceil(raw-1e-9)), s.StopAtten, FormatFrequency(s.Stop, 4), MaxOrder, beyondMaxOrder(s))
 		}
 		start = max(1, int(math.Ceil(raw-1e-9)))
 	}
@@ -109,6 +111,45 @@ func MinOrder(s Spec) (int, error) {
 	}
 	return 0, fault.Infeasiblef("no %s order up to %d reaches %g dB at %g Hz: the most is %.2f dB (order %d); move the stopband edge away or use another response",
 		s.Approx, MaxOrder, s.StopAtten, s.Stop, best, bestN)
+}
+
+// beyondMaxOrder says what would bring a specification that needs more
+// than MaxOrder (closed form, Butterworth or Chebyshev) within reach: a
+// Chebyshev response with the same passband attenuation as its ripple (for
+// a Butterworth), what order MaxOrder reaches at fs, and the stopband edge
+// where order MaxOrder reaches the attenuation asked for.
+func beyondMaxOrder(s Spec) string {
+	var out []string
+	if s.Approx == Butterworth {
+		c := s
+		c.Approx, c.Ripple, c.Order = Chebyshev, s.PassAtten, 0
+		if n, err := MinOrder(c); err == nil {
+			out = append(out, fmt.Sprintf("A Chebyshev response with %s dB ripple would do it with order %d.",
+				strconv.FormatFloat(s.PassAtten, 'g', 3, 64), n))
+		}
+	}
+	gp := math.Pow(10, s.PassAtten/10) - 1
+	gs := math.Pow(10, s.StopAtten/10) - 1
+	n := float64(MaxOrder)
+	r := s.stopRatio()
+	var reach, ratio float64
+	if s.Approx == Chebyshev {
+		reach = 10 * math.Log10(1+gp*math.Pow(math.Cosh(n*math.Acosh(r)), 2))
+		ratio = math.Cosh(math.Acosh(math.Sqrt(gs/gp)) / n)
+	} else {
+		reach = 10 * math.Log10(1+gp*math.Pow(r, 2*n))
+		ratio = math.Pow(gs/gp, 1/(2*n))
+	}
+	// The edge rounded outward to three digits, so that it is enough.
+	scale := math.Pow(10, math.Floor(math.Log10(s.Pass*ratio))-2)
+	edge := math.Ceil(s.Pass*ratio/scale-1e-9) * scale
+	if s.Kind == HighPass {
+		scale = math.Pow(10, math.Floor(math.Log10(s.Pass/ratio))-2)
+		edge = math.Floor(s.Pass/ratio/scale+1e-9) * scale
+	}
+	out = append(out, fmt.Sprintf("Or relax the specification: order %d reaches %.1f dB at %s, and %g dB from %s.",
+		MaxOrder, reach, FormatFrequency(s.Stop, 4), s.StopAtten, FormatFrequency(edge, 3)))
+	return strings.Join(out, " ")
 }
 
 // attenSlack absorbs rounding when a design meets a specification exactly
@@ -424,7 +465,7 @@ func (d *Design) halfPower() float64 {
 }
 
 // hzString formats a frequency for notes and reasons: 1.5 kHz, 50 Hz.
-func hzString(f float64) string { return siString(f, "Hz") }
+func hzString(f float64) string { return FormatFrequency(f, 4) }
 
 func secondsString(t float64) string { return siString(t, "s") }
 

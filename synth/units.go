@@ -68,3 +68,44 @@ func ParseFrequency(s string) (float64, error) {
 	}
 	return v, nil
 }
+
+// FormatFrequency writes a frequency in hertz for people, with sig
+// significant digits (at least 1) and trailing zeros dropped: "1 kHz",
+// "15.5 kHz", "440 Hz", "2.5 MHz". Below 1 Hz it writes decimals of Hz,
+// "0.5 Hz", never "500 mHz", which reads as MHz on a bench. The value is
+// rounded before the prefix is chosen, so 999.99 Hz at four digits is
+// "1 kHz". Zero, negative, NaN and infinite values are written plainly in
+// Hz. This is the one frequency formatter of the program's output.
+func FormatFrequency(f float64, sig int) string {
+	if sig < 1 {
+		sig = 1
+	}
+	if !(f > 0) || math.IsInf(f, 0) {
+		return strconv.FormatFloat(f, 'g', -1, 64) + " Hz"
+	}
+	r, err := strconv.ParseFloat(strconv.FormatFloat(f, 'e', sig-1, 64), 64)
+	if err != nil {
+		r = f
+	}
+	for _, p := range []struct {
+		prefix string
+		scale  float64
+	}{{"G", 1e9}, {"M", 1e6}, {"k", 1e3}} {
+		if r >= p.scale {
+			return trimDecimal(r/p.scale, sig) + " " + p.prefix + "Hz"
+		}
+	}
+	return trimDecimal(r, sig) + " Hz"
+}
+
+// trimDecimal writes x (already rounded) in plain decimals with at most
+// sig significant digits, without trailing zeros.
+func trimDecimal(x float64, sig int) string {
+	exp := int(math.Floor(math.Log10(x)))
+	decimals := max(sig-1-exp, 0)
+	s := strconv.FormatFloat(x, 'f', decimals, 64)
+	if strings.Contains(s, ".") {
+		s = strings.TrimRight(strings.TrimRight(s, "0"), ".")
+	}
+	return s
+}

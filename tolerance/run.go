@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"math"
 	"sort"
-	"strconv"
 	"strings"
 
 	"drawerfit/fault"
@@ -403,17 +402,9 @@ func advice(r *Result, j *judge, onLimit bool, refitNote string) []string {
 	return a
 }
 
-// hz formats a frequency for messages, to 4 significant digits.
-func hz(f float64) string {
-	f, _ = strconv.ParseFloat(strconv.FormatFloat(f, 'g', 4, 64), 64)
-	switch {
-	case f >= 1e6:
-		return fmt.Sprintf("%.4g MHz", f/1e6)
-	case f >= 1e3:
-		return fmt.Sprintf("%.4g kHz", f/1e3)
-	}
-	return fmt.Sprintf("%.4g Hz", f)
-}
+// hz formats a frequency for messages, to 4 significant digits (see
+// synth.FormatFrequency).
+func hz(f float64) string { return synth.FormatFrequency(f, 4) }
 
 // unknownTolerances names the positions whose parts have no tolerance in
 // stock (stored as 0): they are simulated with DefaultTolerance.

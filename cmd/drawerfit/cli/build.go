@@ -60,10 +60,10 @@ that a spreadsheet would run as a formula get a leading apostrophe, as in
 stock export. With --dry-run it is the BOM of a saved design without
 building it.`,
 		Example: `  # A school's weather-station kit: pick list for 25 anemometer boards first
-  drawerfit build q3vx7m --boards 25 --dry-run --csv picks-25.csv
+  drawerfit build ID --boards 25 --dry-run --csv picks-25.csv
 
   # Then draw the parts
-  drawerfit build q3vx7m --boards 25
+  drawerfit build ID --boards 25
 
   # The bill of materials purchasing orders 100 boards from, nothing drawn
   drawerfit build q3vx7m --boards 100 --dry-run --bom bom-q3vx7m.csv
@@ -252,16 +252,16 @@ func printBuild(env *Env, w io.Writer, d *production.Design, o *buildOptions, re
 	switch {
 	case res.Drawn():
 		b := res.Build
-		fmt.Fprintf(w, "Build %d: design %s × %d boards — %d parts drawn from %d stock rows (ledger reason %q).\n",
-			b.ID, d.ID, b.Boards, b.Drawn(), len(res.Batch.Picks), production.BuildReason(b.ID, d.ID, b.Boards))
+		fmt.Fprintf(w, "Build %d: design %s × %s — %s drawn from %s (ledger reason %q).\n",
+			b.ID, d.ID, plural(b.Boards, "board"), plural(b.Drawn(), "part"), plural(len(res.Batch.Picks), "stock row"), production.BuildReason(b.ID, d.ID, b.Boards))
 	case o.dryRun:
-		fmt.Fprintf(w, "Dry run: design %s × %d boards — nothing drawn.\n", d.ID, o.boards)
+		fmt.Fprintf(w, "Dry run: design %s × %s — nothing drawn.\n", d.ID, plural(o.boards, "board"))
 	default:
-		fmt.Fprintf(w, "Refused: design %s × %d boards — nothing drawn.\n", d.ID, o.boards)
+		fmt.Fprintf(w, "Refused: design %s × %s — nothing drawn.\n", d.ID, plural(o.boards, "board"))
 	}
 	fmt.Fprintf(w, "%s\n\nPick list:\n", d.Summary())
 	g := newGrid("bin", "row", "part", "qty", "refs (one board)")
-	g.right(1, 3)
+	g.right(1, 3).wrap(16, 4).wrap(14, 2).optional(dropLater, 1)
 	last := "\x00"
 	for _, p := range res.Batch.Picks {
 		bin := p.Part.Location

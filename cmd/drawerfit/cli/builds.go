@@ -74,6 +74,7 @@ func runBuilds(env *Env, o *buildsOptions) error {
 	}
 	g := newGrid("build", "built", "design", "what", "boards", "parts", "status")
 	g.right(0, 4, 5)
+	g.wrap(20, 3).wrap(8, 6).optional(dropFirst, 1).optional(dropLater, 5)
 	for _, b := range list {
 		status := "built"
 		if !b.UndoneAt.IsZero() {

@@ -31,7 +31,7 @@ parts and distinct stock rows per board, and how many builds of it stand.`,
   drawerfit designs
 
   # Drop one that will not be built
-  drawerfit designs remove k7qm2x`,
+  drawerfit designs remove ID`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error { return runDesigns(env, o) },
 	}
@@ -79,6 +79,10 @@ func runDesigns(env *Env, o *designsOptions) error {
 	}
 	g := newGrid("id", "saved", "design", "filters", "boards", "error dB", "parts", "unique", "builds")
 	g.right(3, 4, 5, 6, 7, 8)
+	// Narrow terminal: the design's description wraps; the counts a glance
+	// does without go first.
+	g.wrap(24, 2).abbrev(5, "err dB").abbrev(7, "uniq").abbrev(3, "filt").abbrev(8, "built")
+	g.optional(dropFirst, 3, 7).optional(dropLater, 1, 8).optional(dropLast, 4)
 	for _, d := range list {
 		sum := d.Summary
 		if !d.MeetsSpec {
@@ -99,7 +103,7 @@ func newDesignsRemoveCmd(env *Env) *cobra.Command {
 drawerfit builds and can still be undone; its id is never given to another
 design.`,
 		Example: `  # The workshop decided against the 3-pole variant of its hum filter
-  drawerfit designs remove k7qm2x`,
+  drawerfit designs remove ID`,
 		Args: func(cmd *cobra.Command, args []string) error {
 			if len(args) != 1 {
 				return usageError{fmt.Errorf("designs remove needs one design id (got %d arguments)", len(args))}

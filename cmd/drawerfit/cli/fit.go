@@ -358,8 +358,8 @@ func candidateNetlist(c *optimize.Candidate) string {
 func printFit(env *Env, w io.Writer, run *fitRun) {
 	res := run.result
 	fmt.Fprintf(w, "%s\n", report.SpecLine(res.Designs[0]))
-	fmt.Fprintf(w, "Stock: %s — %d resistor and %d capacitor values searched (%s), %d board(s)\n",
-		run.source, res.Resistors, res.Capacitors, combineText(run.opts.Combine), run.opts.Boards)
+	fmt.Fprintf(w, "Stock: %s — %d resistor and %d capacitor values searched (%s), %s\n",
+		run.source, res.Resistors, res.Capacitors, combineText(run.opts.Combine), plural(run.opts.Boards, "board"))
 	fmt.Fprintf(w, "Searched: %s in %s\n\n", searchedText(res), run.elapsed.Round(time.Millisecond))
 	if len(res.Candidates) == 0 {
 		fmt.Fprintln(w, "Nothing in stock meets the specification.")
@@ -371,6 +371,10 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 	}
 	g := newGrid("#", "order", "sections", "error dB", "at fp dB", "at fs dB", "parts", "unique", "cost/board", "boards", "pareto")
 	g.right(0, 1, 3, 4, 5, 6, 7, 8, 9)
+	// On a narrow terminal: the error, the parts and the place stay; the
+	// stock detail goes first, the figures at fp and fs later.
+	g.abbrev(1, "ord").abbrev(3, "err dB").abbrev(4, "fp dB").abbrev(5, "fs dB").abbrev(7, "uniq").abbrev(8, "cost").abbrev(10, "P")
+	g.optional(dropFirst, 7, 10).optional(dropLater, 1, 4, 5, 8).optional(dropLast, 9)
 	for i, c := range res.Candidates {
 		mark := ""
 		if c.Pareto {
@@ -402,8 +406,8 @@ func printCandidateDetail(env *Env, w io.Writer, c *optimize.Candidate, rank int
 	if c.CostPerBoard.Known() {
 		cost = ", parts cost " + c.CostPerBoard.String() + " per board"
 	}
-	fmt.Fprintf(w, "\nCandidate #%d: order %d, %s, response error %s dB, %d parts from %d stock rows%s, %d op-amp(s)\n",
-		rank, c.Order(), c.Arrangement(), fmtErr(c.ResponseError), c.PartCount, c.UniqueParts, cost, len(c.Sections))
+	fmt.Fprintf(w, "\nCandidate #%d: order %d, %s, response error %s dB, %s from %s%s, %s\n",
+		rank, c.Order(), c.Arrangement(), fmtErr(c.ResponseError), plural(c.PartCount, "part"), plural(c.UniqueParts, "stock row"), cost, plural(len(c.Sections), "op-amp"))
 	for i, s := range c.Sections {
 		t := s.Target
 		head := fmt.Sprintf("Section %d, %s: target f0 %s", i+1, t.Topology.Name(), formatHz(t.F0))
@@ -418,13 +422,13 @@ func printCandidateDetail(env *Env, w io.Writer, c *optimize.Candidate, rank int
 			head += fmt.Sprintf("; real pole %s (target %s)", formatHz(s.RealF0), formatHz(t.RealF0))
 		}
 		fmt.Fprintln(w, head)
-		g := newGrid("ref", "role", "value", "made of", "bins", "tolerance")
-		for _, comp := range s.Components {
+		g := newGrid("ref", "role", "value", "made of", "bins", "tolerance").wrap(12, 1, 3).optional(dropLater, 5)
+		for j, comp := range s.Components {
 			var bins []string
 			for _, p := range comp.Parts {
 				bins = append(bins, orDash(p.Location))
 			}
-			g.add(comp.Ref, comp.Symbol, fmtValue4(comp.Value, comp.Kind), report.MadeOf(comp),
+			g.add(comp.Ref, report.ElementRole(t.Topology, t.Topology.Element(j)), fmtValue4(comp.Value, comp.Kind), report.MadeOf(comp),
 				strings.Join(bins, ", "), fmtTol(comp.Tolerance()))
 		}
 		g.render(env, w)

@@ -374,13 +374,11 @@ func (fc *fitChecks) printTable(env *Env, w io.Writer, g *grid, run *fitRun) {
 		g.render(env, w)
 		return
 	}
-	n := len(g.header)
-	g.header = append(g.header, "yield % (95% CI)")
-	g.right(n)
-	n++
+	// The yield stays on a narrow terminal; its cell holds the interval.
+	g.abbrev(g.addColumn("yield % (95% CI)", true, 0), "yield %")
 	if fc.op != nil {
-		g.header = append(g.header, "op-amp dB", "GBW rule")
-		g.right(n)
+		g.abbrev(g.addColumn("op-amp dB", true, dropLater), "op dB")
+		g.abbrev(g.addColumn("GBW rule", false, dropLast), "GBW")
 	}
 	warned := false
 	for i, c := range cands {
@@ -441,6 +439,7 @@ func printFitChecks(env *Env, w io.Writer, run *fitRun, c *optimize.Candidate) {
 	if len(cc.bias) > 0 {
 		fmt.Fprintln(w, "Bias-current compensation (for bipolar-input op-amps): one resistor per follower from its output to its - input, equal to the section's DC source resistance; it does not change the response")
 		g := newGrid("ref", "section", "needs", "from", "value", "made of", "bins", "tolerance", "off by").right(1, 2, 4, 8)
+		g.abbrev(1, "sec").abbrev(7, "tol").wrap(10, 5).optional(dropFirst, 3, 8).optional(dropLater, 2, 7)
 		for _, b := range cc.bias {
 			if len(b.Part.Parts) == 0 {
 				g.add(b.Part.Ref, strconv.Itoa(b.Section), formatPart(b.Ohms, synth.Resistor), b.Path, "-", "nothing left in stock", "-", "-", "-")
@@ -459,7 +458,7 @@ func printFitChecks(env *Env, w io.Writer, run *fitRun, c *optimize.Candidate) {
 	if op := cc.opAmp; op != nil {
 		fmt.Fprintf(w, "Op-amp: %s gain-bandwidth, %.0f dB DC gain (single-pole model): the response changes by up to %.3f dB (%.3f dB in the passband)\n",
 			yieldHz(op.GBW), 20*math.Log10(op.DCGain), op.BandError, op.PassbandError)
-		g := newGrid("section", "f0", "Q", "needs GBW", "ok", "change").right(0, 1, 2, 3, 5)
+		g := newGrid("section", "f0", "Q", "needs GBW", "ok", "change").right(0, 1, 2, 3, 5).optional(dropLater, 5)
 		rules := []string{}
 		seen := map[string]bool{}
 		for _, s := range op.Sections {
@@ -494,7 +493,7 @@ func printFitChecks(env *Env, w io.Writer, run *fitRun, c *optimize.Candidate) {
 		}
 		fmt.Fprintln(w, margins)
 		if b := r.Boards; b != nil {
-			fmt.Fprintf(w, "Of %d boards built, expect about %.0f to pass (95%% range %d to %d)\n", b.Built, b.Expected, b.Low, b.High)
+			fmt.Fprintf(w, "Of %s built, expect about %.0f to pass (95%% range %d to %d)\n", plural(b.Built, "board"), b.Expected, b.Low, b.High)
 		}
 		var blame []string
 		for _, b := range r.Blame {
@@ -516,7 +515,7 @@ func printFitChecks(env *Env, w io.Writer, run *fitRun, c *optimize.Candidate) {
 		}
 	}
 	for _, s := range cc.warnings() {
-		fmt.Fprintln(w, "Warning: "+s)
+		fmt.Fprintln(w, "warning: "+s)
 	}
 }
 

@@ -224,7 +224,7 @@ func TestFitGBW(t *testing.T) {
 			if !strings.Contains(out, "Op Amps for Everyone, section 16.8.4") || !strings.Contains(out, "100·Q·f0") {
 				t.Errorf("the rule used is not stated:\n%s", out)
 			}
-			warned := regexp.MustCompile(`(?m)^Warning: .*gain-bandwidth .* is below`).MatchString(out)
+			warned := regexp.MustCompile(`(?m)^warning: .*gain-bandwidth .* is below`).MatchString(out)
 			if warned != tc.warn {
 				t.Errorf("GBW warning %v, want %v:\n%s", warned, tc.warn, out)
 			}
@@ -472,7 +472,7 @@ func TestFitWarnings(t *testing.T) {
 		}
 	}
 	code, out, _ := runChecksFit(t, args...)
-	if code != 0 || !regexp.MustCompile(`(?m)^Warning: R\d+ .*below about 1 kΩ`).MatchString(out) {
+	if code != 0 || !regexp.MustCompile(`(?m)^warning: R\d+ .*below about 1 kΩ`).MatchString(out) {
 		t.Errorf("exit %d, text lacks the practical warning:\n%s", code, out)
 	}
 }

@@ -130,22 +130,7 @@ func addIDColumn(g *grid, ids []string) {
 	if len(ids) == 0 {
 		return
 	}
-	g.header = append([]string{g.header[0], "id"}, g.header[1:]...)
-	for i := range g.rows {
-		id := ""
-		if i < len(ids) {
-			id = ids[i]
-		}
-		g.rows[i] = append([]string{g.rows[i][0], id}, g.rows[i][1:]...)
-	}
-	shifted := map[int]bool{}
-	for c, r := range g.rightAt {
-		if c >= 1 {
-			c++
-		}
-		shifted[c] = r
-	}
-	g.rightAt = shifted
+	g.insertColumn(1, "id", ids)
 }
 
 // ---- fit --suggest ----
@@ -173,12 +158,12 @@ func (s *fitSuggestions) print(env *Env, w io.Writer) {
 	if s == nil {
 		return
 	}
-	fmt.Fprintf(w, "\nPurchase suggestions for %d board(s) (each tested by fitting again with it in stock; %s):\n", s.boards, s.elapsed.Round(time.Millisecond))
+	fmt.Fprintf(w, "\nPurchase suggestions for %s (each tested by fitting again with it in stock; %s):\n", plural(s.boards, "board"), s.elapsed.Round(time.Millisecond))
 	if len(s.list) == 0 {
 		fmt.Fprintln(w, "  none: no E24/E96 resistor or E6/E12 capacitor near the values the design needs improves on what is in stock.")
 		return
 	}
-	g := newGrid("#", "buy", "part", "for row", "cost", "what it buys")
+	g := newGrid("#", "buy", "part", "for row", "cost", "what it buys").wrap(24, 5).wrap(14, 2).optional(dropFirst, 3)
 	g.right(0, 1, 4)
 	estimates := false
 	for i, sg := range s.list {
@@ -481,7 +466,7 @@ func runPlanFit(env *Env, o *fitOptions) error {
 func printPlanFit(env *Env, w io.Writer, run *planRun) {
 	res := run.result
 	p := res.Plan
-	fmt.Fprintf(w, "Plan %q (%s): %d filters (%d distinct), %d board(s)\n", p.Name, run.file, len(p.Filters), len(res.Groups), p.Boards)
+	fmt.Fprintf(w, "Plan %q (%s): %s (%d distinct), %s\n", p.Name, run.file, plural(len(p.Filters), "filter"), len(res.Groups), plural(p.Boards, "board"))
 	fmt.Fprintf(w, "Stock: %s — quantities shared by all filters and boards; searched in %s\n\n", run.source, run.elapsed.Round(time.Millisecond))
 	if len(res.Boards) == 0 {
 		fmt.Fprintln(w, "No board can be built from the stock.")
@@ -499,7 +484,7 @@ func printPlanFit(env *Env, w io.Writer, run *planRun) {
 		return
 	}
 	g := newGrid("#", "worst error dB", "parts", "unique", "shared", "boards", "pareto")
-	g.right(0, 1, 2, 3, 4, 5)
+	g.right(0, 1, 2, 3, 4, 5).abbrev(1, "worst dB").optional(dropFirst, 4, 6)
 	for i, b := range res.Boards {
 		mark := ""
 		if b.Pareto {
@@ -518,7 +503,7 @@ func printPlanFit(env *Env, w io.Writer, run *planRun) {
 	best := res.Boards[0]
 	fmt.Fprintf(w, "\nBoard #1: %d parts from %d stock rows per board, worst response error %s dB\n", best.PartCount, best.UniqueParts, fmtErr(best.WorstError))
 	fg := newGrid("filter", "label", "specification", "error dB", "parts", "unique", "same as")
-	fg.right(0, 3, 4, 5)
+	fg.right(0, 3, 4, 5).wrap(20, 2).wrap(10, 1).optional(dropFirst, 5, 6)
 	for i, c := range best.Filters {
 		same := ""
 		for j := 0; j < i; j++ {
@@ -547,7 +532,7 @@ func printPlanFit(env *Env, w io.Writer, run *planRun) {
 		fmt.Fprintln(w, "Note: "+n)
 	}
 	if len(run.ids) > 0 {
-		fmt.Fprintf(w, "\nSaved %d board designs (the list and the Pareto front); build the first with `drawerfit build %s --boards %d`.\n", len(run.ids), run.ids[0], p.Boards)
+		fmt.Fprintf(w, "\nSaved %s (the list and the Pareto front); build the first with `drawerfit build %s --boards %d`.\n", plural(len(run.ids), "board design"), run.ids[0], p.Boards)
 	}
 	fmt.Fprintln(w, "\nVerify on the bench before production; capacitor voltage ratings must suit the circuit; safety-relevant, medical or mains-connected uses need qualified review under local rules.")
 }

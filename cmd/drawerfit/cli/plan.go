@@ -352,7 +352,7 @@ func runPlan(env *Env, o *planOptions) error {
 		fmt.Fprintln(w, "  "+n)
 	}
 	fmt.Fprintln(w)
-	secs := newGrid("stage", "topology", "f0", "Q", "reason").right(0, 2, 3)
+	secs := newGrid("stage", "topology", "f0", "Q", "reason").right(0, 2, 3).wrap(24, 4).wrap(12, 1)
 	secs.title = "Sections in cascade order"
 	for i, sec := range d.Sections {
 		q := "-"
@@ -367,7 +367,7 @@ func runPlan(env *Env, o *planOptions) error {
 	}
 	secs.render(env, w)
 	fmt.Fprintln(w)
-	comps := newGrid("stage", "ref", "element", "role", "normalised", "value").right(0, 4, 5)
+	comps := newGrid("stage", "ref", "element", "role", "normalised", "value").right(0, 4, 5).wrap(12, 3)
 	comps.title = "Components (normalised: edge 1 rad/s; scaled by 2π·fp and per-stage impedance)"
 	for i, sec := range d.Sections {
 		norm, err := d.Normalised(i)
@@ -442,21 +442,9 @@ func ordinal(n int) string {
 	return strconv.Itoa(n) + suffix
 }
 
-// formatHz writes a frequency with an SI prefix and up to 5 significant
-// digits: 1 kHz, 1.5 kHz, 440 Hz.
-func formatHz(f float64) string {
-	// Round first, so that 999.99999 Hz is written 1 kHz, not 1000 Hz.
-	f, _ = strconv.ParseFloat(strconv.FormatFloat(f, 'g', 5, 64), 64)
-	for _, p := range []struct {
-		s string
-		v float64
-	}{{"G", 1e9}, {"M", 1e6}, {"k", 1e3}} {
-		if f >= p.v {
-			return strconv.FormatFloat(f/p.v, 'g', 5, 64) + " " + p.s + "Hz"
-		}
-	}
-	return strconv.FormatFloat(f, 'g', 5, 64) + " Hz"
-}
+// formatHz writes a frequency to 5 significant digits (see
+// synth.FormatFrequency): 1 kHz, 1.0929 kHz, 440 Hz, 0.5 Hz.
+func formatHz(f float64) string { return synth.FormatFrequency(f, 5) }
 
 // formatDB writes a number of dB with prec decimals, without a minus sign
 // on a value that rounds to zero.

@@ -54,16 +54,16 @@ A design kept from a board plan carries several filters: report writes one
 sheet for the board (its pick list for the whole batch first, then each
 filter's sheet on its own pages); --split writes one file per filter
 (FILE-1.html, FILE-2.html, ...) and --filter picks one.`,
-		Example: `  # The build sheet for saved design k7m2 of the club's bat-detector boards
-  drawerfit report k7m2 -o bat-detector.html
+		Example: `  # The build sheet of a saved design (ID: the id fit --save printed) for the club's bat-detector boards
+  drawerfit report ID -o bat-detector.html
 
   # With the yield (and the forecast for the batch the design was saved for),
   # a 1 MHz op-amp, a note and PNG plots for the wiki
-  drawerfit report k7m2 -o bat-detector.html --yield --gbw 1M \
+  drawerfit report ID -o bat-detector.html --yield --gbw 1M \
     --note "Fit C3 before the op-amp socket" --png plots/
 
   # Only the right-channel filter of a saved board plan
-  drawerfit report p4q9 -o right.html --filter "right channel"`,
+  drawerfit report ID -o right.html --filter "right channel"`,
 		Args: func(cmd *cobra.Command, args []string) error {
 			if len(args) != 1 {
 				return usageError{fmt.Errorf("report needs one saved design ID (got %d arguments)", len(args))}

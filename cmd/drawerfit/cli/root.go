@@ -35,6 +35,10 @@ type Env struct {
 	Now func() time.Time
 	// Ctx is cancelled on interrupt.
 	Ctx context.Context
+	// TermWidth returns the width in columns of the terminal w writes to,
+	// 0 when w is not a terminal; nil means detect it (see termWidth).
+	// Tests set it to see the terminal layout of a table.
+	TermWidth func(w io.Writer) int
 }
 
 // commandCtor builds one top-level command bound to env.

@@ -38,11 +38,11 @@ with the reference designators it fills.
 With --json the output is the fit's candidate object with the design's id
 (a board of several filters: the plan fit's board object), the
 specification, and stock_issues.`,
-		Example: `  # A beekeeper's hive-noise monitor: check saved design q3vx7m before a batch
-  drawerfit show q3vx7m
+		Example: `  # A beekeeper's hive-noise monitor: check saved design ID (as fit --save printed it) before a batch
+  drawerfit show ID
 
   # The same for a script
-  drawerfit show q3vx7m --json`,
+  drawerfit show ID --json`,
 		Args: func(cmd *cobra.Command, args []string) error {
 			if len(args) != 1 {
 				return usageError{fmt.Errorf("show needs one design id (got %d arguments)", len(args))}
@@ -142,8 +142,8 @@ func showJSON(d *production.Design, issues []production.Issue, items []stock.Ite
 
 func printShow(env *Env, w io.Writer, d *production.Design, check *production.BuildResult) {
 	fmt.Fprintf(w, "Design %s: %s\n", d.ID, d.Summary())
-	fmt.Fprintf(w, "Saved %s (rank %d of its fit), fitted for %d board(s): %d parts from %d stock rows per board, worst response error %s dB\n",
-		d.Created.Local().Format("2006-01-02 15:04"), d.Rank, d.Boards, d.PartCount(), d.UniqueParts(), fmtErr(d.WorstError()))
+	fmt.Fprintf(w, "Saved %s (rank %d of its fit), fitted for %s: %s from %s per board, worst response error %s dB\n",
+		d.Created.Local().Format("2006-01-02 15:04"), d.Rank, plural(d.Boards, "board"), plural(d.PartCount(), "part"), plural(d.UniqueParts(), "stock row"), fmtErr(d.WorstError()))
 	for i, f := range d.Filters {
 		dup := 0
 		for j := 0; j < i; j++ {
@@ -167,7 +167,7 @@ func printShow(env *Env, w io.Writer, d *production.Design, check *production.Bu
 			fmt.Fprint(w, sk)
 		}
 	}
-	fmt.Fprintf(w, "\nStock check for %d board(s):", d.Boards)
+	fmt.Fprintf(w, "\nStock check for %s:", plural(d.Boards, "board"))
 	if len(check.Issues) == 0 {
 		fmt.Fprintln(w, " every row is as saved and holds enough.")
 		return

@@ -322,6 +322,9 @@ func runStockList(ctx context.Context, env *Env, o stockListOptions) error {
 		return nil
 	}
 	g := newGrid("ID", "Kind", "Value", "Tol", "Qty", "Package", "Dielectric", "Location", "Rated", "Price", "Min", "Note").right(0, 2, 3, 4, 8, 9, 10)
+	// Narrow terminal: the note wraps; shop figures go first, then the
+	// package and dielectric.
+	g.abbrev(6, "Diel").abbrev(7, "Loc").wrap(12, 11).optional(dropFirst, 9, 10).optional(dropLater, 5, 8, 11).optional(dropLast, 6)
 	parts := 0
 	for _, it := range items {
 		g.add(strconv.FormatInt(it.ID, 10), it.Kind.String(), it.ValueText(),
@@ -937,6 +940,7 @@ func runStockHistory(ctx context.Context, env *Env, o stockHistoryOptions) error
 		return nil
 	}
 	g := newGrid("Entry", "Time (UTC)", "Row", "Part", "Change", "After", "Reason").right(0, 2, 4, 5)
+	g.wrap(12, 6).wrap(12, 3).optional(dropLater, 0, 5)
 	for _, m := range ms {
 		g.add(strconv.FormatInt(m.ID, 10), m.At.UTC().Format("2006-01-02 15:04:05"), strconv.FormatInt(m.StockID, 10),
 			m.Part.Label(), fmt.Sprintf("%+d", m.Delta), strconv.Itoa(m.Balance), oneLine(m.Reason))

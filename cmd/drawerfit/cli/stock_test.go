@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
+	"io"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -21,6 +22,9 @@ type stockEnv struct {
 	t   *testing.T
 	db  string
 	dir string
+	// width, when positive, makes standard output a terminal of that many
+	// columns (tables drawn to fit); 0 is a pipe.
+	width int
 }
 
 func newStockEnv(t *testing.T) *stockEnv {
@@ -37,6 +41,14 @@ func (s *stockEnv) run(stdin string, args ...string) (string, string, int) {
 		In: strings.NewReader(stdin), Out: &out, Err: &errb,
 		Getenv: func(k string) string { return "" },
 		Now:    func() time.Time { return time.Date(2030, 3, 1, 9, 30, 0, 0, time.UTC) },
+	}
+	if s.width > 0 {
+		env.TermWidth = func(w io.Writer) int {
+			if w == &out {
+				return s.width
+			}
+			return 0
+		}
 	}
 	code := Run(env, append([]string{"--db", s.db}, args...))
 	return out.String(), errb.String(), code

@@ -121,14 +121,14 @@ is the product of the filter yields) and ID/N analyses filter N in full.
 
 The same seed and trial count always give the same result.`,
 			Example: `  # A school weather station: how many of the 25 anemometer boards built from
-  # saved design 12 will pass, with the stock's own tolerances?
-  drawerfit yield 12 --boards 25
+  # saved design ID (as fit --save printed it) will pass, with the stock's own tolerances?
+  drawerfit yield ID --boards 25
 
   # The same with a 1 MHz op-amp, and a 0.5 dB looser passband
-  drawerfit yield 12 --gbw 1M --pass-margin 0.5
+  drawerfit yield ID --gbw 1M --pass-margin 0.5
 
   # For a script: 10,000 trials, seed 7, as JSON
-  drawerfit yield 12 --trials 10000 --seed 7 --json`,
+  drawerfit yield ID --trials 10000 --seed 7 --json`,
 			Args: func(cmd *cobra.Command, args []string) error {
 				if len(args) != 1 {
 					return usageError{fmt.Errorf("yield needs one saved design ID (got %d arguments)", len(args))}
@@ -297,11 +297,13 @@ func writeYieldReport(env *Env, w io.Writer, rep *yieldReport, sens bool) {
 	}
 	fmt.Fprintf(w, "parts %s their stock tolerances, seed %d, judged against %s\n", how, r.Seed, window)
 	if b := r.Boards; b != nil {
-		fmt.Fprintf(w, "of %d boards built, expect about %.0f to pass (95%% range %d to %d)\n", b.Built, b.Expected, b.Low, b.High)
+		fmt.Fprintf(w, "of %s built, expect about %.0f to pass (95%% range %d to %d)\n", plural(b.Built, "board"), b.Expected, b.Low, b.High)
 	}
 	fmt.Fprintf(w, "failures: %d at the passband limit, %d at the stopband limit\n\n", r.FailPassband, r.FailStopband)
 
 	g := newGrid("figure", "nominal", "min", "5%", "median", "95%", "max").right(1, 2, 3, 4, 5, 6)
+	// Narrow terminal: the extremes go before the 5th to 95th percentile.
+	g.wrap(12, 0).optional(dropLater, 2, 6)
 	fmt.Fprintln(w, "Spread over the simulated boards")
 	addRow := func(label string, nominal float64, p *tolerance.Percentiles, format func(float64) string) {
 		if p == nil {
@@ -378,7 +380,7 @@ func writeYieldReport(env *Env, w io.Writer, rep *yieldReport, sens bool) {
 	}
 
 	if op := rep.OpAmp; op != nil {
-		og := newGrid("section", "f0", "Q", "needs GBW", "ok", "change").right(0, 1, 2, 3, 5)
+		og := newGrid("section", "f0", "Q", "needs GBW", "ok", "change").right(0, 1, 2, 3, 5).optional(dropLater, 5)
 		fmt.Fprintf(w, "Op-amp with %s gain-bandwidth and %.0f dB DC gain; gain-bandwidth needed by the rule of %s\n",
 			yieldHz(op.GBW), 20*math.Log10(op.DCGain), op.Rule)
 		for _, s := range op.Sections {
@@ -424,17 +426,9 @@ func writeYieldReport(env *Env, w io.Writer, rep *yieldReport, sens bool) {
 // yieldPct formats a fraction for reports.
 func yieldPct(x float64) string { return tolerance.Percent(x) }
 
-// yieldHz formats a frequency with an SI prefix, to 4 significant digits.
-func yieldHz(f float64) string {
-	f, _ = strconv.ParseFloat(strconv.FormatFloat(f, 'g', 4, 64), 64)
-	switch {
-	case f >= 1e6:
-		return strconv.FormatFloat(f/1e6, 'g', 4, 64) + " MHz"
-	case f >= 1e3:
-		return strconv.FormatFloat(f/1e3, 'g', 4, 64) + " kHz"
-	}
-	return strconv.FormatFloat(f, 'g', 4, 64) + " Hz"
-}
+// yieldHz formats a frequency to 4 significant digits (see
+// synth.FormatFrequency).
+func yieldHz(f float64) string { return synth.FormatFrequency(f, 4) }
 
 // fixed3 writes x with three decimals and no negative zero.
 func fixed3(x float64) string {

@@ -106,11 +106,11 @@ func runBoardYield(env *Env, o *yieldOptions, id string, filters []boardFilter) 
 		id, len(filters), yieldPct(rep.Yield), yieldPct(rep.CILow), yieldPct(rep.CIHigh))
 	fmt.Fprintf(w, "%s\n", boardYieldMethod)
 	if rep.Boards != nil {
-		fmt.Fprintf(w, "of %d boards built, expect about %.0f to pass (95%% range %d to %d)\n", o.boards, rep.Boards.Expected, rep.Boards.Low, rep.Boards.High)
+		fmt.Fprintf(w, "of %s built, expect about %.0f to pass (95%% range %d to %d)\n", plural(o.boards, "board"), rep.Boards.Expected, rep.Boards.Low, rep.Boards.High)
 	}
 	fmt.Fprintln(w)
 	g := newGrid("filter", "label", "yield", "95% interval", "most failures from")
-	g.right(0, 2)
+	g.right(0, 2).wrap(10, 1).wrap(20, 4).optional(dropFirst, 3)
 	for _, f := range rep.Filters {
 		top := "-"
 		if len(f.Blame) > 0 {
