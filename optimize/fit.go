@@ -337,6 +337,11 @@ func checkOptions(o *Options) error {
 		return fault.Invalidf("--combine must be 1 (single parts) or 2 (pairs too), not %d", o.Combine)
 	case o.Boards < 1:
 		return fault.Invalidf("--boards must be at least 1, not %d", o.Boards)
+	case o.Boards > stock.MaxQuantity:
+		// Every board takes a part from some row, which holds at most
+		// MaxQuantity; the bound also keeps parts-per-batch sums far from
+		// integer overflow.
+		return fault.Invalidf("--boards must be at most %d (the most a stock row can hold)", stock.MaxQuantity)
 	case o.Top < 1:
 		return fault.Invalidf("--top must be at least 1, not %d", o.Top)
 	case !(o.GoodEnough >= 0) || math.IsInf(o.GoodEnough, 0):

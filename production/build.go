@@ -130,6 +130,9 @@ func NewBatch(d *Design, boards int) (*Batch, error) {
 	if boards < 1 {
 		return nil, fault.Invalidf("--boards must be at least 1, not %d", boards)
 	}
+	if boards > stock.MaxQuantity {
+		return nil, fault.Invalidf("--boards must be at most %d (the most a stock row can hold)", stock.MaxQuantity)
+	}
 	b := &Batch{Design: d, Boards: boards}
 	idx := map[int64]int{}
 	for fi, f := range d.Filters {

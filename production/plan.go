@@ -36,8 +36,14 @@ const MaxPlanFilters = 16
 // Validate checks the plan and normalises its specifications in place.
 // Errors are fault.Invalid naming the filter.
 func (p *Plan) Validate() error {
-	if p.Boards < 1 {
-		return fault.Invalidf("plan %q: boards must be at least 1, not %d", p.Name, p.Boards)
+	if r := stock.TextProblem(p.Name, false); r != "" {
+		return fault.Invalidf("plan name %s: %s", stock.Excerpt(p.Name, 40), r)
+	}
+	if p.Boards < 1 || p.Boards > stock.MaxQuantity {
+		// The upper bound: every board takes parts from rows that hold
+		// at most MaxQuantity, and it keeps boards times copies from
+		// overflowing.
+		return fault.Invalidf("plan %q: boards must be from 1 to %d, not %d", p.Name, stock.MaxQuantity, p.Boards)
 	}
 	if len(p.Filters) == 0 {
 		return fault.Invalidf("plan %q has no filters", p.Name)
@@ -51,6 +57,9 @@ func (p *Plan) Validate() error {
 		f.Label = strings.TrimSpace(f.Label)
 		if f.Label == "" {
 			return fault.Invalidf("plan %q: filter %d has no label", p.Name, i+1)
+		}
+		if r := stock.TextProblem(f.Label, false); r != "" {
+			return fault.Invalidf("plan %q: the label of filter %d, %s, %s", p.Name, i+1, stock.Excerpt(f.Label, 40), r)
 		}
 		if j, dup := seen[strings.ToLower(f.Label)]; dup {
 			return fault.Invalidf("plan %q: filters %d and %d are both labelled %q", p.Name, j+1, i+1, f.Label)

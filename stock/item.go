@@ -221,6 +221,12 @@ func (it Item) Problems() []FieldError {
 	return out
 }
 
+// TextProblem says what makes s unfit as text a user supplies (a name, a
+// label, a location): invalid UTF-8, more than MaxText characters, or a
+// control character (newline, tab and carriage return allowed only when
+// multiline). It returns "" for good text.
+func TextProblem(s string, multiline bool) string { return textProblem(s, multiline) }
+
 func textProblem(s string, multiline bool) string {
 	if !utf8.ValidString(s) {
 		return "not valid UTF-8"

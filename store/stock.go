@@ -155,8 +155,8 @@ func cleanReason(reason, def string) (string, error) {
 		}
 		r = def
 	}
-	if len([]rune(r)) > stock.MaxText {
-		return "", fault.Invalidf("reason is longer than %d characters", stock.MaxText)
+	if p := stock.TextProblem(r, false); p != "" {
+		return "", fault.Invalidf("reason %s: %s", stock.Excerpt(r, 40), p)
 	}
 	return r, nil
 }

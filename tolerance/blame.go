@@ -92,17 +92,7 @@ func (bl *blamer) assign(ws *workspace, parts []float64, pe, se float64) []float
 // blameTable sums the weights of the failing trials into shares, largest
 // first, and returns the unattributed rest.
 func blameTable(b *board, ts *trialSet) ([]Blame, float64) {
-	fails := 0
-	sums := make([]float64, len(b.comps))
-	for i, w := range ts.blame {
-		if ts.pass[i] || w == nil {
-			continue
-		}
-		fails++
-		for ci, x := range w {
-			sums[ci] += x
-		}
-	}
+	fails, sums := ts.blameFails, ts.blameSum
 	if fails == 0 {
 		return nil, 0
 	}

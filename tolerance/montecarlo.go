@@ -191,10 +191,43 @@ type trialSet struct {
 	passAtt        []float64 // dB
 	edge           []float64 // Hz (NaN if not found)
 	pass           []bool
-	blame          [][]float64 // per trial (failing only): weight per component
+	// blameSum is, per component, the sum of the blame weights of the
+	// failing trials that were analysed, blameFails their number. Summed
+	// per worker as the trials run, so that memory does not grow with a
+	// slice per failing trial.
+	blameSum   []float64
+	blameFails int
 	// f0 and q are per section, per trial: the natural frequency (Hz) and
 	// Q of the section's pair (of the pole for a 1-pole section).
 	f0, q [][]float64
+}
+
+// blameScale turns a blame weight (0 to 1) into a whole number: integer
+// sums do not depend on how the trials were split among workers, as float
+// sums would in their last bits. 2^32 keeps 10^7 trials far from int64
+// overflow (10^7 * 2^32 is about 4e16) and resolves a weight to 2e-10.
+const blameScale = 1 << 32
+
+// MaxSimBytes is the memory a full analysis (Run) may hold for its
+// per-trial figures: the spreads and margins are exact order statistics,
+// so every trial's figures are kept until the end.
+const MaxSimBytes = 1 << 30
+
+// trialBytes is what Run holds per trial: five float64 figures and a bool,
+// f0 and Q per section, and up to two float64 copies while quantiles and
+// margins are sorted; doubled for the garbage collector's headroom (Go's
+// default GOGC=100 lets the heap reach twice the live data).
+func trialBytes(sections int) int { return 2 * (5*8 + 1 + 2*8*sections + 2*8) }
+
+// fitsMemory refuses a trial count whose figures would exceed MaxSimBytes,
+// saying how many trials fit.
+func fitsMemory(trials, sections int) error {
+	per := trialBytes(sections)
+	if most := MaxSimBytes / per; trials > most {
+		return fault.Invalidf("%d trials of this design (%d sections) would hold about %d MB; the analysis keeps every trial's figures and allows itself %d MB, so at most %d trials fit",
+			trials, sections, int64(trials)*int64(per)>>20, MaxSimBytes>>20, most)
+	}
+	return nil
 }
 
 // judgeSlack absorbs rounding when a board meets a limit exactly (dB; the
@@ -217,8 +250,11 @@ func simulate(b *board, j *judge, tol []float64, opt *Options, needEdge, withBla
 		stopAtt: make([]float64, n), passAtt: make([]float64, n),
 		edge: make([]float64, n), pass: make([]bool, n),
 	}
+	workers := min(opt.Workers, n)
+	var sums [][]int64
+	fails := make([]int, workers)
 	if withBlame {
-		ts.blame = make([][]float64, n)
+		sums = make([][]int64, workers)
 	}
 	if needEdge {
 		ts.f0, ts.q = make([][]float64, len(b.sections)), make([][]float64, len(b.sections))
@@ -226,7 +262,6 @@ func simulate(b *board, j *judge, tol []float64, opt *Options, needEdge, withBla
 			ts.f0[si], ts.q[si] = make([]float64, n), make([]float64, n)
 		}
 	}
-	workers := min(opt.Workers, n)
 	var wg sync.WaitGroup
 	for wk := 0; wk < workers; wk++ {
 		lo, hi := wk*n/workers, (wk+1)*n/workers
@@ -240,6 +275,7 @@ func simulate(b *board, j *judge, tol []float64, opt *Options, needEdge, withBla
 			var bl *blamer
 			if withBlame {
 				bl = newBlamer(b, j, opt)
+				sums[wk] = make([]int64, len(b.comps))
 			}
 			for i := lo; i < hi; i++ {
 				if i&255 == 0 && opt.cancelled() {
@@ -263,12 +299,30 @@ func simulate(b *board, j *judge, tol []float64, opt *Options, needEdge, withBla
 					}
 				}
 				if withBlame && !ts.pass[i] {
-					ts.blame[i] = bl.assign(ws, parts, pe, se)
+					if w := bl.assign(ws, parts, pe, se); w != nil {
+						for ci, x := range w {
+							sums[wk][ci] += int64(math.Round(x * blameScale))
+						}
+						fails[wk]++
+					}
 				}
 			}
 		}()
 	}
 	wg.Wait()
+	if withBlame {
+		total := make([]int64, len(b.comps))
+		for wk := range sums {
+			for ci, x := range sums[wk] {
+				total[ci] += x
+			}
+			ts.blameFails += fails[wk]
+		}
+		ts.blameSum = make([]float64, len(b.comps))
+		for ci, x := range total {
+			ts.blameSum[ci] = float64(x) / blameScale
+		}
+	}
 	return ts
 }
 

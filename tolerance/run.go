@@ -174,6 +174,9 @@ func Run(ctx context.Context, c *optimize.Candidate, spec synth.Spec, opt Option
 	if err != nil {
 		return nil, err
 	}
+	if err := fitsMemory(opt.Trials, len(b.sections)); err != nil {
+		return nil, err
+	}
 	tol := make([]float64, len(b.parts))
 	for i, p := range b.parts {
 		tol[i] = p.tol

@@ -116,8 +116,8 @@ type jsonBuild struct {
 }
 
 func runBuild(env *Env, o *buildOptions, id string) error {
-	if o.boards < 1 {
-		return fault.Invalidf("--boards must be at least 1, not %d", o.boards)
+	if o.boards < 1 || o.boards > stock.MaxQuantity {
+		return fault.Invalidf("--boards must be from 1 to %d, not %d", stock.MaxQuantity, o.boards)
 	}
 	// Refuse an output file that cannot be written before drawing parts.
 	if err := checkOutputFile(o.csv, o.force); err != nil {

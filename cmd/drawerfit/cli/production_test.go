@@ -248,6 +248,10 @@ func TestPlanFileMistakes(t *testing.T) {
 		{"stop without atten", "name = \"x\"\n[[filter]]\nlabel = \"a\"\nkind = \"lowpass\"\npass = \"1k\"\nstop = \"3k\"\n", "stop needs atten"},
 		{"no name", "[[filter]]\nlabel = \"a\"\nkind = \"lowpass\"\npass = \"1k\"\norder = 2\n", "name"},
 		{"duplicate labels", "name = \"x\"\n[[filter]]\nlabel = \"a\"\nkind = \"lowpass\"\npass = \"1k\"\norder = 2\n[[filter]]\nlabel = \"A\"\nkind = \"lowpass\"\npass = \"2k\"\norder = 2\n", "both labelled"},
+		// The largest int64: it once overflowed to "at least 1, not -2".
+		{"boards overflow", "name = \"x\"\nboards = 9223372036854775807\n[[filter]]\nlabel = \"a\"\nkind = \"lowpass\"\npass = \"1k\"\norder = 2\n", "boards must be from 1 to 1000000000, not 9223372036854775807"},
+		{"escape in a label", "name = \"x\"\n[[filter]]\nlabel = \"a\\u001b[31m\"\nkind = \"lowpass\"\npass = \"1k\"\norder = 2\n", `"a\x1b[31m"`},
+		{"newline in the name", "name = \"x\\ny\"\n[[filter]]\nlabel = \"a\"\nkind = \"lowpass\"\npass = \"1k\"\norder = 2\n", "control character"},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {

@@ -77,6 +77,11 @@ filter's sheet on its own pages); --split writes one file per filter
 			if err := o.checks.validate(cmd.Flags()); err != nil {
 				return err
 			}
+			for _, t := range append([]string{o.title}, o.notes...) {
+				if p := stock.TextProblem(t, false); p != "" {
+					return fault.Invalidf("--title or --note %s: %s", stock.Excerpt(t, 40), p)
+				}
+			}
 			if !o.split {
 				if err := checkOutputFile(o.output, o.checks.force); err != nil {
 					return err
