@@ -298,6 +298,42 @@ func FitByYield(ctx context.Context, items []stock.Item, spec synth.Spec, fo opt
 	if err != nil {
 		return nil, nil, err
 	}
+	// The pool holds mostly the lowest order (it has the fewest parts).
+	// When none of it reaches the target, the higher orders the fit
+	// considered are searched on their own and ranked with it.
+	if !rk.Listed[0].Reaches && spec.Order == 0 {
+		lowest := res.Designs[0].Order
+		seen := map[int]bool{}
+		var more []int
+		for _, d := range res.Designs {
+			if d.Order > lowest && !seen[d.Order] {
+				seen[d.Order] = true
+				more = append(more, d.Order)
+			}
+		}
+		for _, n := range more {
+			s := spec
+			s.Order = n
+			o := fo
+			o.MaxOrder = 0
+			o.GoodEnough = poolGoodEnough(s, fo.GoodEnough)
+			r2, err := optimize.Fit(ctx, items, s, o)
+			if err != nil {
+				return nil, nil, err
+			}
+			for _, c := range r2.Candidates {
+				if c.MeetsSpec {
+					meet = append(meet, c)
+				}
+			}
+			res.Notes = append(res.Notes, fmt.Sprintf("no candidate of order %d reached the target yield, so order %d was searched on its own as well", lowest, n))
+		}
+		if len(more) > 0 {
+			if rk, err = RankByYield(ctx, meet, res.Spec, ro); err != nil {
+				return nil, nil, err
+			}
+		}
+	}
 	rk.PoolError = fo.GoodEnough
 	res.Candidates = res.Candidates[:0]
 	for _, r := range rk.Listed {

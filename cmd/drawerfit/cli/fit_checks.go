@@ -418,7 +418,7 @@ func (fc *fitChecks) printTable(env *Env, w io.Writer, g *grid, run *fitRun) {
 	if o.Dist == tolerance.Normal {
 		how = "normal, tolerance = 3 sigma, about"
 	}
-	fmt.Fprintf(w, "\nyield = share of %d simulated boards that meet the specification (parts %s their stock tolerances, seed %d, the same draws for every candidate), with its 95%% Wilson interval.\n",
+	fmt.Fprintf(w, "\nyield %% = share of %d simulated boards that meet the specification (parts %s their stock tolerances, seed %d, the same draws for every candidate), its 95%% Wilson interval in brackets.\n",
 		o.Trials, how, o.Seed)
 	if warned {
 		fmt.Fprintln(w, "'!' = some parts have no tolerance in stock and were simulated with a default (see the warning; all are in --json).")
@@ -733,9 +733,15 @@ func nominalMargins(r *tolerance.Result, spec synth.Spec) (float64, *float64) {
 	return pm, &sm
 }
 
-// yieldCell writes a yield and its 95 % interval compactly, in percent:
-// "99.6 (99.2-99.8)".
+// yieldCell writes a yield and its 95 % interval compactly, in percent
+// with one decimal ("99.6 (99.2-99.8)"; 100 % as "100").
 func yieldCell(e tolerance.Estimate) string {
-	f := func(x float64) string { return strconv.FormatFloat(100*x, 'f', 1, 64) }
+	f := func(x float64) string {
+		s := strconv.FormatFloat(100*x, 'f', 1, 64)
+		if s == "100.0" {
+			return "100"
+		}
+		return s
+	}
 	return f(e.Fraction) + " (" + f(e.CILow) + "-" + f(e.CIHigh) + ")"
 }

@@ -77,7 +77,7 @@ func TestFitYieldText(t *testing.T) {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
 	for _, want := range []string{
-		"yield % (95% CI)", "300 simulated boards", "seed 4", "Wilson", "Ranked by yield: those reaching the target 95.0% first",
+		"yield %", "95% Wilson interval in brackets", "300 simulated boards", "seed 4", "Wilson", "Ranked by yield: those reaching the target 95.0% first",
 		"Yield: ", "sits on the passband limit", "classical placement", "no stopband limit",
 	} {
 		if !strings.Contains(out, want) {
