@@ -108,6 +108,20 @@ type Candidate struct {
 	// Pareto is true when no other listed candidate is at least as good in
 	// response error, part count and unique parts and better in one.
 	Pareto bool
+
+	// Amp is the amplifier the sections are built with and scored with
+	// (nil: ideal amplifiers). With it, ResponseError, PassAtten, StopAtten
+	// and MeetsSpec are the figures with its single-pole model; part count,
+	// unique rows, stock use and boards buildable include its packages
+	// when it is drawn from stock.
+	Amp *Amplifier
+	// AmpSlots gives each section's amplifier channel (with Amp).
+	AmpSlots []AmpSlot
+	// AmpPackages is the number of amplifier packages one board takes.
+	AmpPackages int
+	// IdealAmpError is the response error with ideal amplifiers, dB (with
+	// Amp; the figure an ideal-amplifier score would give these parts).
+	IdealAmpError float64
 }
 
 // Order returns the filter order of the candidate.

@@ -47,6 +47,9 @@ type Options struct {
 	SectionBudget int
 	Workers       int                   // goroutines; 0 means GOMAXPROCS
 	Progress      func(done, total int) // optional, called as sections finish (total: sections of all designs)
+	// Amp is the amplifier every section is scored with (the single-pole
+	// model); nil means ideal amplifiers. See amp.go and doc.go.
+	Amp *synth.OpAmp
 }
 
 // DefaultOptions returns the documented defaults: pairs on, one board, the
@@ -274,11 +277,12 @@ func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []
 	secDiag := make([]sectionDiag, len(d.Sections))
 	tdbTotal := make([]float64, len(grid.w))
 	targets := make([]*target, len(d.Sections))
+	ideals := make([]*target, len(d.Sections))
 	unreachable := false
 	for i := range d.Sections {
-		t := newTarget(&d.Sections[i], grid)
+		t, ideal := ampTargets(&d.Sections[i], grid, o.Amp)
 		t.setDomain(res, caps)
-		targets[i] = t
+		targets[i], ideals[i] = t, ideal
 		// Nothing in stock comes near this section: the design cannot be
 		// built, so none of its sections is searched.
 		if ok, why := t.reachable(sectionCeiling); !ok {
@@ -293,8 +297,8 @@ func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []
 		return secLists, secDiag, &combiner{}
 	}
 	for i := range d.Sections {
-		t := targets[i]
-		for g, v := range t.tdb {
+		t, ideal := targets[i], ideals[i]
+		for g, v := range ideal.tdb {
 			tdbTotal[g] += v
 		}
 		ss := &sectionSearch{t: t, res: res, cap: caps, rows: rows, boards: o.Boards,
@@ -304,6 +308,7 @@ func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []
 		if stop.Load() {
 			return secLists, secDiag, &combiner{}
 		}
+		rescoreWithAmp(secLists[i], ideal, o.Amp)
 		sortForRank(secLists[i], o.Rank)
 		progress()
 	}

@@ -10,134 +10,16 @@ import (
 	"drawerfit/synth"
 )
 
-// SectionResponse returns H(jω) of one section with element values v (SI
-// units, in Elements order) at angular frequency w, driven by a
-// single-pole op-amp follower A(s) = A0/(1 + s/ωa), ωa = 2π·GBW/A0 (the
-// model synth.Netlist writes: op.DCGain 0 means synth.DefaultDCGain, op.GBW
-// 0 a flat gain A0). A nil op is an ideal op-amp.
-//
-// Method: modified nodal analysis built from the topology's element list.
-// The unknowns are the voltages of every node except the input (driven at
-// 1 V) and ground; each node but the output gets Kirchhoff's current law,
-// and the output row is the follower's equation Vout = A(V+ - Vout), i.e.
-// Vout - A/(1+A)·V+ = 0 (the op-amp output is an ideal source, so the
-// output node needs no current balance, and the op-amp inputs draw no
-// current). The system (at most four unknowns) is solved by Gaussian
-// elimination with partial pivoting. It panics if len(v) does not match
-// the topology.
+// SectionResponse returns H(jω) of one section with element values v at
+// angular frequency w with the single-pole amplifier op (nil: ideal). It is
+// synth.AmpResponse, the one home of this analysis, which documents the
+// model and the method; it panics if len(v) does not match the topology.
 func SectionResponse(t *synth.Topology, v []float64, op *synth.OpAmp, w float64) complex128 {
-	if len(v) != t.NumElements() {
-		panic("tolerance: wrong number of element values for " + t.ID())
-	}
-	var idx [8]string
-	n := 0
-	index := func(name string) int {
-		if name == "in" || name == "0" {
-			return -1
-		}
-		for i := 0; i < n; i++ {
-			if idx[i] == name {
-				return i
-			}
-		}
-		idx[n] = name
-		n++
-		return n - 1
-	}
-	out := index("out")
-	plus := index(t.Plus())
-	type stamp struct {
-		a, b   int
-		aIn    bool
-		bIn    bool
-		admitt complex128
-	}
-	var st [8]stamp
-	for k, e := range t.Elements() {
-		y := complex(1/v[k], 0)
-		if e.Kind == synth.Capacitor {
-			y = complex(0, w*v[k])
-		}
-		st[k] = stamp{a: index(e.From), b: index(e.To), aIn: e.From == "in", bIn: e.To == "in", admitt: y}
-	}
-	var m [8][9]complex128 // augmented matrix, column n is the right-hand side
-	for k := range t.Elements() {
-		s := st[k]
-		for _, side := range [2]struct {
-			self, other int
-			otherIn     bool
-		}{{s.a, s.b, s.bIn}, {s.b, s.a, s.aIn}} {
-			if side.self < 0 || side.self == out {
-				continue
-			}
-			m[side.self][side.self] += s.admitt
-			switch {
-			case side.other >= 0:
-				m[side.self][side.other] -= s.admitt
-			case side.otherIn:
-				m[side.self][n] += s.admitt // 1 V at the input
-			}
-		}
-	}
-	m[out][out] = 1
-	m[out][plus] -= followerGain(op, w)
-	return solveOut(&m, n, out)
+	return synth.AmpResponse(t, v, op, w)
 }
 
-// followerGain is A/(1+A) for the single-pole model.
-func followerGain(op *synth.OpAmp, w float64) complex128 {
-	if op == nil {
-		return 1
-	}
-	a0 := op.DCGain
-	if a0 == 0 {
-		a0 = synth.DefaultDCGain
-	}
-	a := complex(a0, 0)
-	if op.GBW > 0 {
-		wa := 2 * math.Pi * op.GBW / a0
-		a = complex(a0, 0) / complex(1, w/wa)
-	}
-	return a / (1 + a)
-}
-
-// solveOut solves the n×n augmented system m and returns unknown k.
-func solveOut(m *[8][9]complex128, n, k int) complex128 {
-	x := solveAll(m, n)
-	return x[k]
-}
-
-// solveAll solves the n×n augmented system m (column n is the right-hand
-// side) by Gaussian elimination with partial pivoting; m is overwritten.
-func solveAll(m *[8][9]complex128, n int) [8]complex128 {
-	for c := 0; c < n; c++ {
-		p := c
-		for r := c + 1; r < n; r++ {
-			if cmplx.Abs(m[r][c]) > cmplx.Abs(m[p][c]) {
-				p = r
-			}
-		}
-		m[c], m[p] = m[p], m[c]
-		for r := c + 1; r < n; r++ {
-			f := m[r][c] / m[c][c]
-			if f == 0 {
-				continue
-			}
-			for q := c; q <= n; q++ {
-				m[r][q] -= f * m[c][q]
-			}
-		}
-	}
-	var x [8]complex128
-	for r := n - 1; r >= 0; r-- {
-		s := m[r][n]
-		for q := r + 1; q < n; q++ {
-			s -= m[r][q] * x[q]
-		}
-		x[r] = s / m[r][r]
-	}
-	return x
-}
+// solveAll solves the n×n augmented system m (synth.SolveComplex).
+func solveAll(m *[8][9]complex128, n int) [8]complex128 { return synth.SolveComplex(m, n) }
 
 // opampBoard is a nominal board analysed with an op-amp model.
 type opampBoard struct {
