@@ -35,6 +35,11 @@ type NetlistOptions struct {
 	// OpAmp is the op-amp model; nil means ideal (an E element with gain
 	// IdealGain).
 	OpAmp *OpAmp
+	// AmpRefs names each stage's amplifier (U1A, U1B, ...); the instance is
+	// "X" + the name. Nil means XU1, XU2, ... by stage.
+	AmpRefs []string
+	// AmpLabel is the amplifier's own name, written in a comment.
+	AmpLabel string
 	// Refs names each physical part (stage, element index in Elements
 	// order and part index, all from 0). Nil means DefaultRefs(stages). A
 	// name that does not begin with its SPICE letter (R or C) gets it
@@ -124,6 +129,9 @@ func Netlist(stages []Stage, o NetlistOptions) string {
 		}
 		if o.OpAmp.GBW > 0 {
 			fa = o.OpAmp.GBW / a0
+			if o.AmpLabel != "" {
+				w("* amplifier: %s", strings.ReplaceAll(o.AmpLabel, "\n", " "))
+			}
 			w("* op-amp: DC gain %s V/V, gain-bandwidth %s Hz (single pole at %s Hz)", spiceNum(a0), spiceNum(o.OpAmp.GBW), spiceNum(fa))
 			w(".subckt %s inp inn out", opAmpSubckt)
 			w("Egain g 0 inp inn %s", spiceNum(a0))
@@ -200,7 +208,11 @@ func Netlist(stages []Stage, o NetlistOptions) string {
 		case o.OpAmp == nil:
 			w("E%d %s 0 %s %s %s", i+1, output, plus, output, spiceNum(IdealGain))
 		case fa > 0:
-			w("XU%d %s %s %s %s", i+1, plus, output, output, opAmpSubckt)
+			ref := fmt.Sprintf("U%d", i+1)
+			if i < len(o.AmpRefs) {
+				ref = o.AmpRefs[i]
+			}
+			w("X%s %s %s %s %s", ref, plus, output, output, opAmpSubckt)
 		default:
 			w("E%d %s 0 %s %s %s", i+1, output, plus, output, spiceNum(a0))
 		}

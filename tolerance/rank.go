@@ -83,6 +83,9 @@ type RankOptions struct {
 	// Monte Carlo (0: Top plus half as many again, so that a screening
 	// estimate that was unlucky near the target is caught).
 	Confirm int
+	// Fit is the search FitByYield runs (nil: optimize.Fit); the fit with
+	// amplifiers (optimize.FitAmps) plugs in here.
+	Fit func(ctx context.Context, items []stock.Item, spec synth.Spec, fo optimize.Options) (*optimize.Result, error)
 }
 
 // Ranked is a listed candidate with its confirmed yield.
@@ -273,7 +276,11 @@ func FitByYield(ctx context.Context, items []stock.Item, spec synth.Spec, fo opt
 	}
 	fo.Rank = optimize.RankBalanced
 	fo.GoodEnough = poolGoodEnough(spec, fo.GoodEnough)
-	res, err := optimize.Fit(ctx, items, spec, fo)
+	fit := ro.Fit
+	if fit == nil {
+		fit = optimize.Fit
+	}
+	res, err := fit(ctx, items, spec, fo)
 	if err != nil {
 		return nil, nil, err
 	}

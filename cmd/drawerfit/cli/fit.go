@@ -42,6 +42,7 @@ type fitOptions struct {
 	netlist     string
 	json        bool
 	oddSet      bool
+	opamp       string // --opamp ROW_ID | none; empty: the stock's amplifier rows
 
 	// Production (fit_production.go): keep the listed candidates, fit a
 	// board plan file, suggest purchases.
@@ -162,6 +163,7 @@ person under the applicable local rules.`,
 	f.StringVar(&o.stockCSV, "stock", "", "fit against this stock CSV file instead of the database")
 	f.StringVar(&o.netlist, "netlist", "", "write the best candidate's SPICE netlist to this file")
 	f.BoolVar(&o.json, "json", false, "print one JSON object")
+	f.StringVar(&o.opamp, "opamp", "", "amplifier: a stock row id to use (default: every amplifier row with a gbw is tried), or none for ideal amplifiers")
 	f.BoolVar(&o.save, "save", false, "keep the listed candidates in the database as saved designs (ids in the table)")
 	f.StringVar(&o.plan, "plan", "", "fit every filter of this board plan file jointly (see README)")
 	f.BoolVar(&o.suggest, "suggest", false, "also list the few stock additions that would most improve the result")
@@ -174,6 +176,7 @@ type fitRun struct {
 	spec    synth.Spec
 	opts    optimize.Options
 	result  *optimize.Result
+	amps    *optimize.AmpsResult // the amplifiers tried and the sections none is fast enough for
 	source  string // where the stock came from
 	elapsed time.Duration
 	ids     []string              // saved design ids, parallel to result.Candidates (with --save)
@@ -266,12 +269,25 @@ func doFit(env *Env, o *fitOptions) (*fitRun, error) {
 	if len(items) == 0 {
 		return nil, fault.Infeasiblef("the stock (%s) is empty: import a CSV with `drawerfit stock import FILE`, or fit against one with --stock FILE", source)
 	}
+	choice, err := o.ampChoice()
+	if err != nil {
+		return nil, err
+	}
 	topt, err := o.checks.tol.tolOptions()
 	if err != nil {
 		return nil, err
 	}
 	topt.Boards, topt.Refit = 0, nil
 	ro := tolerance.RankOptions{Options: topt}
+	var ar *optimize.AmpsResult
+	fitAmps := func(ctx context.Context, items []stock.Item, spec synth.Spec, fo optimize.Options) (*optimize.Result, error) {
+		var err error
+		if ar, err = optimize.FitAmps(ctx, items, spec, fo, choice); err != nil {
+			return nil, err
+		}
+		return ar.Result, nil
+	}
+	ro.Fit = fitAmps
 	start := env.Now()
 	prog := newProgress(env, "fitting")
 	opt.Progress = prog.update
@@ -280,14 +296,41 @@ func doFit(env *Env, o *fitOptions) (*fitRun, error) {
 	if o.checks.rankYield {
 		res, rk, err = tolerance.FitByYield(env.Ctx, items, spec, opt, ro)
 	} else {
-		res, err = optimize.Fit(env.Ctx, items, spec, opt)
+		res, err = fitAmps(env.Ctx, items, spec, opt)
 	}
 	prog.done()
 	if err != nil {
 		return nil, err
 	}
-	return &fitRun{spec: res.Spec, opts: opt, result: res, source: source, elapsed: env.Now().Sub(start), items: items, ctx: env.Ctx,
+	return &fitRun{spec: res.Spec, opts: opt, result: res, amps: ar, source: source, elapsed: env.Now().Sub(start), items: items, ctx: env.Ctx,
 		rank: ro, ranking: rk}, nil
+}
+
+// ampChoice reads --opamp and --gbw: a pinned stock row, ideal amplifiers,
+// a generic amplifier of --gbw (not drawn from stock), or by default every
+// amplifier row of the stock.
+func (o *fitOptions) ampChoice() (optimize.AmpChoice, error) {
+	op, err := o.checks.opAmp()
+	if err != nil {
+		return optimize.AmpChoice{}, err
+	}
+	pin := strings.TrimSpace(o.opamp)
+	if op != nil && pin != "" {
+		return optimize.AmpChoice{}, fault.Invalidf("--gbw (a generic amplifier) and --opamp %s (a stock row) exclude each other", pin)
+	}
+	switch {
+	case op != nil:
+		return optimize.AmpChoice{Mode: optimize.AmpGeneric, Generic: *op}, nil
+	case pin == "":
+		return optimize.AmpChoice{Mode: optimize.AmpFromStock}, nil
+	case strings.EqualFold(pin, "none"), strings.EqualFold(pin, "ideal"):
+		return optimize.AmpChoice{Mode: optimize.AmpIdeal}, nil
+	}
+	id, err := parseID(pin)
+	if err != nil {
+		return optimize.AmpChoice{}, fault.Invalidf("--opamp takes an amplifier's stock row id or none: %v", err)
+	}
+	return optimize.AmpChoice{Mode: optimize.AmpPinned, StockID: id}, nil
 }
 
 func runFit(env *Env, o *fitOptions) error {
@@ -349,9 +392,18 @@ func hasPassing(r *optimize.Result) bool {
 // physical part, with the same designators as the tables.
 func candidateNetlist(c *optimize.Candidate) string {
 	lo, hi := c.Design.Band()
-	return synth.Netlist(c.Stages(), synth.NetlistOptions{
+	o := synth.NetlistOptions{
 		Title: "drawerfit " + report.SpecLine(c.Design), FStart: lo, FStop: hi, PointsPerDecade: 100,
-		Refs: report.PartRefs(c)})
+		Refs: report.PartRefs(c)}
+	if c.Amp != nil {
+		m := c.Amp.Model
+		o.OpAmp = &m
+		o.AmpLabel = c.Amp.Label
+		for _, s := range c.AmpSlots {
+			o.AmpRefs = append(o.AmpRefs, s.Designator(c.Amp.Channels))
+		}
+	}
+	return synth.Netlist(c.Stages(), o)
 }
 
 // printFit writes the candidate table and the detail of the best one.
@@ -369,12 +421,21 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 		fmt.Fprintln(w, "\n"+tryText(run))
 		return
 	}
-	g := newGrid("#", "order", "sections", "error dB", "at fp dB", "at fs dB", "parts", "unique", "cost/board", "boards", "pareto")
+	withAmp := len(res.Candidates) > 0 && res.Candidates[0].Amp != nil
+	head := []string{"#", "order", "sections", "error dB", "at fp dB", "at fs dB", "parts", "unique", "cost/board", "boards", "pareto"}
+	if withAmp {
+		head = append(head, "amplifier", "ideal-amp dB")
+	}
+	g := newGrid(head...)
 	g.right(0, 1, 3, 4, 5, 6, 7, 8, 9)
 	// On a narrow terminal: the error, the parts and the place stay; the
 	// stock detail goes first, the figures at fp and fs later.
 	g.abbrev(1, "ord").abbrev(3, "err dB").abbrev(4, "fp dB").abbrev(5, "fs dB").abbrev(7, "uniq").abbrev(8, "cost").abbrev(10, "P")
 	g.optional(dropFirst, 7, 10).optional(dropLater, 1, 4, 5, 8).optional(dropLast, 9)
+	if withAmp {
+		g.right(12)
+		g.abbrev(11, "amp").abbrev(12, "ideal dB").optional(dropLater, 12)
+	}
 	for i, c := range res.Candidates {
 		mark := ""
 		if c.Pareto {
@@ -383,17 +444,27 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 		if !c.MeetsSpec {
 			mark += " fails spec"
 		}
-		g.add(strconv.Itoa(i+1), strconv.Itoa(c.Order()), c.Arrangement(), fmtErr(c.ResponseError),
+		row := []string{strconv.Itoa(i + 1), strconv.Itoa(c.Order()), c.Arrangement(), fmtErr(c.ResponseError),
 			formatDB(c.PassAtten, 3), stopCell(c.StopAtten), strconv.Itoa(c.PartCount), strconv.Itoa(c.UniqueParts),
-			c.CostPerBoard.String(), strconv.Itoa(c.BoardsBuildable), strings.TrimSpace(mark))
+			c.CostPerBoard.String(), strconv.Itoa(c.BoardsBuildable), strings.TrimSpace(mark)}
+		if withAmp {
+			row = append(row, ampCell(c), fmtErr(c.IdealAmpError))
+		}
+		g.add(row...)
 	}
 	addIDColumn(g, run.ids)
 	run.checks.printTable(env, w, g, run)
 	fmt.Fprintf(w, "\nRanked %s; error = largest deviation from the ideal %s response; '*' = on the Pareto front of error, parts and unique parts.\n",
 		rankTextFor(run), approxName(res.Spec))
 	fmt.Fprintln(w, costText(res.Candidates, run.opts.Boards))
+	if withAmp {
+		fmt.Fprintln(w, ampLegend(run))
+	}
 	printCandidateDetail(env, w, res.Candidates[0], 1)
 	printFitChecks(env, w, run, res.Candidates[0])
+	for _, n := range slowNotes(run) {
+		fmt.Fprintln(w, "Note: "+n)
+	}
 	for _, n := range res.Notes {
 		fmt.Fprintln(w, "Note: "+n)
 	}
@@ -407,7 +478,7 @@ func printCandidateDetail(env *Env, w io.Writer, c *optimize.Candidate, rank int
 		cost = ", parts cost " + c.CostPerBoard.String() + " per board"
 	}
 	fmt.Fprintf(w, "\nCandidate #%d: order %d, %s, response error %s dB, %s from %s%s, %s\n",
-		rank, c.Order(), c.Arrangement(), fmtErr(c.ResponseError), plural(c.PartCount, "part"), plural(c.UniqueParts, "stock row"), cost, plural(len(c.Sections), "op-amp"))
+		rank, c.Order(), c.Arrangement(), fmtErr(c.ResponseError), plural(c.PartCount, "part"), plural(c.UniqueParts, "stock row"), cost, ampSummary(c))
 	for i, s := range c.Sections {
 		t := s.Target
 		head := fmt.Sprintf("Section %d, %s: target f0 %s", i+1, t.Topology.Name(), formatHz(t.F0))
@@ -420,6 +491,9 @@ func printCandidateDetail(env *Env, w io.Writer, c *optimize.Candidate, rank int
 		}
 		if t.Topology.Poles() == 3 {
 			head += fmt.Sprintf("; real pole %s (target %s)", formatHz(s.RealF0), formatHz(t.RealF0))
+		}
+		if c.Amp != nil && i < len(c.AmpSlots) {
+			head += "; amplifier " + c.AmpSlots[i].Designator(c.Amp.Channels)
 		}
 		fmt.Fprintln(w, head)
 		g := newGrid("ref", "role", "value", "made of", "bins", "tolerance").wrap(12, 1, 3).optional(dropLater, 5)
@@ -632,6 +706,10 @@ type jsonCandidate struct {
 	Sections        []jsonSection  `json:"sections"`
 	StockUse        []jsonStockUse `json:"stock_use"`
 	Netlist         string         `json:"netlist"`
+	// Amplifiers: the rows used, and the error the same parts give with
+	// ideal amplifiers (null when scored with ideal ones).
+	OpAmps          []jsonAmp `json:"opamps"`
+	IdealOpAmpError *float64  `json:"ideal_opamp_error_db"`
 	// With the checks (fit_checks.go).
 	Yield         *jsonYield `json:"yield,omitempty"`
 	OpAmp         *jsonOpAmp `json:"opamp,omitempty"`
@@ -680,7 +758,11 @@ func candidateJSON(c *optimize.Candidate, rank int) jsonCandidate {
 	jc := jsonCandidate{Rank: rank, Order: c.Order(), Arrangement: c.Arrangement(), ResponseError: c.ResponseError,
 		MeetsSpec: c.MeetsSpec, Attenuation: jsonAtten{Pass: c.PassAtten}, PartCount: c.PartCount,
 		UniqueParts: c.UniqueParts, CostPerBoard: moneyJSON(c.CostPerBoard), BoardsBuildable: c.BoardsBuildable,
-		Pareto: c.Pareto, Netlist: candidateNetlist(c)}
+		Pareto: c.Pareto, Netlist: candidateNetlist(c), OpAmps: ampJSON(c)}
+	if c.Amp != nil {
+		e := c.IdealAmpError
+		jc.IdealOpAmpError = &e
+	}
 	if !math.IsNaN(c.StopAtten) {
 		v := c.StopAtten
 		jc.Attenuation.Stop = &v

@@ -1,0 +1,104 @@
+package cli
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"drawerfit/optimize"
+	"drawerfit/stock"
+)
+
+// ampCell is the table's amplifier column: "#159 ×2" (stock row, packages
+// per board), "generic" or "ideal".
+func ampCell(c *optimize.Candidate) string {
+	switch {
+	case c.Amp == nil:
+		return "ideal"
+	case !c.Amp.FromStock():
+		return "generic"
+	}
+	return fmt.Sprintf("#%d ×%d", c.Amp.StockID, c.AmpPackages)
+}
+
+// ampSummary says in the detail line which amplifiers the candidate uses.
+func ampSummary(c *optimize.Candidate) string {
+	if c.Amp == nil {
+		return fmt.Sprintf("%d ideal op-amp(s)", len(c.Sections))
+	}
+	a := c.Amp
+	if !a.FromStock() {
+		return fmt.Sprintf("%d generic op-amp(s) of %s (not from stock)", len(c.Sections), stock.FormatGBW(a.Model.GBW))
+	}
+	return fmt.Sprintf("%s of row #%d %s (%s, %s, bin %s): %d of %d channels used",
+		plural(c.AmpPackages, "package"), a.StockID, a.Label, stock.PackageWord(a.Channels), stock.FormatGBW(a.Model.GBW),
+		orDash(a.Location), len(c.Sections), c.AmpPackages*a.Channels)
+}
+
+// ampLegend explains the amplifier columns.
+func ampLegend(run *fitRun) string {
+	var names []string
+	for _, a := range run.amps.Amps {
+		dc := fmt.Sprintf("%.0f dB", 20*math.Log10(a.Model.A0()))
+		if a.DCGainAssumed {
+			dc += " assumed (the row states none)"
+		}
+		if a.FromStock() {
+			names = append(names, fmt.Sprintf("#%d %s (%s, %s, DC gain %s)", a.StockID, a.Label, stock.PackageWord(a.Channels), stock.FormatGBW(a.Model.GBW), dc))
+		} else {
+			names = append(names, fmt.Sprintf("a generic amplifier of %s, DC gain %s, not drawn from stock", stock.FormatGBW(a.Model.GBW), dc))
+		}
+	}
+	return "Scored with the amplifier that is soldered in (single-pole model: DC gain and gain-bandwidth), errors and attenuations measured from its DC gain A0/(1+A0): " +
+		strings.Join(names, "; ") + ". amplifier = stock row × packages per board; ideal-amp dB = the same parts' error with ideal amplifiers."
+}
+
+// slowNotes say which sections no amplifier tried is fast enough for.
+func slowNotes(run *fitRun) []string {
+	if run.amps == nil {
+		return nil
+	}
+	var out []string
+	for _, s := range run.amps.Slow {
+		desc := fmt.Sprintf("fc %s", formatHz(s.F0))
+		if s.Q > 0 {
+			desc = fmt.Sprintf("f0 %s, Q %.3g", formatHz(s.F0), s.Q)
+		}
+		need := "no gain-bandwidth up to 1 THz is enough"
+		if s.NeedGBW > 0 {
+			need = "it needs a gain-bandwidth of about " + stock.FormatGBW(s.NeedGBW)
+		}
+		out = append(out, fmt.Sprintf("order %d, section %d (%s): no amplifier tried is fast enough; with the fastest, %s, its predistorted realisation stays %.2f dB off (good enough: %g dB); %s",
+			s.Order, s.Section, desc, s.Fastest, s.ErrorDB, run.opts.GoodEnough, need))
+	}
+	return out
+}
+
+// jsonAmp is one amplifier row a candidate uses (--json "opamps").
+type jsonAmp struct {
+	StockID          int64    `json:"stock_id"`
+	Label            string   `json:"label"`
+	GBW              float64  `json:"gbw_hz"`
+	DCGain           float64  `json:"dc_gain"` // V/V
+	ChannelsUsed     int      `json:"channels_used"`
+	PackagesPerBoard int      `json:"packages_per_board"`
+	Sections         []int    `json:"sections"` // 1-based, in channel order
+	Designators      []string `json:"designators"`
+}
+
+func ampJSON(c *optimize.Candidate) []jsonAmp {
+	if c.Amp == nil {
+		return []jsonAmp{}
+	}
+	a := c.Amp
+	j := jsonAmp{StockID: a.StockID, Label: a.Label, GBW: a.Model.GBW, DCGain: a.Model.A0(), ChannelsUsed: len(c.AmpSlots),
+		Sections: []int{}, Designators: []string{}}
+	if a.FromStock() {
+		j.PackagesPerBoard = c.AmpPackages
+	}
+	for i, s := range c.AmpSlots {
+		j.Sections = append(j.Sections, i+1)
+		j.Designators = append(j.Designators, s.Designator(a.Channels))
+	}
+	return []jsonAmp{j}
+}
