@@ -146,6 +146,7 @@ func FitAmps(ctx context.Context, items []stock.Item, spec synth.Spec, o Options
 	}
 	var out *AmpsResult
 	var all []*Candidate
+	var short []string
 	var closest []*Candidate
 	for i := range amps {
 		a := amps[i]
@@ -171,6 +172,7 @@ func FitAmps(ctx context.Context, items []stock.Item, spec synth.Spec, o Options
 			all = append(all, c)
 		}
 		if dropped > 0 {
+			short = append(short, fmt.Sprintf("#%d %s (%d packages)", a.StockID, a.Label, stockQty(items, a.StockID)))
 			out.Notes = append(out.Notes, fmt.Sprintf("%d candidates with %s left out: the row holds too few packages for %d boards",
 				dropped, a.Label, o.Boards))
 		}
@@ -196,6 +198,10 @@ func FitAmps(ctx context.Context, items []stock.Item, spec synth.Spec, o Options
 	markPareto(all)
 	out.Candidates = all
 	out.Closest = nil
+	if len(all) == 0 && len(short) > 0 {
+		out.Limits = append([]string{fmt.Sprintf("amplifier packages for %d boards: the designs found need more than %s hold (restock, build fewer boards, or fit with ideal amplifiers)",
+			o.Boards, joinOr(short))}, out.Limits...)
+	}
 	if len(all) == 0 {
 		sort.SliceStable(closest, func(i, j int) bool { return closest[i].ResponseError < closest[j].ResponseError })
 		if len(closest) > 0 {
@@ -355,4 +361,28 @@ func residual(sec *synth.Section, m synth.OpAmp, ws []float64) float64 {
 		return math.Inf(1)
 	}
 	return SectionAmpError(sec, v, &m, ws)
+}
+
+func stockQty(items []stock.Item, id int64) int {
+	for _, it := range items {
+		if it.ID == id {
+			return it.Quantity
+		}
+	}
+	return 0
+}
+
+// joinOr lists words as "a", "a or b", "a, b or c".
+func joinOr(ws []string) string {
+	switch len(ws) {
+	case 0:
+		return ""
+	case 1:
+		return ws[0]
+	}
+	out := ws[0]
+	for _, w := range ws[1 : len(ws)-1] {
+		out += ", " + w
+	}
+	return out + " or " + ws[len(ws)-1]
 }

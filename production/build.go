@@ -159,6 +159,12 @@ func NewBatch(d *Design, boards int) (*Batch, error) {
 			}
 		}
 	}
+	// Amplifier packages: per board, shared by the filters (BoardAmps);
+	// the designators are the board's channels.
+	for _, ba := range d.BoardAmps() {
+		b.Picks = append(b.Picks, Pick{StockID: ba.Amp.StockID, Part: ampItem(ba.Amp), Quantity: ba.Packages * boards,
+			Refs: append([]string(nil), ba.Refs...)})
+	}
 	b.sort()
 	return b, nil
 }

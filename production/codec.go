@@ -64,6 +64,25 @@ type docCandidate struct {
 	Pareto          bool         `json:"pareto"`
 	Sections        []docSection `json:"sections"`
 	StockUse        []docUse     `json:"stock_use"`
+	// Amp is the amplifier the candidate was fitted with; absent (documents
+	// before amplifiers, or ideal ones) means ideal amplifiers.
+	Amp *docAmp `json:"amp,omitempty"`
+}
+
+// docAmp is a candidate's amplifier: the row (0 for a generic one), its
+// figures as fitted, and each section's package and channel.
+type docAmp struct {
+	StockID       int64    `json:"stock_id"`
+	Label         string   `json:"label"`
+	Channels      int      `json:"channels"`
+	Location      string   `json:"location"`
+	Package       string   `json:"package"`
+	GBW           float64  `json:"gbw_hz"`
+	DCGain        float64  `json:"dc_gain"` // V/V
+	DCGainAssumed bool     `json:"dc_gain_assumed,omitempty"`
+	Packages      int      `json:"packages"`
+	Slots         [][2]int `json:"slots"` // per section: package (1-based), channel (0-based)
+	IdealError    float64  `json:"ideal_error_db"`
 }
 
 type docSection struct {
@@ -165,6 +184,15 @@ func EncodeDesign(d *Design) ([]byte, error) {
 		for _, u := range c.StockUse {
 			dc.StockUse = append(dc.StockUse, docUse(u))
 		}
+		if a := c.Amp; a != nil {
+			da := &docAmp{StockID: a.StockID, Label: a.Label, Channels: a.Channels, Location: a.Location, Package: a.Package,
+				GBW: a.Model.GBW, DCGain: a.Model.A0(), DCGainAssumed: a.DCGainAssumed, Packages: c.AmpPackages,
+				IdealError: c.IdealAmpError, Slots: [][2]int{}}
+			for _, sl := range c.AmpSlots {
+				da.Slots = append(da.Slots, [2]int{sl.Package, sl.Channel})
+			}
+			dc.Amp = da
+		}
 		doc.Filters = append(doc.Filters, docFilter{Label: f.Label, Spec: specDoc(f.Spec), Candidate: dc})
 	}
 	b, err := json.Marshal(doc)
@@ -258,6 +286,17 @@ func (dc docCandidate) candidate(spec synth.Spec) (*optimize.Candidate, error) {
 	}
 	for _, u := range dc.StockUse {
 		c.StockUse = append(c.StockUse, optimize.StockUse(u))
+	}
+	if da := dc.Amp; da != nil {
+		if len(da.Slots) != len(c.Sections) || da.Channels < 1 || !(da.GBW > 0) {
+			return nil, fmt.Errorf("the amplifier of the saved design is malformed (%d slots for %d sections)", len(da.Slots), len(c.Sections))
+		}
+		c.Amp = &optimize.Amplifier{StockID: da.StockID, Label: da.Label, Channels: da.Channels, Location: da.Location,
+			Package: da.Package, Model: synth.OpAmp{GBW: da.GBW, DCGain: da.DCGain}, DCGainAssumed: da.DCGainAssumed}
+		c.AmpPackages, c.IdealAmpError = da.Packages, da.IdealError
+		for _, sl := range da.Slots {
+			c.AmpSlots = append(c.AmpSlots, optimize.AmpSlot{Package: sl[0], Channel: sl[1]})
+		}
 	}
 	return c, nil
 }

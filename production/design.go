@@ -164,12 +164,22 @@ func (d *Design) UniqueParts() int { return len(d.StockUse()) }
 
 // StockUse returns how many parts of each stock row one board takes,
 // summed over its filters, by stock id.
+//
+// Amplifier packages are counted per board, not per filter: the filters'
+// sections share the packages of one row (BoardAmps).
 func (d *Design) StockUse() []optimize.StockUse {
 	use := map[int64]int{}
 	for _, f := range d.Filters {
-		for _, u := range f.Candidate.StockUse {
+		c := f.Candidate
+		for _, u := range c.StockUse {
+			if c.Amp.FromStock() && u.StockID == c.Amp.StockID {
+				continue
+			}
 			use[u.StockID] += u.PerBoard
 		}
+	}
+	for _, ba := range d.BoardAmps() {
+		use[ba.Amp.StockID] += ba.Packages
 	}
 	return sortedUse(use)
 }

@@ -320,7 +320,7 @@ func writePicksCSV(w io.Writer, b *production.Batch) error {
 	g := stock.GuardCell // the one guard against spreadsheet formulas, as stock export uses
 	for _, p := range b.Picks {
 		if err := cw.Write([]string{g(p.Part.Location), strconv.FormatInt(p.StockID, 10), p.Part.Kind.String(),
-			g(stock.FormatValue(p.Part.Value, p.Part.Kind)), g(partText(p.Part)), strconv.Itoa(p.Quantity), g(strings.Join(p.Refs, " "))}); err != nil {
+			g(p.Part.ValueText()), g(partText(p.Part)), strconv.Itoa(p.Quantity), g(strings.Join(p.Refs, " "))}); err != nil {
 			return err
 		}
 	}

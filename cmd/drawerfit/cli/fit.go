@@ -177,7 +177,7 @@ type fitRun struct {
 	opts    optimize.Options
 	result  *optimize.Result
 	amps    *optimize.AmpsResult // the amplifiers tried and the sections none is fast enough for
-	source  string // where the stock came from
+	source  string               // where the stock came from
 	elapsed time.Duration
 	ids     []string              // saved design ids, parallel to result.Candidates (with --save)
 	items   []stock.Item          // the stock searched (for the checks' refit and bias resistors)
