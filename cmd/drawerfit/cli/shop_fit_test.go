@@ -28,7 +28,11 @@ func TestFitMinVoltageAndCostJSON(t *testing.T) {
 		out, _, _ := s.run("", cmd...)
 		var doc struct {
 			Candidates []struct {
-				Cost     *string `json:"cost_per_board"`
+				Cost   *string `json:"cost_per_board"`
+				OpAmps []struct {
+					StockID  int64 `json:"stock_id"`
+					Packages int   `json:"packages_per_board"`
+				} `json:"opamps"`
 				Sections []struct {
 					Components []struct {
 						Parts []struct {
@@ -70,6 +74,17 @@ func TestFitMinVoltageAndCostJSON(t *testing.T) {
 						}
 					}
 				}
+			}
+			// The amplifier packages are parts of the board too.
+			for _, a := range c.OpAmps {
+				if a.StockID == 0 {
+					continue
+				}
+				price := stock.Money{}
+				if ps, ok := rows[a.StockID]["price"].(string); ok {
+					price, _ = stock.ParsePrice(ps)
+				}
+				tally.Add(price, a.Packages)
 			}
 			want := tally.Total()
 			got := stock.Money{}
