@@ -87,6 +87,41 @@
 // count or unique parts (ties by the others). Pareto marks the listed
 // candidates that no other listed one beats in all three.
 //
+// # Amplifiers
+//
+// With Options.Amp every section is scored with the single-pole amplifier
+// model A(s) = A0/(1 + s·A0/(2π·GBW)) wired as the topology's follower
+// (synth.AmpResponse, the nodal analysis tolerance's op-amp check also
+// uses). Errors and attenuations are measured from the follower's DC gain
+// A0/(1+A0) per section, against the ideal target. The method:
+//
+//   - Predistortion (Predistort): each section's pole figures (w0, Q, a
+//     3-pole section's real pole) are moved, by a simplex search in their
+//     logarithms, so that the handbook realisation built with the
+//     amplifier comes nearest the ideal section. Approximate: the
+//     amplifier's effect depends on the element ratios, and the handbook's
+//     stand in for those the search will choose.
+//   - The section search runs unchanged, aimed at the predistorted target.
+//   - Its shortlists are scored again with the full model against the ideal
+//     target, and the cross-section search combines those figures. Exact on
+//     the scoring grid for the shortlisted candidates: every listed
+//     candidate's error, attenuations and meets-spec are those of the model.
+//     Not exact over all assignments: a candidate the predistorted search
+//     did not shortlist is not seen.
+//   - In the limit (GBW and A0 very large) the predistorted target is the
+//     ideal one and the fit is the ideal-amplifier fit (tested at 1 THz and
+//     1e12 V/V).
+//
+// FitAmps fits once per amplifier (every stock row with a gain-bandwidth,
+// a pinned row, or a generic model), assigns the sections to the channels
+// of its packages in order (AssignChannels: a 5-section filter on quads
+// takes two), counts a stocked amplifier's packages in the part count,
+// unique rows, stock use, cost and boards buildable, and merges the lists by
+// the ranking. A candidate uses one amplifier row; mixing rows (a quad and a
+// single) is not searched. SlowSection names the sections that even the
+// fastest amplifier cannot bring within GoodEnough, with the gain-bandwidth
+// (bisection to 1 %) at which the predistorted handbook realisation would.
+//
 // # References
 //
 // The section formulas, the scaling procedure and the practical value ranges
