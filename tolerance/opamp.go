@@ -26,6 +26,12 @@ type opampBoard struct {
 	b    *board
 	vals [][]float64
 	op   *synth.OpAmp
+	// ref is the cascade's passband |H|² with the amplifier, (A0/(1+A0))^2n:
+	// gain2 is measured from it, as the fit measures (0 means 1).
+	ref float64
+	// fmax, when set, caps the frequencies measured: above it the gain is
+	// taken at fmax (a high-pass's pass band judged up to fmax).
+	fmax float64
 }
 
 func (o *opampBoard) response(omega float64) complex128 {
@@ -37,9 +43,22 @@ func (o *opampBoard) response(omega float64) complex128 {
 }
 
 func (o *opampBoard) gain2(omega float64) float64 {
+	if o.fmax > 0 {
+		omega = math.Min(omega, 2*math.Pi*o.fmax)
+	}
 	h := o.response(omega)
-	return real(h)*real(h) + imag(h)*imag(h)
+	g := real(h)*real(h) + imag(h)*imag(h)
+	if o.ref > 0 {
+		g /= o.ref
+	}
+	return g
 }
+
+// HighPassUpperFactor is where a high-pass's pass band is judged up to with
+// a real amplifier, as a multiple of fp: 10·fp, the top of the fit's
+// scoring grid (one judgement in the fit and the check). Above it the
+// amplifier's roll-off, not the filter, sets the response.
+const HighPassUpperFactor = 10
 
 // GBWRule returns the op-amp gain-bandwidth a unity-gain section needs by
 // the rule of Op Amps for Everyone (Texas Instruments, SLOD006B, section
@@ -110,8 +129,11 @@ type OpAmpReport struct {
 	// UpperEdge is, for a high-pass, the frequency above the passband where
 	// the op-amp's falling gain brings the response 3 dB down (Hz; 0 for a
 	// low-pass or when not found below 1000·GBW).
-	UpperEdge float64  `json:"upper_edge_hz,omitempty"`
-	Warnings  []string `json:"warnings"`
+	UpperEdge float64 `json:"upper_edge_hz,omitempty"`
+	// PassJudgedUpTo is, for a high-pass, the frequency up to which the
+	// pass band is judged with the amplifier (Hz; HighPassUpperFactor·fp).
+	PassJudgedUpTo float64  `json:"pass_judged_up_to_hz,omitempty"`
+	Warnings       []string `json:"warnings"`
 }
 
 // CheckOpAmp analyses candidate c with the single-pole op-amp op in every
@@ -136,17 +158,30 @@ func CheckOpAmp(c *optimize.Candidate, spec synth.Spec, op synth.OpAmp) (*OpAmpR
 	}
 	ws := b.newWorkspace()
 	ws.load(b.nominalParts())
-	ob := &opampBoard{b: b, vals: ws.vals, op: &op}
+	dc := op.DCFollowerGain()
+	ref := math.Pow(dc*dc, float64(len(b.sections)))
+	ob := &opampBoard{b: b, vals: ws.vals, op: &op, ref: ref}
 	rep := &OpAmpReport{GBW: op.GBW, DCGain: op.DCGain, Rule: GBWRuleSource, Warnings: []string{}}
 
 	var none Options
 	rep.Ideal = figures(j, j.measure(ws, true), &none)
-	rep.WithOpAmp = figures(j, j.measure(ob, true), &none)
+	// With the amplifier, attenuations are measured from the passband gain
+	// it allows, (A0/(1+A0))^n; a high-pass's pass band is judged up to
+	// HighPassUpperFactor·fp, as the fit scores it.
+	judged := &opampBoard{b: b, vals: ws.vals, op: &op, ref: ref}
+	if spec.Kind == synth.HighPass {
+		judged.fmax = HighPassUpperFactor * spec.Pass
+		rep.PassJudgedUpTo = judged.fmax
+	}
+	rep.WithOpAmp = figures(j, j.measure(judged, true), &none)
 
 	band := analysisBand(spec)
 	for si, s := range b.sections {
-		w0, q, wr := sectionPoles(ws.coeffs[si].den, s.topo.Poles())
-		os := OpAmpSection{Section: si + 1, Topology: s.topo.ID(), F0: w0 / (2 * math.Pi), Q: q, RealF0: wr / (2 * math.Pi)}
+		// The rule is applied to the section's target: the parts may be
+		// predistorted for the amplifier, so their ideal-amplifier poles
+		// are not what the section must give.
+		t := c.Sections[si].Target
+		os := OpAmpSection{Section: si + 1, Topology: s.topo.ID(), F0: t.F0, Q: t.Q, RealF0: t.RealF0}
 		os.RequiredGBW, os.Rule = GBWRule(s.topo.Poles(), os.F0, os.Q, os.RealF0)
 		os.OK = op.GBW >= os.RequiredGBW
 		num, den := ws.coeffs[si].num, ws.coeffs[si].den
@@ -196,7 +231,8 @@ func CheckOpAmp(c *optimize.Candidate, spec synth.Spec, op synth.OpAmp) (*OpAmpR
 			}
 			rep.UpperEdge = math.Sqrt(lo * hi)
 			rep.Warnings = append(rep.Warnings, fmt.Sprintf(
-				"a high-pass passes only up to the op-amp's bandwidth: with this op-amp the response is 3 dB down again at %s", hz(rep.UpperEdge)))
+				"a high-pass passes only up to the op-amp's bandwidth: with this op-amp the response is 3 dB down again at %s; its pass band is judged from fp up to %s (%d·fp, as the fit scores it)",
+				hz(rep.UpperEdge), hz(rep.PassJudgedUpTo), HighPassUpperFactor))
 		}
 	}
 	if rep.Ideal.Pass && !rep.WithOpAmp.Pass {

@@ -261,8 +261,51 @@ func TestHighPassUpperEdge(t *testing.T) {
 	if rep.UpperEdge < 1e5 || rep.UpperEdge > 2e6 {
 		t.Errorf("upper edge %g Hz, want somewhere near the 1 MHz GBW", rep.UpperEdge)
 	}
-	h := opampCascade(t, c, &synth.OpAmp{GBW: 1e6})(rep.UpperEdge)
-	if d := synth.Attenuation(h); !testkit.Abs(1e-6).Equal(d, synth.HalfPowerDB) {
-		t.Errorf("attenuation at the reported upper edge %.6f dB, want 3.0103", d)
+	// Measured from the passband gain the amplifier allows, (A0/(1+A0))^n
+	// with the default A0 = 1e5 and n = 2 sections.
+	op := &synth.OpAmp{GBW: 1e6}
+	h := opampCascade(t, c, op)(rep.UpperEdge)
+	ref := -2 * 20 * math.Log10(op.DCFollowerGain())
+	if d := synth.Attenuation(h) - ref; !testkit.Abs(1e-6).Equal(d, synth.HalfPowerDB) {
+		t.Errorf("attenuation at the reported upper edge %.6f dB from the passband gain, want 3.0103", d)
+	}
+	if rep.PassJudgedUpTo != 10*spec.Pass {
+		t.Errorf("pass band judged up to %g Hz, want 10·fp", rep.PassJudgedUpTo)
+	}
+}
+
+// TestOpAmpFiguresFromTheRealDCGain: a first-order RC section with a
+// follower of low DC gain (A0 = 100, 40 dB) and no pole is the ideal
+// section scaled by A0/(1+A0) (standard circuit analysis), so its figures
+// with the amplifier equal the ideal ones when attenuations are measured
+// from A0/(1+A0); from 0 dB they would be 20·log10(101/100) = 0.0864 dB
+// worse.
+func TestOpAmpFiguresFromTheRealDCGain(t *testing.T) {
+	t.Parallel()
+	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1e3, Order: 1}
+	c := designCandidate(t, spec, 1, synth.OddOnePole, tols{0.01, 0.05})
+	rep, err := CheckOpAmp(c, spec, synth.OpAmp{GBW: 1e300, DCGain: 100})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !testkit.Abs(1e-6).Equal(rep.WithOpAmp.PassAtten, rep.Ideal.PassAtten) {
+		t.Errorf("pass figure with the amplifier %.6f dB, ideal %.6f dB", rep.WithOpAmp.PassAtten, rep.Ideal.PassAtten)
+	}
+}
+
+// TestHighPassJudgedUpToTenFp: a high-pass at 500 kHz with a 10 MHz
+// amplifier rolls off above its pass band; judged up to 10·fp the pass
+// figure stays a few dB, not the hundreds of dB a judgement up to infinite
+// frequency gives.
+func TestHighPassJudgedUpToTenFp(t *testing.T) {
+	t.Parallel()
+	spec := synth.Spec{Kind: synth.HighPass, Approx: synth.Chebyshev, Ripple: 0.5, Pass: 500e3, Order: 4}
+	c := designCandidate(t, spec, 4, synth.OddOnePole, tols{0.01, 0.05})
+	rep, err := CheckOpAmp(c, spec, synth.OpAmp{GBW: 10e6})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !(rep.WithOpAmp.PassAtten < 30) || rep.PassJudgedUpTo != 5e6 {
+		t.Errorf("pass figure with the amplifier %.2f dB judged up to %g Hz", rep.WithOpAmp.PassAtten, rep.PassJudgedUpTo)
 	}
 }
