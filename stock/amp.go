@@ -237,24 +237,9 @@ func parseFigure(s, what, unit string, max float64, suffixes ...string) (float64
 	return v, nil
 }
 
-// FormatGBW writes a gain-bandwidth for people: "10 MHz", "800 kHz",
-// "1.5 GHz" (at most six significant digits).
-func FormatGBW(v float64) string {
-	for _, p := range []struct {
-		scale float64
-		sym   string
-	}{{1e9, "G"}, {1e6, "M"}, {1e3, "k"}} {
-		if v >= p.scale {
-			return strconv.FormatFloat(roundSig(v/p.scale, 6), 'f', -1, 64) + " " + p.sym + "Hz"
-		}
-	}
-	return strconv.FormatFloat(roundSig(v, 6), 'f', -1, 64) + " Hz"
-}
-
-func roundSig(v float64, n int) float64 {
-	f, _ := strconv.ParseFloat(strconv.FormatFloat(v, 'g', n, 64), 64)
-	return f
-}
+// FormatGBW writes a gain-bandwidth for people: "10 MHz", "800 kHz"
+// (synth.FormatFrequency, six significant digits at most).
+func FormatGBW(v float64) string { return synth.FormatFrequency(v, 6) }
 
 // compactGBW writes v exactly for files (ParseGBW reads back the same
 // float64): "10M", "3.5M", "800k", else the shortest plain number.
