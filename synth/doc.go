@@ -25,8 +25,30 @@
 // edge stops growing with the order (at most 14.17 dB at twice the -3 dB
 // frequency, n = 6), so some demands are infeasible at any order, which
 // MinOrder reports as fault.Infeasible. Orders are limited to 1..MaxOrder.
-// A higher order than the minimum meets the passband exactly and gives the
-// slack to the stopband; Design.Notes says so, with the margin.
+// With the classical placement (PlaceEdge) a higher order than the minimum
+// meets the passband exactly and gives the slack to the stopband;
+// Design.Notes says so, with the margin.
+//
+// # Target placement
+//
+// With PlaceInside and slack at the order (a stopband limit that the
+// classical design beats), the target is centred in the specification
+// (Design.Placing). Component tolerances move a built filter mostly in
+// frequency, so the target is placed where the whole response can shift
+// by the same factor down (until the passband figure reaches Ap at fp) as
+// up (until the attenuation at fs falls to As): for Butterworth and Bessel,
+// whose shape is fixed, the classical design's frequencies are scaled by
+// k = sqrt(ρ/u), where ρ = fs/fp (fp/fs for a high-pass) and u is where
+// the classical design reaches As. A Chebyshev response has its ripple r
+// free as well: for each r the same frequency centring fixes the edge
+// from the closed form A(x) = 10 log10(1 + ε² T_n²(x)), and r is chosen so
+// that the dB margins at fp (Ap - r) and fs are equal, or, when the edge
+// would fall below fp first, the smallest r that keeps it at fp. Without
+// slack (no stopband limit, an order below the minimum, or the unit-delay
+// Bessel normalisation) the classical placement is kept and the notes say
+// why. The placement depends only on the specification, so plan and fit
+// agree; the specification itself is what every candidate is judged
+// against.
 //
 // # Poles
 //

@@ -82,14 +82,34 @@
 // a limit (within a tenth of the 5-95 % spread), as a Butterworth edge
 // placed at fp does by construction.
 //
-// With Options.Refit (supplied by the fit) and stopband slack, the design is
-// fitted again with its edge moved inside the specification so that the
-// nominal passband and stopband margins are equal: Butterworth and Bessel
-// keep their shape, so the edge moves by the frequency scale that balances
-// the candidate's own margins; a Chebyshev keeps its ripple wherever its
-// edge is, so its ripple is reduced instead, from the closed form
-// 10 log10(1 + ε² T_n²(fs/fp)). The new candidate is judged against the
-// original specification.
+// With Options.Refit (supplied by the fit) and stopband slack, a design
+// whose target sits on the edge (saved before, or fitted with
+// synth.PlaceEdge) is fitted again by the default fit path (Refitter:
+// FitByYield) with its target placed inside the specification
+// (synth.PlaceInside) at the same order and arrangement, and the new
+// candidate is judged against the original specification.
+//
+// A part whose stock row gives no tolerance (0) is simulated with
+// DefaultTolerance (5 % for a capacitor, 1 % for a resistor; common
+// practice, no source), and the result names it in a warning.
+//
+// # Ranking by yield (RankByYield, FitByYield)
+//
+// FitByYield asks the search (optimize.Fit) for PoolSize candidates by the
+// balanced ranking whose good-enough error is widened to a third of the
+// target's smaller design margin, so that the pool holds the fewest-part
+// candidates whose error the margins absorb. RankByYield screens every one
+// with DefaultScreenTrials trials, orders them by the ranking key with the
+// screening estimates (a candidate counts as reaching the target when its
+// screening interval does), confirms the best Top + Top/2 with the full
+// Monte Carlo, and lists the confirmed ones: first those whose yield
+// reaches the target, by part count, unique parts, then yield; then the
+// rest by yield. All estimates use the same per-trial streams (common
+// random numbers), so differences between candidates are not noise of
+// different draws, and the result does not depend on the number of
+// workers. When no candidate of the minimum order reaches the target, the
+// higher orders the fit considered are searched on their own and ranked
+// with it.
 //
 // # Worst case and sensitivities
 //
@@ -98,9 +118,14 @@
 // differences (step 1e-6) of the exact closed-form coefficients; the pole
 // data of a 3-pole section come from its cubic (real root by bisection and
 // Newton, then deflation). The worst-case corners put every part at a limit
-// of its tolerance in the direction, found from the sign of a central
-// difference, that hurts the figure (passband, stopband, low and high edge)
-// most, and evaluate the corner exactly.
+// of its tolerance. With at most MaxExactCorners (16) parts all 2^n corners
+// are evaluated exactly, in Gray-code order so that each step re-analyses
+// one section, and the figures are the true extremes over the corners
+// (tested against a from-scratch enumeration). With more parts each
+// figure's corner takes every part in the direction, found from the sign
+// of a central difference, that hurts the figure most: a sensitivity
+// estimate, labelled as such, not a bound (interactions between parts can
+// make another corner worse).
 //
 // # Op-amp (CheckOpAmp, SectionResponse)
 //
