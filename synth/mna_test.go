@@ -166,6 +166,41 @@ func domainThreePoleHP(c1, c2, c3, ra, rf, rb float64) (num, den []float64) {
 		a3}
 }
 
+// The gain and multiple-feedback sections: transfer functions derived by
+// hand from the nodal equations (node by node, ideal op-amp), written out
+// here independently of topology.go. The multiple-feedback low-pass is the
+// form printed in Texas Instruments, Op Amps for Everyone (SLOD006B), ch. 16
+// (from memory): A0 = -R2/R1, a1 = ωc·C1(R2 + R3 + R2R3/R1),
+// b1 = ωc²·C1·C2·R2·R3, with the book's C1 the feedback capacitor (our Cf).
+
+// domainSallenKeyGainLP: Vo = K·Vp, K = 1 + Rb/Ra; node p gives
+// Va = Vp(1 + s Cg R2), node a gives
+// Vin = Vp(1 + s(Cg(R1+R2) + (1-K)Cf R1) + s² R1 R2 Cf Cg).
+func domainSallenKeyGainLP(r1, r2, cf, cg, ra, rb float64) (num, den []float64) {
+	k := 1 + rb/ra
+	return []float64{k}, []float64{1, cg*r1 + cg*r2 - (k-1)*cf*r1, r1 * r2 * cf * cg}
+}
+
+// domainSallenKeyGainHP: node p gives Va = Vp(1 + 1/(s C2 Rg)), node a
+// gives Vin s C1 = Vp(s C1 + (1-K)/Rf + (C1+C2)/(C2 Rg) + 1/(s C2 Rg Rf)).
+func domainSallenKeyGainHP(c1, c2, rf, rg, ra, rb float64) (num, den []float64) {
+	k := 1 + rb/ra
+	a2 := c1 * c2 * rf * rg
+	return []float64{0, 0, k * a2}, []float64{1, rf*c1 + rf*c2 - (k-1)*c2*rg, a2}
+}
+
+// domainMFBLP: the - input m is a virtual ground, so Va = -Vo·s Cf R3 and
+// node a gives Vin/R1 = Va(1/R1 + 1/R2 + 1/R3 + s Cg) - Vo/R2.
+func domainMFBLP(r1, r2, r3, cg, cf float64) (num, den []float64) {
+	return []float64{-r2 / r1}, []float64{1, cf*r2 + cf*r3 + cf*r2*r3/r1, cf * cg * r2 * r3}
+}
+
+// domainMFBHP: Va = -Vo/(s C3 R2) and node a gives
+// Vin s C1 = Va(s(C1+C2+C3) + 1/R1) - Vo s C2.
+func domainMFBHP(c1, c2, c3, r1, r2 float64) (num, den []float64) {
+	return []float64{0, 0, -c1 * c3 * r1 * r2}, []float64{1, r1*c1 + r1*c2 + r1*c3, r1 * r2 * c2 * c3}
+}
+
 func domainRC(r, c float64, hp bool) (num, den []float64) {
 	if hp {
 		return []float64{0, r * c}, []float64{1, r * c}
@@ -199,6 +234,14 @@ func TestDomainFormulas(t *testing.T) {
 		"three-pole-highpass": func(v []float64) ([]float64, []float64) {
 			return domainThreePoleHP(v[0], v[1], v[2], v[3], v[4], v[5])
 		},
+		"sallen-key-gain-lowpass": func(v []float64) ([]float64, []float64) {
+			return domainSallenKeyGainLP(v[0], v[1], v[2], v[3], v[4], v[5])
+		},
+		"sallen-key-gain-highpass": func(v []float64) ([]float64, []float64) {
+			return domainSallenKeyGainHP(v[0], v[1], v[2], v[3], v[4], v[5])
+		},
+		"mfb-lowpass":  func(v []float64) ([]float64, []float64) { return domainMFBLP(v[0], v[1], v[2], v[3], v[4]) },
+		"mfb-highpass": func(v []float64) ([]float64, []float64) { return domainMFBHP(v[0], v[1], v[2], v[3], v[4]) },
 	}
 	for _, top := range Topologies() {
 		t.Run(top.ID(), func(t *testing.T) {

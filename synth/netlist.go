@@ -120,7 +120,15 @@ func Netlist(stages []Stage, o NetlistOptions) string {
 	var b strings.Builder
 	w := func(format string, args ...any) { fmt.Fprintf(&b, format+"\n", args...) }
 	w("* %s", strings.ReplaceAll(title, "\n", " "))
-	w("* written by drawerfit: only R, C, V and E elements; op-amps as unity followers")
+	followers := true
+	for _, st := range stages {
+		followers = followers && st.Topology.minus == "out"
+	}
+	if followers {
+		w("* written by drawerfit: only R, C, V and E elements; op-amps as unity followers")
+	} else {
+		w("* written by drawerfit: only R, C, V and E elements; each op-amp amplifies its + input minus its - input")
+	}
 	var a0, fa float64
 	if o.OpAmp != nil {
 		a0 = o.OpAmp.DCGain
@@ -203,18 +211,18 @@ func Netlist(stages []Stage, o NetlistOptions) string {
 				w("%s %s %s %s", name(k), from, to, spiceNum(v))
 			}
 		}
-		plus := node(t.plus)
+		plus, minus := node(t.plus), node(t.minus)
 		switch {
 		case o.OpAmp == nil:
-			w("E%d %s 0 %s %s %s", i+1, output, plus, output, spiceNum(IdealGain))
+			w("E%d %s 0 %s %s %s", i+1, output, plus, minus, spiceNum(IdealGain))
 		case fa > 0:
 			ref := fmt.Sprintf("U%d", i+1)
 			if i < len(o.AmpRefs) {
 				ref = o.AmpRefs[i]
 			}
-			w("X%s %s %s %s %s", ref, plus, output, output, opAmpSubckt)
+			w("X%s %s %s %s %s", ref, plus, minus, output, opAmpSubckt)
 		default:
-			w("E%d %s 0 %s %s %s", i+1, output, plus, output, spiceNum(a0))
+			w("E%d %s 0 %s %s %s", i+1, output, plus, minus, spiceNum(a0))
 		}
 		input = output
 	}

@@ -2,6 +2,7 @@ package synth
 
 import (
 	"math"
+	"slices"
 	"sort"
 
 	"gonum.org/v1/gonum/lapack"
@@ -86,31 +87,94 @@ type Element struct {
 // Entries beyond a section's pole count are zero.
 type Poly [4]float64
 
+// Family groups the section circuits a specification can ask for by name.
+type Family uint8
+
+const (
+	// FamilyRC is the first-order RC section with a follower, used for the
+	// real pole of an odd order whatever family is asked for.
+	FamilyRC Family = iota
+	// FamilySallenKey is the Sallen-Key family (unity gain or with a
+	// non-inverting gain K = 1 + Rb/Ra) and the single-amplifier 3-pole
+	// section built on it.
+	FamilySallenKey
+	// FamilyMFB is the multiple-feedback family: inverting, its gain a
+	// resistor ratio (low-pass) or a capacitor ratio (high-pass).
+	FamilyMFB
+)
+
+// String returns the family's identifier: "rc", "sallen-key" or "mfb".
+func (f Family) String() string {
+	switch f {
+	case FamilySallenKey:
+		return "sallen-key"
+	case FamilyMFB:
+		return "mfb"
+	}
+	return "rc"
+}
+
+// Short returns the family's abbreviation for tables: "RC", "SK", "MFB".
+func (f Family) Short() string {
+	switch f {
+	case FamilySallenKey:
+		return "SK"
+	case FamilyMFB:
+		return "MFB"
+	}
+	return "RC"
+}
+
 // Topology describes one section circuit once, as an immutable value read
-// through its methods: its elements and
-// nodes, and its transfer function for arbitrary element values. Analysis,
-// netlists, schematics and the fit all read this description.
+// through its methods: its elements and nodes, the op-amp's connection, how
+// its gain is set, which elements the search chooses and which the closed
+// form solves, its symmetries, and its transfer function for arbitrary
+// element values. Analysis, netlists, schematics, the fit, the yield and
+// the build sheet all read this description.
 //
-// Every topology is a passive RC network driving a unity-gain follower: the
-// op-amp's + input is node Plus and its output (and - input) is node "out".
+// Every topology is a passive RC network around one op-amp with output
+// node "out": the op-amp's + input is node Plus ("0" when grounded) and its
+// - input node Minus ("out" for a follower).
 type Topology struct {
 	id       string // stable identifier used in JSON: "sallen-key-lowpass", ...
 	name     string // for people: "Sallen-Key low-pass"
 	response Kind   // LowPass or HighPass
 	poles    int    // 1, 2 or 3
 	elements []Element
-	plus     string // node at the follower's + input
+	plus     string // node at the op-amp's + input
+	minus    string // node at the op-amp's - input ("out" for a follower)
+	family   Family
+	// inverting: the passband gain is negative.
+	inverting bool
+	// gainFixed: the passband gain is 1 whatever the values; otherwise
+	// minGain is the least passband gain magnitude the circuit can have
+	// with positive elements (exclusive: 1 for K = 1 + Rb/Ra, 0 for MFB).
+	gainFixed bool
+	minGain   float64
+	// gainElems are the elements whose ratio sets the gain (empty when
+	// fixed), numerator first.
+	gainElems []int
+	// chosen are the elements the closed-form solver takes as given (the
+	// search picks them from stock); the others it solves.
+	chosen []int
+	// symmetric lists pairs of elements the response cannot tell apart.
+	symmetric [][2]int
+	// equations are the design equations in plain text, for plan output.
+	equations []string
 
 	// coeffs returns N(s) and D(s) for element values v (ohms, farads, in
 	// Elements order), with D(0) = 1.
 	coeffs func(v []float64) (num, den Poly)
-	// solve fills the resistors of v, given its capacitors, so that D(s)
-	// equals den. It appends every positive solution to dst; when none
-	// exists it appends the nearest realisable point and reports false.
-	solve func(v []float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool)
-	// normalised returns the textbook normalised values for den: unit
-	// resistors for a low-pass, unit capacitors for a high-pass.
-	normalised func(den Poly) ([]float64, bool)
+	// solve fills the solved elements of v, given its chosen ones, so that
+	// D(s) equals den and the passband gain magnitude is gain (ignored by
+	// a fixed-gain topology). It appends every positive solution to dst;
+	// when none exists it appends the nearest realisable point (if nearest)
+	// and reports false.
+	solve func(v []float64, den Poly, gain float64, dst [][]float64, nearest bool) ([][]float64, bool)
+	// normalised returns the textbook normalised values for den and gain:
+	// unit resistors for a low-pass, unit capacitors for a high-pass, as
+	// far as the gain allows.
+	normalised func(den Poly, gain float64) ([]float64, bool)
 }
 
 // Coeffs returns the numerator and denominator of the section's transfer
@@ -123,33 +187,77 @@ func (t *Topology) Coeffs(v []float64) (num, den Poly) {
 	return t.coeffs(v)
 }
 
-// Solve returns element vectors that realise the denominator den exactly,
-// taking the capacitors from caps (values in Elements order; resistor entries
-// are ignored) and solving for the resistors. ok is false when no exact
-// positive solution exists; then the single returned vector is the nearest
-// point the capacitors allow (for the Sallen-Key low-pass: equal resistors,
-// which gives the highest Q those capacitors can reach).
+// Solve returns element vectors that realise the denominator den exactly
+// with unity passband gain (see SolveGain).
 func (t *Topology) Solve(caps []float64, den Poly) (sols [][]float64, ok bool) {
-	return t.solve(caps, den, nil, true)
+	return t.solve(caps, den, 1, nil, true)
+}
+
+// SolveGain returns element vectors that realise the denominator den
+// exactly with passband gain magnitude gain (V/V; ignored by a topology of
+// fixed unity gain), taking the chosen elements (Chosen: the capacitors,
+// and for a divider the resistor to ground) from v (values in Elements
+// order; the other entries are ignored) and solving for the others. ok is
+// false when no exact positive solution exists; then the single returned
+// vector is the nearest point the chosen values allow (for the Sallen-Key
+// low-pass: equal resistors, which gives the highest Q those capacitors
+// can reach).
+func (t *Topology) SolveGain(v []float64, den Poly, gain float64) (sols [][]float64, ok bool) {
+	return t.solve(v, den, gain, nil, true)
 }
 
 // SolveAppend is Solve appending to dst, for allocation-free loops.
 func (t *Topology) SolveAppend(caps []float64, den Poly, dst [][]float64) ([][]float64, bool) {
-	return t.solve(caps, den, dst, true)
+	return t.solve(caps, den, 1, dst, true)
 }
 
 // SolveExactAppend is SolveAppend without the nearest point: it appends
 // only exact positive solutions, and nothing when there is none. It is the
 // fast path for searches that skip capacitor choices without a solution.
 func (t *Topology) SolveExactAppend(caps []float64, den Poly, dst [][]float64) [][]float64 {
-	dst, _ = t.solve(caps, den, dst, false)
+	dst, _ = t.solve(caps, den, 1, dst, false)
 	return dst
 }
 
-// Normalised returns the classical normalised element values realising den:
-// unit resistors for a low-pass (capacitors solved), unit capacitors for a
-// high-pass (resistors solved). ok is false when no positive solution exists.
-func (t *Topology) Normalised(den Poly) ([]float64, bool) { return t.normalised(den) }
+// SolveGainExactAppend is SolveGain appending only exact positive
+// solutions to dst.
+func (t *Topology) SolveGainExactAppend(v []float64, den Poly, gain float64, dst [][]float64) [][]float64 {
+	dst, _ = t.solve(v, den, gain, dst, false)
+	return dst
+}
+
+// Normalised returns the classical normalised element values realising den
+// with unity passband gain: unit resistors for a low-pass (capacitors
+// solved), unit capacitors for a high-pass (resistors solved). ok is false
+// when no positive solution exists.
+func (t *Topology) Normalised(den Poly) ([]float64, bool) { return t.normalised(den, 1) }
+
+// NormalisedGain is Normalised with passband gain magnitude gain (V/V).
+// The gain-setting elements take the ratio the gain needs; the
+// normalisation of each topology is written in its equations.
+func (t *Topology) NormalisedGain(den Poly, gain float64) ([]float64, bool) {
+	return t.normalised(den, gain)
+}
+
+// PassbandGain returns the signed passband gain (V/V) of the section with
+// element values v: at DC for a low-pass, at infinite frequency for a
+// high-pass.
+func (t *Topology) PassbandGain(v []float64) float64 {
+	num, den := t.Coeffs(v)
+	if t.response == HighPass {
+		return num[t.poles] / den[t.poles]
+	}
+	return num[0] / den[0]
+}
+
+// CanGain reports whether the topology realises passband gain magnitude g
+// (V/V) with positive element values.
+func (t *Topology) CanGain(g float64) bool {
+	if t.gainFixed {
+		return math.Abs(g-1) <= 1e-12
+	}
+	return g > t.minGain
+}
 
 // Eval returns H(jω) of the section with element values v at angular
 // frequency w (rad/s).
@@ -193,7 +301,8 @@ func (t *Topology) Indices(k PartKind) []int {
 }
 
 // all lists every section circuit drawerfit knows, in a fixed order.
-var all = []*Topology{&firstOrderLowPass, &firstOrderHighPass, &sallenKeyLowPass, &sallenKeyHighPass, &threePoleLowPass, &threePoleHighPass}
+var all = []*Topology{&firstOrderLowPass, &firstOrderHighPass, &sallenKeyLowPass, &sallenKeyHighPass, &threePoleLowPass, &threePoleHighPass,
+	&sallenKeyGainLowPass, &sallenKeyGainHighPass, &mfbLowPass, &mfbHighPass}
 
 // Topologies returns every section circuit drawerfit knows, in a fixed
 // order. The slice is a fresh copy; the topologies themselves are immutable.
@@ -216,6 +325,30 @@ func ThreePoleLowPass() *Topology { return &threePoleLowPass }
 
 // ThreePoleHighPass returns the unity-gain single-amplifier 3-pole high-pass.
 func ThreePoleHighPass() *Topology { return &threePoleHighPass }
+
+// SallenKeyGainLowPass returns the Sallen-Key low-pass with gain K = 1 + Rb/Ra.
+func SallenKeyGainLowPass() *Topology { return &sallenKeyGainLowPass }
+
+// SallenKeyGainHighPass returns the Sallen-Key high-pass with gain K = 1 + Rb/Ra.
+func SallenKeyGainHighPass() *Topology { return &sallenKeyGainHighPass }
+
+// MFBLowPass returns the multiple-feedback low-pass (inverting, gain R2/R1).
+func MFBLowPass() *Topology { return &mfbLowPass }
+
+// MFBHighPass returns the multiple-feedback high-pass (inverting, gain C1/C2).
+func MFBHighPass() *Topology { return &mfbHighPass }
+
+// TopologiesFor returns every topology for a section of the given response
+// and pole count, the unity-gain default (TopologyFor) first.
+func TopologiesFor(k Kind, poles int) []*Topology {
+	var out []*Topology
+	for _, t := range all {
+		if t.response == k && t.poles == poles {
+			out = append(out, t)
+		}
+	}
+	return out
+}
 
 // TopologyFor returns the topology for a section of the given response and
 // pole count (1, 2 or 3). It panics for any other pole count.
@@ -241,6 +374,8 @@ func TopologyByID(id string) *Topology {
 // firstOrderLowPass is a series resistor and a shunt capacitor, buffered.
 var firstOrderLowPass = Topology{
 	id: "rc-lowpass", name: "first-order RC low-pass", response: LowPass, poles: 1, plus: "p",
+	minus: "out", family: FamilyRC, gainFixed: true, chosen: []int{1}, symmetric: nil,
+	equations: []string{"R·C = 1/w0", "gain 1 (follower)"},
 	elements: []Element{
 		{Ref: "R1", Symbol: "R", Kind: Resistor, From: "in", To: "p", Role: "series"},
 		{Ref: "C1", Symbol: "C", Kind: Capacitor, From: "p", To: "0", Role: "shunt to ground"},
@@ -248,15 +383,17 @@ var firstOrderLowPass = Topology{
 	coeffs: func(v []float64) (num, den Poly) {
 		return Poly{1}, Poly{1, v[0] * v[1]}
 	},
-	solve: func(v []float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool) {
+	solve: func(v []float64, den Poly, _ float64, dst [][]float64, nearest bool) ([][]float64, bool) {
 		return append(dst, []float64{den[1] / v[1], v[1]}), true
 	},
-	normalised: func(den Poly) ([]float64, bool) { return []float64{1, den[1]}, den[1] > 0 },
+	normalised: func(den Poly, _ float64) ([]float64, bool) { return []float64{1, den[1]}, den[1] > 0 },
 }
 
 // firstOrderHighPass is a series capacitor and a shunt resistor, buffered.
 var firstOrderHighPass = Topology{
 	id: "rc-highpass", name: "first-order RC high-pass", response: HighPass, poles: 1, plus: "p",
+	minus: "out", family: FamilyRC, gainFixed: true, chosen: []int{0}, symmetric: nil,
+	equations: []string{"R·C = 1/w0", "gain 1 (follower)"},
 	elements: []Element{
 		{Ref: "C1", Symbol: "C", Kind: Capacitor, From: "in", To: "p", Role: "series"},
 		{Ref: "R1", Symbol: "R", Kind: Resistor, From: "p", To: "0", Role: "shunt to ground"},
@@ -265,10 +402,10 @@ var firstOrderHighPass = Topology{
 		rc := v[0] * v[1]
 		return Poly{0, rc}, Poly{1, rc}
 	},
-	solve: func(v []float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool) {
+	solve: func(v []float64, den Poly, _ float64, dst [][]float64, nearest bool) ([][]float64, bool) {
 		return append(dst, []float64{v[0], den[1] / v[0]}), true
 	},
-	normalised: func(den Poly) ([]float64, bool) { return []float64{1, den[1]}, den[1] > 0 },
+	normalised: func(den Poly, _ float64) ([]float64, bool) { return []float64{1, den[1]}, den[1] > 0 },
 }
 
 // sallenKeyLowPass is the unity-gain Sallen-Key low-pass:
@@ -277,6 +414,8 @@ var firstOrderHighPass = Topology{
 //	D(s) = 1 + s·Cg(R1+R2) + s²·R1 R2 Cf Cg
 var sallenKeyLowPass = Topology{
 	id: "sallen-key-lowpass", name: "Sallen-Key low-pass", response: LowPass, poles: 2, plus: "p",
+	minus: "out", family: FamilySallenKey, gainFixed: true, chosen: []int{2, 3}, symmetric: [][2]int{{0, 1}},
+	equations: []string{"w0² = 1/(R1·R2·Cf·Cg)", "1/Q = w0·Cg·(R1+R2)", "needs Cf/Cg >= 4Q²", "gain 1 (follower)"},
 	elements: []Element{
 		{Ref: "R1", Symbol: "R1", Kind: Resistor, From: "in", To: "a", Role: "series, input side"},
 		{Ref: "R2", Symbol: "R2", Kind: Resistor, From: "a", To: "p", Role: "series, to + input"},
@@ -287,7 +426,7 @@ var sallenKeyLowPass = Topology{
 		r1, r2, cf, cg := v[0], v[1], v[2], v[3]
 		return Poly{1}, Poly{1, cg * (r1 + r2), r1 * r2 * cf * cg}
 	},
-	solve: func(v []float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool) {
+	solve: func(v []float64, den Poly, _ float64, dst [][]float64, nearest bool) ([][]float64, bool) {
 		cf, cg := v[2], v[3]
 		p := den[2] / (cf * cg) // R1·R2
 		s := den[1] / cg        // R1+R2
@@ -309,7 +448,7 @@ var sallenKeyLowPass = Topology{
 		r2 := p / r1 // avoids cancellation in (s - sq)/2
 		return append(dst, []float64{r1, r2, cf, cg}), true
 	},
-	normalised: func(den Poly) ([]float64, bool) {
+	normalised: func(den Poly, _ float64) ([]float64, bool) {
 		cg := den[1] / 2
 		cf := den[2] / cg
 		return []float64{1, 1, cf, cg}, cg > 0 && cf > 0
@@ -322,6 +461,8 @@ var sallenKeyLowPass = Topology{
 //	H(s) = s² Rf Rg C1 C2 / (1 + s·Rf(C1+C2) + s²·Rf Rg C1 C2)
 var sallenKeyHighPass = Topology{
 	id: "sallen-key-highpass", name: "Sallen-Key high-pass", response: HighPass, poles: 2, plus: "p",
+	minus: "out", family: FamilySallenKey, gainFixed: true, chosen: []int{0, 1}, symmetric: [][2]int{{0, 1}},
+	equations: []string{"w0² = 1/(Rf·Rg·C1·C2)", "1/Q = w0·Rf·(C1+C2)", "gain 1 (follower)"},
 	elements: []Element{
 		{Ref: "C1", Symbol: "C1", Kind: Capacitor, From: "in", To: "a", Role: "series, input side"},
 		{Ref: "C2", Symbol: "C2", Kind: Capacitor, From: "a", To: "p", Role: "series, to + input"},
@@ -333,13 +474,13 @@ var sallenKeyHighPass = Topology{
 		a2 := rf * rg * c1 * c2
 		return Poly{0, 0, a2}, Poly{1, rf * (c1 + c2), a2}
 	},
-	solve: func(v []float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool) {
+	solve: func(v []float64, den Poly, _ float64, dst [][]float64, nearest bool) ([][]float64, bool) {
 		c1, c2 := v[0], v[1]
 		rf := den[1] / (c1 + c2)
 		rg := den[2] / (rf * c1 * c2)
 		return append(dst, []float64{c1, c2, rf, rg}), true
 	},
-	normalised: func(den Poly) ([]float64, bool) {
+	normalised: func(den Poly, _ float64) ([]float64, bool) {
 		rf := den[1] / 2
 		rg := den[2] / rf
 		return []float64{1, 1, rf, rg}, rf > 0 && rg > 0
@@ -353,6 +494,8 @@ var sallenKeyHighPass = Topology{
 //	D(s) = 1 + s(Ca R1 + Cb(R1+R2+R3)) + s²(Ca Cb R1(R2+R3) + Cb Cf R3(R1+R2)) + s³ Ca Cb Cf R1 R2 R3
 var threePoleLowPass = Topology{
 	id: "three-pole-lowpass", name: "single-amplifier 3-pole low-pass", response: LowPass, poles: 3, plus: "p",
+	minus: "out", family: FamilySallenKey, gainFixed: true, chosen: []int{3, 4, 5}, symmetric: nil,
+	equations: []string{"D(s) = 1 + s(Ca R1 + Cb(R1+R2+R3)) + s²(Ca Cb R1(R2+R3) + Cb Cf R3(R1+R2)) + s³ Ca Cb Cf R1 R2 R3", "gain 1 (follower)"},
 	elements: []Element{
 		{Ref: "R1", Symbol: "R1", Kind: Resistor, From: "in", To: "n1", Role: "series, input side"},
 		{Ref: "R2", Symbol: "R2", Kind: Resistor, From: "n1", To: "n2", Role: "series, middle"},
@@ -368,7 +511,7 @@ var threePoleLowPass = Topology{
 			ca*cb*r1*(r2+r3) + cb*cf*r3*(r1+r2),
 			ca * cb * cf * r1 * r2 * r3}
 	},
-	solve: func(v []float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool) {
+	solve: func(v []float64, den Poly, _ float64, dst [][]float64, nearest bool) ([][]float64, bool) {
 		ca, cf, cb := v[3], v[4], v[5]
 		a1, a2, a3 := den[1], den[2], den[3]
 		// Given R1: R2+R3 = u from a1, R2·R3 = p from a3, and a2 then fixes
@@ -394,7 +537,7 @@ var threePoleLowPass = Topology{
 			return []float64{r1, r2, r3, ca, cf, cb}
 		}, dst, nearest)
 	},
-	normalised: func(den Poly) ([]float64, bool) {
+	normalised: func(den Poly, _ float64) ([]float64, bool) {
 		a1, a2, a3 := den[1], den[2], den[3]
 		// Unit resistors: a1 = Ca + 3Cb, a2 = 2Cb(Ca+Cf), a3 = Ca Cb Cf.
 		// With x = Cb: Ca = a1 - 3x, Cf = a2/(2x) - Ca, and
@@ -424,6 +567,8 @@ var threePoleLowPass = Topology{
 //	D(s) = 1 + s(C1 Ra + C2 Ra + C2 Rf + C3 Rf) + s²(Ra Rf (C1C2 + C1C3 + C2C3) + C2 C3 Rb Rf) + s³ C1 C2 C3 Ra Rb Rf
 var threePoleHighPass = Topology{
 	id: "three-pole-highpass", name: "single-amplifier 3-pole high-pass", response: HighPass, poles: 3, plus: "p",
+	minus: "out", family: FamilySallenKey, gainFixed: true, chosen: []int{0, 1, 2}, symmetric: nil,
+	equations: []string{"D(s) = 1 + s(C1 Ra + C2 Ra + C2 Rf + C3 Rf) + s²(Ra Rf (C1C2 + C1C3 + C2C3) + C2 C3 Rb Rf) + s³ C1 C2 C3 Ra Rb Rf", "gain 1 (follower)"},
 	elements: []Element{
 		{Ref: "C1", Symbol: "C1", Kind: Capacitor, From: "in", To: "n1", Role: "series, input side"},
 		{Ref: "C2", Symbol: "C2", Kind: Capacitor, From: "n1", To: "n2", Role: "series, middle"},
@@ -440,13 +585,221 @@ var threePoleHighPass = Topology{
 			ra*rf*(c1*c2+c1*c3+c2*c3) + c2*c3*rb*rf,
 			a3}
 	},
-	solve: func(v []float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool) {
+	solve: func(v []float64, den Poly, _ float64, dst [][]float64, nearest bool) ([][]float64, bool) {
 		return threePoleHighPassSolve(v[0], v[1], v[2], den, dst, nearest)
 	},
-	normalised: func(den Poly) ([]float64, bool) {
+	normalised: func(den Poly, _ float64) ([]float64, bool) {
 		sols, ok := threePoleHighPassSolve(1, 1, 1, den, nil, true)
 		return sols[0], ok
 	},
+}
+
+// sallenKeyGainLowPass is the Sallen-Key low-pass with non-inverting gain
+// K = 1 + Rb/Ra: in -R1- a -R2- p; C1 (Cf) from a to out; C2 (Cg) from p to
+// ground; R3 (Ra) from the - input n to ground; R4 (Rb) from out to n.
+//
+//	H(s) = K / (1 + s·(Cg(R1+R2) + (1-K)·Cf·R1) + s²·R1 R2 Cf Cg)
+var sallenKeyGainLowPass = Topology{
+	id: "sallen-key-gain-lowpass", name: "Sallen-Key low-pass with gain", response: LowPass, poles: 2, plus: "p",
+	minus: "n", family: FamilySallenKey, minGain: 1, gainElems: []int{5, 4}, chosen: []int{2, 3, 4},
+	equations: []string{"K = 1 + Rb/Ra", "w0² = 1/(R1·R2·Cf·Cg)", "1/Q = w0·(Cg·(R1+R2) + (1-K)·Cf·R1)",
+		"given Cf, Cg, K: (Cg + (1-K)Cf)·R1² - R1/(w0·Q) + 1/(w0²·Cf) = 0, R2 = 1/(w0²·R1·Cf·Cg)"},
+	elements: []Element{
+		{Ref: "R1", Symbol: "R1", Kind: Resistor, From: "in", To: "a", Role: "series, input side"},
+		{Ref: "R2", Symbol: "R2", Kind: Resistor, From: "a", To: "p", Role: "series, to + input"},
+		{Ref: "C1", Symbol: "Cf", Kind: Capacitor, From: "a", To: "out", Role: "feedback to output"},
+		{Ref: "C2", Symbol: "Cg", Kind: Capacitor, From: "p", To: "0", Role: "+ input to ground"},
+		{Ref: "R3", Symbol: "Ra", Kind: Resistor, From: "n", To: "0", Role: "gain divider, - input to ground"},
+		{Ref: "R4", Symbol: "Rb", Kind: Resistor, From: "out", To: "n", Role: "gain divider, output to - input"},
+	},
+	coeffs: func(v []float64) (num, den Poly) {
+		r1, r2, cf, cg, ra, rb := v[0], v[1], v[2], v[3], v[4], v[5]
+		k := 1 + rb/ra
+		return Poly{k}, Poly{1, cg*(r1+r2) + (1-k)*cf*r1, r1 * r2 * cf * cg}
+	},
+	solve: func(v []float64, den Poly, gain float64, dst [][]float64, nearest bool) ([][]float64, bool) {
+		cf, cg, ra := v[2], v[3], v[4]
+		rb := (gain - 1) * ra
+		p := den[2] / (cf * cg) // R1·R2
+		d1 := den[1]
+		a := cg + (1-gain)*cf
+		build := func(r1 float64) []float64 { return []float64{r1, p / r1, cf, cg, ra, rb} }
+		if !(gain > 1) {
+			if !nearest {
+				return dst, false
+			}
+			r := math.Sqrt(p)
+			return append(dst, []float64{r, r, cf, cg, ra, 0}), false
+		}
+		// a·R1² - d1·R1 + Cg·P = 0.
+		disc := d1*d1 - 4*a*cg*p
+		if disc < 0 && disc > -1e-12*d1*d1 {
+			disc = 0
+		}
+		if disc < 0 {
+			if !nearest {
+				return dst, false
+			}
+			return append(dst, build(d1/(2*a))), false
+		}
+		sq := math.Sqrt(disc)
+		// The root 2CgP/(d1+sq) is positive for any sign of a and free of
+		// cancellation; the other, (d1+sq)/(2a), is positive only for a > 0.
+		dst = append(dst, build(2*cg*p/(d1+sq)))
+		if a > 0 && sq > 0 {
+			dst = append(dst, build((d1+sq)/(2*a)))
+		}
+		return dst, true
+	},
+	normalised: func(den Poly, gain float64) ([]float64, bool) {
+		// R1 = R2 = Ra = 1, Rb = K-1: (K-1)Cf² + d1·Cf - 2·d2 = 0.
+		d1, d2 := den[1], den[2]
+		k := gain
+		cf := 4 * d2 / (d1 + math.Sqrt(d1*d1+8*(k-1)*d2))
+		cg := d2 / cf
+		return []float64{1, 1, cf, cg, 1, k - 1}, k > 1 && cf > 0 && cg > 0
+	},
+}
+
+// sallenKeyGainHighPass is the Sallen-Key high-pass with non-inverting
+// gain K = 1 + Rb/Ra: in -C1- a -C2- p; R1 (Rf) from a to out; R2 (Rg) from
+// p to ground; R3 (Ra) from the - input n to ground; R4 (Rb) from out to n.
+//
+//	H(s) = K·s² Rf Rg C1 C2 / (1 + s·(Rf(C1+C2) + (1-K)·Rg·C2) + s²·Rf Rg C1 C2)
+var sallenKeyGainHighPass = Topology{
+	id: "sallen-key-gain-highpass", name: "Sallen-Key high-pass with gain", response: HighPass, poles: 2, plus: "p",
+	minus: "n", family: FamilySallenKey, minGain: 1, gainElems: []int{5, 4}, chosen: []int{0, 1, 4},
+	equations: []string{"K = 1 + Rb/Ra", "w0² = 1/(Rf·Rg·C1·C2)", "1/Q = w0·(Rf·(C1+C2) + (1-K)·Rg·C2)",
+		"given C1, C2, K: (C1+C2)·Rf² - Rf/(w0·Q) - (K-1)/(w0²·C1) = 0, Rg = 1/(w0²·Rf·C1·C2)"},
+	elements: []Element{
+		{Ref: "C1", Symbol: "C1", Kind: Capacitor, From: "in", To: "a", Role: "series, input side"},
+		{Ref: "C2", Symbol: "C2", Kind: Capacitor, From: "a", To: "p", Role: "series, to + input"},
+		{Ref: "R1", Symbol: "Rf", Kind: Resistor, From: "a", To: "out", Role: "feedback to output"},
+		{Ref: "R2", Symbol: "Rg", Kind: Resistor, From: "p", To: "0", Role: "+ input to ground"},
+		{Ref: "R3", Symbol: "Ra", Kind: Resistor, From: "n", To: "0", Role: "gain divider, - input to ground"},
+		{Ref: "R4", Symbol: "Rb", Kind: Resistor, From: "out", To: "n", Role: "gain divider, output to - input"},
+	},
+	coeffs: func(v []float64) (num, den Poly) {
+		c1, c2, rf, rg, ra, rb := v[0], v[1], v[2], v[3], v[4], v[5]
+		k := 1 + rb/ra
+		a2 := rf * rg * c1 * c2
+		return Poly{0, 0, k * a2}, Poly{1, rf*(c1+c2) + (1-k)*rg*c2, a2}
+	},
+	solve: skGainHighPassSolve,
+	normalised: func(den Poly, gain float64) ([]float64, bool) {
+		sols, ok := skGainHighPassSolve([]float64{1, 1, 0, 0, 1, 0}, den, gain, nil, true)
+		return sols[0], ok
+	},
+}
+
+func skGainHighPassSolve(v []float64, den Poly, gain float64, dst [][]float64, nearest bool) ([][]float64, bool) {
+	c1, c2, ra := v[0], v[1], v[4]
+	if !(gain > 1) {
+		if !nearest {
+			return dst, false
+		}
+		gain = 1
+	}
+	d1, d2 := den[1], den[2]
+	// (C1+C2)·Rf² - d1·Rf - (K-1)·d2/C1 = 0: one positive root.
+	rf := (d1 + math.Sqrt(d1*d1+4*(c1+c2)*(gain-1)*d2/c1)) / (2 * (c1 + c2))
+	rg := d2 / (rf * c1 * c2)
+	return append(dst, []float64{c1, c2, rf, rg, ra, (gain - 1) * ra}), gain > 1
+}
+
+// mfbLowPass is the multiple-feedback low-pass (inverting): in -R1- a;
+// R2 from a to out; R3 from a to the - input m; C1 (Cg) from a to ground;
+// C2 (Cf) from m to out; the + input is grounded.
+//
+//	H(s) = -(R2/R1) / (1 + s·Cf·(R2 + R3 + R2·R3/R1) + s²·R2 R3 Cf Cg)
+var mfbLowPass = Topology{
+	id: "mfb-lowpass", name: "multiple-feedback low-pass", response: LowPass, poles: 2, plus: "0",
+	minus: "m", family: FamilyMFB, inverting: true, gainElems: []int{1, 0}, chosen: []int{3, 4},
+	equations: []string{"H(0) = -R2/R1", "w0² = 1/(R2·R3·Cf·Cg)", "1/Q = w0·Cf·(R2 + R3 + R2·R3/R1)",
+		"needs Cg/Cf >= 4Q²(1+|H(0)|)",
+		"given Cf, Cg, G = |H(0)|: R2 = (1/(w0·Q·Cf) ± sqrt(1/(w0·Q·Cf)² - 4(1+G)/(w0²·Cf·Cg)))/2, R3 = 1/(w0²·R2·Cf·Cg), R1 = R2/G"},
+	elements: []Element{
+		{Ref: "R1", Symbol: "R1", Kind: Resistor, From: "in", To: "a", Role: "input, sets gain with R2"},
+		{Ref: "R2", Symbol: "R2", Kind: Resistor, From: "a", To: "out", Role: "feedback to output, sets gain with R1"},
+		{Ref: "R3", Symbol: "R3", Kind: Resistor, From: "a", To: "m", Role: "series, to - input"},
+		{Ref: "C1", Symbol: "Cg", Kind: Capacitor, From: "a", To: "0", Role: "shunt to ground"},
+		{Ref: "C2", Symbol: "Cf", Kind: Capacitor, From: "m", To: "out", Role: "feedback, - input to output"},
+	},
+	coeffs: func(v []float64) (num, den Poly) {
+		r1, r2, r3, cg, cf := v[0], v[1], v[2], v[3], v[4]
+		return Poly{-r2 / r1}, Poly{1, cf * (r2 + r3 + r2*r3/r1), r2 * r3 * cf * cg}
+	},
+	solve: func(v []float64, den Poly, gain float64, dst [][]float64, nearest bool) ([][]float64, bool) {
+		cg, cf := v[3], v[4]
+		if !(gain > 0) {
+			panic("synth: multiple-feedback gain must be positive")
+		}
+		b := den[1] / cf                     // R2 + (1+G)·R3·... : R2² - b·R2 + c = 0
+		c := (1 + gain) * den[2] / (cf * cg) // (1+G)·R2·R3
+		build := func(r2 float64) []float64 {
+			return []float64{r2 / gain, r2, den[2] / (cf * cg * r2), cg, cf}
+		}
+		disc := b*b - 4*c
+		if disc < 0 && disc > -1e-12*b*b {
+			disc = 0
+		}
+		if disc < 0 {
+			if !nearest {
+				return dst, false
+			}
+			return append(dst, build(b/2)), false
+		}
+		sq := math.Sqrt(disc)
+		hi := (b + sq) / 2
+		dst = append(dst, build(hi))
+		if sq > 0 {
+			dst = append(dst, build(c/hi))
+		}
+		return dst, true
+	},
+	normalised: func(den Poly, gain float64) ([]float64, bool) {
+		// R2 = R3 = 1, R1 = 1/G: d1 = Cf(2+G), d2 = Cf·Cg.
+		cf := den[1] / (2 + gain)
+		cg := den[2] / cf
+		return []float64{1 / gain, 1, 1, cg, cf}, gain > 0 && cf > 0 && cg > 0
+	},
+}
+
+// mfbHighPass is the multiple-feedback high-pass (inverting): in -C1- a;
+// C2 from a to out; C3 from a to the - input m; R1 from a to ground; R2
+// from m to out; the + input is grounded.
+//
+//	H(s) = -s²·C1 C3 R1 R2 / (1 + s·R1·(C1+C2+C3) + s²·R1 R2 C2 C3)
+var mfbHighPass = Topology{
+	id: "mfb-highpass", name: "multiple-feedback high-pass", response: HighPass, poles: 2, plus: "0",
+	minus: "m", family: FamilyMFB, inverting: true, gainElems: []int{0, 1}, chosen: []int{0, 1, 2},
+	equations: []string{"H(inf) = -C1/C2", "w0² = 1/(R1·R2·C2·C3)", "1/Q = w0·R1·(C1+C2+C3)",
+		"given C1, C2, C3: R1 = 1/(w0·Q·(C1+C2+C3)), R2 = 1/(w0²·R1·C2·C3)"},
+	elements: []Element{
+		{Ref: "C1", Symbol: "C1", Kind: Capacitor, From: "in", To: "a", Role: "input, sets gain with C2"},
+		{Ref: "C2", Symbol: "C2", Kind: Capacitor, From: "a", To: "out", Role: "feedback to output, sets gain with C1"},
+		{Ref: "C3", Symbol: "C3", Kind: Capacitor, From: "a", To: "m", Role: "series, to - input"},
+		{Ref: "R1", Symbol: "R1", Kind: Resistor, From: "a", To: "0", Role: "shunt to ground"},
+		{Ref: "R2", Symbol: "R2", Kind: Resistor, From: "m", To: "out", Role: "feedback, - input to output"},
+	},
+	coeffs: func(v []float64) (num, den Poly) {
+		c1, c2, c3, r1, r2 := v[0], v[1], v[2], v[3], v[4]
+		return Poly{0, 0, -c1 * c3 * r1 * r2}, Poly{1, r1 * (c1 + c2 + c3), r1 * r2 * c2 * c3}
+	},
+	solve: mfbHighPassSolve,
+	normalised: func(den Poly, gain float64) ([]float64, bool) {
+		// C2 = C3 = 1, C1 = G.
+		sols, ok := mfbHighPassSolve([]float64{gain, 1, 1, 0, 0}, den, gain, nil, true)
+		return sols[0], ok && gain > 0
+	},
+}
+
+// mfbHighPassSolve: the gain is C1/C2, set by the chosen capacitors.
+func mfbHighPassSolve(v []float64, den Poly, _ float64, dst [][]float64, _ bool) ([][]float64, bool) {
+	c1, c2, c3 := v[0], v[1], v[2]
+	r1 := den[1] / (c1 + c2 + c3)
+	r2 := den[2] / (r1 * c2 * c3)
+	return append(dst, []float64{c1, c2, c3, r1, r2}), true
 }
 
 func threePoleHighPassSolve(c1, c2, c3 float64, den Poly, dst [][]float64, nearest bool) ([][]float64, bool) {
@@ -736,5 +1089,43 @@ func (t *Topology) Plus() string { return t.plus }
 // input nodes) and no analysis: for drawing code and its tests. Calling
 // Coeffs, Solve or Normalised on it panics.
 func Sketch(id, name, plus, minus string, els []Element) *Topology {
-	return &Topology{id: id, name: name, plus: plus, elements: append([]Element(nil), els...)}
+	return &Topology{id: id, name: name, plus: plus, minus: minus, elements: append([]Element(nil), els...)}
 }
+
+// Minus returns the node at the op-amp's - input: "out" for a follower.
+func (t *Topology) Minus() string { return t.minus }
+
+// Family returns the circuit family (RC, Sallen-Key, MFB).
+func (t *Topology) Family() Family { return t.family }
+
+// Inverting reports whether the passband gain is negative.
+func (t *Topology) Inverting() bool { return t.inverting }
+
+// GainFixed reports whether the passband gain is 1 whatever the values.
+func (t *Topology) GainFixed() bool { return t.gainFixed }
+
+// GainElements returns the indices of the elements whose ratio sets the
+// passband gain, numerator first (nil for a fixed gain).
+func (t *Topology) GainElements() []int { return append([]int(nil), t.gainElems...) }
+
+// Chosen returns the indices of the elements the closed-form solver takes
+// as given (a search picks them from stock); the solver computes the rest.
+func (t *Topology) Chosen() []int { return append([]int(nil), t.chosen...) }
+
+// Solved returns the indices of the elements the solver computes.
+func (t *Topology) Solved() []int {
+	var out []int
+	for i := range t.elements {
+		if !slices.Contains(t.chosen, i) {
+			out = append(out, i)
+		}
+	}
+	return out
+}
+
+// Symmetric returns pairs of elements the response cannot tell apart
+// (swapping their values leaves H(s) unchanged).
+func (t *Topology) Symmetric() [][2]int { return append([][2]int(nil), t.symmetric...) }
+
+// Equations returns the design equations in plain text, for people.
+func (t *Topology) Equations() []string { return append([]string(nil), t.equations...) }
