@@ -23,8 +23,11 @@ type Section struct {
 	// RealF0 is the real pole's frequency in Hz for a 3-pole section, else 0.
 	RealF0 float64
 	// Num and Den are the ideal target section N(s)/D(s), s in rad/s,
-	// Den[0] = 1, unity passband gain.
+	// Den[0] = 1, passband gain Gain (positive: the sign a circuit gives
+	// is its topology's).
 	Num, Den Poly
+	// Gain is the section's passband gain magnitude, V/V (1 for unity).
+	Gain float64
 	// Reason says in a few words why the section is what and where it is.
 	Reason string
 }
@@ -223,6 +226,9 @@ func NewDesign(s Spec, order int, odd Odd) (*Design, error) {
 		return nil, err
 	}
 	d.place(pl)
+	if err := d.assignGains(); err != nil {
+		return nil, err
+	}
 	d.explain(minN)
 	return d, nil
 }
@@ -351,9 +357,115 @@ func (d *Design) Target(w float64) complex128 {
 }
 
 // AttenuationAt returns the ideal design's attenuation at f (Hz) in positive
-// dB relative to the passband gain (which is 1).
+// dB relative to the passband gain.
 func (d *Design) AttenuationAt(f float64) float64 {
-	return Attenuation(d.Target(2 * math.Pi * f))
+	return Attenuation(d.Target(2*math.Pi*f)) + d.GainDB()
+}
+
+// GainDB returns the ideal design's passband gain in dB: the sum of its
+// sections' gains.
+func (d *Design) GainDB() float64 {
+	var g float64
+	for i := range d.Sections {
+		if s := &d.Sections[i]; s.Gain > 0 {
+			g += 20 * math.Log10(s.Gain)
+		}
+	}
+	return g
+}
+
+// Inverting reports whether the design's chosen topologies invert the
+// signal overall (an odd number of inverting sections).
+func (d *Design) Inverting() bool {
+	n := 0
+	for i := range d.Sections {
+		if d.Sections[i].Topology.inverting {
+			n++
+		}
+	}
+	return n%2 == 1
+}
+
+// GainSections returns the indices of the sections that can carry gain:
+// the 2-pole sections (a 1-pole RC section and the single-amplifier 3-pole
+// section are unity-gain followers).
+func (d *Design) GainSections() []int {
+	var out []int
+	for i := range d.Sections {
+		if d.Sections[i].Topology.poles == 2 {
+			out = append(out, i)
+		}
+	}
+	return out
+}
+
+// assignGains shares the specification's passband gain between the
+// sections by the rule in the package doc (equal shares in dB over the
+// 2-pole sections), scales their numerators, and picks each 2-pole
+// section's topology from the specification's choice (TopologyFor the
+// family; auto plans with Sallen-Key). Errors: fault.Infeasible when a gain
+// is asked for and the design has no 2-pole section, or when the
+// specification asks for multiple-feedback sections that keep the polarity
+// and the count of 2-pole sections is odd.
+func (d *Design) assignGains() error {
+	s := &d.Spec
+	gs := d.GainSections()
+	for i := range d.Sections {
+		d.Sections[i].Gain = 1
+	}
+	if s.GainDB > 0 && len(gs) == 0 {
+		return fault.Infeasiblef("a passband gain of %g dB needs a 2-pole section, and order %d (%s) has none; ask for a higher order or the 1-pole arrangement",
+			s.GainDB, d.Order, d.Odd)
+	}
+	share := 1.0
+	if len(gs) > 0 {
+		share = math.Pow(10, s.GainDB/20/float64(len(gs)))
+	}
+	for _, i := range gs {
+		sec := &d.Sections[i]
+		sec.Gain = share
+		for k := range sec.Num {
+			sec.Num[k] *= share
+		}
+		sec.Topology = PlanTopology(s.Kind, share, s.Topology)
+	}
+	if s.Topology == TopologyMFB && s.Polarity == PolarityKeep && len(gs)%2 == 1 {
+		return fault.Infeasiblef("order %d has %d 2-pole sections: an odd number of inverting multiple-feedback sections inverts the signal, which the polarity keep forbids; use --topology auto or sallen-key, or another order",
+			d.Order, len(gs))
+	}
+	return nil
+}
+
+// PlanTopology returns the topology a plan without stock gives a 2-pole
+// section of kind k with passband gain magnitude gain (V/V) under choice c:
+// multiple-feedback for TopologyMFB, otherwise Sallen-Key (unity-gain for a
+// gain of 1, with gain K = 1 + Rb/Ra above).
+func PlanTopology(k Kind, gain float64, c TopologyChoice) *Topology {
+	switch {
+	case c == TopologyMFB && k == LowPass:
+		return &mfbLowPass
+	case c == TopologyMFB:
+		return &mfbHighPass
+	case gain > 1+1e-12 && k == LowPass:
+		return &sallenKeyGainLowPass
+	case gain > 1+1e-12:
+		return &sallenKeyGainHighPass
+	}
+	return TopologyFor(k, 2)
+}
+
+// Alternatives returns the topologies that may build section i under the
+// design's specification, the plan's own choice first: for a 2-pole
+// section under TopologyAuto both families (the Sallen-Key that fits the
+// section's gain, and the multiple-feedback), otherwise only the section's
+// topology.
+func (d *Design) Alternatives(i int) []*Topology {
+	sec := &d.Sections[i]
+	if sec.Topology.poles != 2 || d.Spec.Topology != TopologyAuto {
+		return []*Topology{sec.Topology}
+	}
+	mfb := PlanTopology(d.Spec.Kind, sec.Gain, TopologyMFB)
+	return []*Topology{sec.Topology, mfb}
 }
 
 // TargetGroupDelay returns the ideal cascade's group delay in seconds at

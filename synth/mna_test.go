@@ -273,7 +273,7 @@ func TestDomainFormulas(t *testing.T) {
 					}
 				}
 				freqs := logSweep(10, 1e5, 25)
-				nl := Netlist([]Stage{StageOf(top, v)}, NetlistOptions{})
+				nl := Netlist([]Stage{StageOf(top, v)}, NetlistOptions{IdealGain: IdealGain})
 				h, err := AnalyzeNetlist(nl, freqs)
 				if err != nil {
 					t.Fatal(err)

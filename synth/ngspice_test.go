@@ -2,6 +2,8 @@ package synth
 
 import (
 	"bufio"
+	"context"
+	"fmt"
 	"math"
 	"os"
 	"os/exec"
@@ -9,6 +11,7 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+	"time"
 
 	"drawerfit/internal/testkit"
 )
@@ -42,7 +45,11 @@ func runNgspice(t *testing.T, netlist string) ([]float64, []complex128) {
 	}
 	// Not -b: batch mode exits with status 1 when a netlist has no .print
 	// line; the .control block runs the analysis, writes the data and quits.
-	cmd := exec.Command(bin, cir)
+	// A bounded run: a netlist ngspice cannot sweep must fail the test,
+	// not hang it.
+	ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
+	defer cancel()
+	cmd := exec.CommandContext(ctx, bin, cir)
 	cmd.Dir = dir
 	cmd.Stdin = strings.NewReader("")
 	if msg, err := cmd.CombinedOutput(); err != nil {
@@ -103,6 +110,14 @@ func TestNgspiceAgrees(t *testing.T) {
 		{"butterworth-hp-9-3pole-split", Spec{Kind: HighPass, Approx: Butterworth, Pass: 50, Stop: 20, StopAtten: 30, Odd: OddThreePole}, true, nil},
 		{"butterworth-lp-4-gbw", Spec{Approx: Butterworth, Pass: 20e3, Order: 4}, false, &OpAmp{DCGain: 2e5, GBW: 1e6}},
 		{"chebyshev1dB-lp-5-3pole-gbw", Spec{Approx: Chebyshev, Ripple: 1, Pass: 5e3, Order: 5, Odd: OddThreePole}, true, &OpAmp{GBW: 3e6}},
+		// Gain and multiple-feedback sections: the passband gain and the
+		// inversion are checked as well (see passband below).
+		{"sallen-key-gain-lp-4-20dB", Spec{Approx: Butterworth, Pass: 2000, Order: 4, GainDB: 20, Topology: TopologySallenKey}, false, nil},
+		{"sallen-key-gain-hp-5-12dB-split", Spec{Kind: HighPass, Approx: Chebyshev, Ripple: 0.5, Pass: 300, Order: 5, GainDB: 12, Topology: TopologySallenKey}, true, nil},
+		{"mfb-lp-5-20dB-split", Spec{Approx: Butterworth, Pass: 2000, Order: 5, GainDB: 20, Topology: TopologyMFB}, true, nil},
+		{"mfb-lp-6-40dB", Spec{Approx: Chebyshev, Ripple: 0.5, Pass: 20e3, Order: 6, GainDB: 40, Topology: TopologyMFB}, false, nil},
+		{"mfb-hp-4-6dB-split", Spec{Kind: HighPass, Approx: Bessel, Pass: 100, Order: 4, GainDB: 6, Topology: TopologyMFB}, true, nil},
+		{"mfb-lp-4-20dB-gbw", Spec{Approx: Butterworth, Pass: 2000, Order: 4, GainDB: 20, Topology: TopologyMFB}, false, &OpAmp{GBW: 10e6}},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -137,7 +152,45 @@ func TestNgspiceAgrees(t *testing.T) {
 			if worst > 0.01 || worstPh > 0.01 {
 				t.Errorf("ngspice vs nodal analysis: %.3g dB (at %g Hz), %.3g° apart", worst, at, worstPh)
 			}
+			if c.spec.GainDB > 0 || c.spec.Topology != TopologyAuto {
+				passband(t, d, stages, c.opamp)
+			}
 			t.Logf("%d points %g..%g Hz: worst %.2g dB, %.2g°", len(freqs), lo, hi, worst, worstPh)
 		})
 	}
+}
+
+// passband simulates the cascade far inside its passband (10⁻⁴·fp for a
+// low-pass, 10⁴·fp for a high-pass) and checks the gain against the
+// specification's (0.01 dB; a finite op-amp gain-bandwidth costs less than
+// 1e-4 dB there) and the phase: 180° when the design inverts, 0° when not
+// (0.05°; the poles' own phase there is below 0.02°).
+func passband(t *testing.T, d *Design, stages []Stage, op *OpAmp) {
+	t.Helper()
+	f := d.Spec.Pass * 1e-4
+	if d.Spec.Kind == HighPass {
+		f = d.Spec.Pass * 1e4
+	}
+	nl := Netlist(stages, NetlistOptions{Title: "passband", FStart: f, FStop: 10 * f, OpAmp: op})
+	// Two linear points from f (a decade sweep over a tiny span makes
+	// ngspice loop).
+	i := strings.Index(nl, "\n.ac ")
+	j := strings.Index(nl[i+1:], "\n")
+	nl = nl[:i+1] + fmt.Sprintf(".ac lin 2 %g %g", f, 2*f) + nl[i+1+j:]
+	_, sim := runNgspice(t, nl)
+	if len(sim) == 0 {
+		t.Fatal("ngspice returned no points")
+	}
+	g := MagnitudeDB(sim[0])
+	if math.Abs(g-d.Spec.GainDB) > 0.01 {
+		t.Errorf("simulated passband gain %.4f dB, want %.4g dB", g, d.Spec.GainDB)
+	}
+	want := 0.0
+	if d.Inverting() {
+		want = 180
+	}
+	if ph := math.Abs(PhaseDeg(sim[0])); math.Abs(ph-want) > 0.05 {
+		t.Errorf("simulated passband phase %.4f°, want ±%g° (inverting %v)", PhaseDeg(sim[0]), want, d.Inverting())
+	}
+	t.Logf("passband at %g Hz: %.6f dB, %.4f°", f, g, PhaseDeg(sim[0]))
 }

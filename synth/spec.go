@@ -145,6 +145,81 @@ func ParseBesselNorm(s string) (BesselNorm, error) {
 	return 0, fault.Invalidf("unknown Bessel normalisation %q: use mag or delay", s)
 }
 
+// Polarity says whether the filter may invert its signal.
+type Polarity uint8
+
+const (
+	// PolarityAny allows inverting sections; the result says whether the
+	// whole filter inverts.
+	PolarityAny Polarity = iota
+	// PolarityKeep requires a non-inverting filter: an even number of
+	// inverting sections (none, or two, ...).
+	PolarityKeep
+)
+
+// String returns "any" or "keep".
+func (p Polarity) String() string {
+	if p == PolarityKeep {
+		return "keep"
+	}
+	return "any"
+}
+
+// ParsePolarity reads "any" or "keep". Anything else is a fault.Invalid
+// error.
+func ParsePolarity(s string) (Polarity, error) {
+	switch strings.ToLower(strings.TrimSpace(s)) {
+	case "any":
+		return PolarityAny, nil
+	case "keep":
+		return PolarityKeep, nil
+	}
+	return 0, fault.Invalidf("unknown polarity %q: use any or keep", s)
+}
+
+// TopologyChoice says which circuit family builds the 2-pole sections.
+type TopologyChoice uint8
+
+const (
+	// TopologyAuto lets the fit choose per section (by its ranking); a
+	// plan without stock uses Sallen-Key.
+	TopologyAuto TopologyChoice = iota
+	// TopologySallenKey builds every 2-pole section as a Sallen-Key
+	// (unity gain, or with gain K = 1 + Rb/Ra).
+	TopologySallenKey
+	// TopologyMFB builds every 2-pole section as a multiple-feedback circuit
+	// (inverting).
+	TopologyMFB
+)
+
+// String returns "auto", "sallen-key" or "mfb".
+func (c TopologyChoice) String() string {
+	switch c {
+	case TopologySallenKey:
+		return "sallen-key"
+	case TopologyMFB:
+		return "mfb"
+	}
+	return "auto"
+}
+
+// ParseTopologyChoice reads "auto", "sallen-key" or "mfb" (also "sk",
+// "multiple-feedback"). Anything else is a fault.Invalid error.
+func ParseTopologyChoice(s string) (TopologyChoice, error) {
+	switch strings.ToLower(strings.TrimSpace(s)) {
+	case "auto":
+		return TopologyAuto, nil
+	case "sallen-key", "sk":
+		return TopologySallenKey, nil
+	case "mfb", "multiple-feedback":
+		return TopologyMFB, nil
+	}
+	return 0, fault.Invalidf("unknown topology %q: use auto, sallen-key or mfb", s)
+}
+
+// MaxGainDB is the largest passband gain a specification may ask for, dB.
+const MaxGainDB = 40
+
 // MaxOrder is the highest filter order drawerfit designs.
 const MaxOrder = 12
 
@@ -175,7 +250,18 @@ type Spec struct {
 	// it when the order leaves slack. The specification itself (fp, Ap, fs,
 	// As) is what every candidate is judged against either way.
 	Placement Placement
+	// GainDB is the passband gain in dB, 0..MaxGainDB: at DC for a
+	// low-pass, at high frequencies for a high-pass. It is shared between
+	// the 2-pole sections (see Design.Sections and the package doc).
+	GainDB float64
+	// Polarity says whether the filter may invert.
+	Polarity Polarity
+	// Topology says which family builds the 2-pole sections.
+	Topology TopologyChoice
 }
+
+// Gain returns the passband gain magnitude in V/V: 10^(GainDB/20).
+func (s *Spec) Gain() float64 { return math.Pow(10, s.GainDB/20) }
 
 func finitePositive(x float64) bool { return x > 0 && !math.IsInf(x, 1) }
 
@@ -198,6 +284,15 @@ func (s *Spec) Normalize() error {
 	}
 	if s.BesselNorm > BesselDelay {
 		return fault.Invalidf("unknown Bessel normalisation %d", s.BesselNorm)
+	}
+	if s.Polarity > PolarityKeep {
+		return fault.Invalidf("unknown polarity %d", s.Polarity)
+	}
+	if s.Topology > TopologyMFB {
+		return fault.Invalidf("unknown topology choice %d", s.Topology)
+	}
+	if !(s.GainDB >= 0 && s.GainDB <= MaxGainDB) {
+		return fault.Invalidf("passband gain must be 0..%d dB, got %g dB", MaxGainDB, s.GainDB)
 	}
 	if !finitePositive(s.Pass) {
 		return fault.Invalidf("passband edge must be a positive finite frequency, got %g Hz", s.Pass)

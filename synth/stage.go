@@ -125,7 +125,7 @@ const (
 // Errors: fault.Infeasible when the section has no positive realisation.
 func (d *Design) Normalised(i int) ([]float64, error) {
 	sec := &d.Sections[i]
-	v, ok := sec.Topology.Normalised(d.normalisedDen(sec.Den))
+	v, ok := sec.Topology.NormalisedGain(d.normalisedDen(sec.Den), sec.Gain)
 	if !ok {
 		return nil, fault.Infeasiblef("section %d (%s) has no positive normalised element values", i+1, sec.Topology.name)
 	}
