@@ -83,11 +83,17 @@ const (
 
 // layout is the result of classifying a topology's elements.
 type layout struct {
-	chain    []string // nodes from "in" to Plus
+	chain    []string // nodes from "in" to the driven op-amp input
 	series   []int    // element index between chain[i] and chain[i+1]
 	seriesUp []bool   // true when the element's From is chain[i+1]
 	shunts   map[string][]int
 	feedback map[string][]int
+	// drive is the op-amp input the chain ends on: the + input, or the -
+	// input when the + input is grounded (an inverting section).
+	drive string
+	// divGround and divFeedback are the gain divider's elements (- input
+	// to ground, output to - input), -1 without a divider.
+	divGround, divFeedback int
 }
 
 // classify sorts the elements of t into the series chain, shunts to ground
@@ -98,7 +104,15 @@ func classify(t *synth.Topology) (*layout, error) {
 	if t.Plus() == "" {
 		return nil, fmt.Errorf("schematic: topology %s has no + input node", t.ID())
 	}
-	l := &layout{shunts: map[string][]int{}, feedback: map[string][]int{}}
+	l := &layout{shunts: map[string][]int{}, feedback: map[string][]int{}, drive: t.Plus(), divGround: -1, divFeedback: -1}
+	minus := t.Minus()
+	if minus == "" {
+		minus = "out"
+	}
+	if t.Plus() == "0" {
+		l.drive = minus
+	}
+	divider := minus != "out" && minus != l.drive
 	type edge struct {
 		i    int
 		a, b string
@@ -110,6 +124,21 @@ func classify(t *synth.Topology) (*layout, error) {
 			return nil, fmt.Errorf("schematic: %s %s has both ends on node %q", t.ID(), e.Ref, a)
 		}
 		rail := func(n string) bool { return n == "0" || n == "out" }
+		if divider && (a == minus || b == minus) {
+			other := a
+			if a == minus {
+				other = b
+			}
+			switch {
+			case other == "0" && l.divGround < 0:
+				l.divGround = i
+			case other == "out" && l.divFeedback < 0:
+				l.divFeedback = i
+			default:
+				return nil, fmt.Errorf("schematic: %s %s on the - input %q is not part of a divider from the output to ground", t.ID(), e.Ref, minus)
+			}
+			continue
+		}
 		switch {
 		case rail(a) && rail(b):
 			return nil, fmt.Errorf("schematic: %s %s joins ground and the output; the layout has no place for it", t.ID(), e.Ref)
@@ -127,7 +156,10 @@ func classify(t *synth.Topology) (*layout, error) {
 	}
 	used := make([]bool, len(series))
 	l.chain = []string{"in"}
-	for cur := "in"; cur != t.Plus(); {
+	if divider && (l.divGround < 0 || l.divFeedback < 0) {
+		return nil, fmt.Errorf("schematic: %s has an incomplete gain divider on the - input %q", t.ID(), minus)
+	}
+	for cur := "in"; cur != l.drive; {
 		next := -1
 		for k, s := range series {
 			if !used[k] && (s.a == cur || s.b == cur) {
@@ -138,7 +170,7 @@ func classify(t *synth.Topology) (*layout, error) {
 			}
 		}
 		if next < 0 {
-			return nil, fmt.Errorf("schematic: %s has no series path from %q to the + input %q", t.ID(), "in", t.Plus())
+			return nil, fmt.Errorf("schematic: %s has no series path from %q to the op-amp input %q", t.ID(), "in", l.drive)
 		}
 		used[next] = true
 		s := series[next]
@@ -155,7 +187,7 @@ func classify(t *synth.Topology) (*layout, error) {
 	for k, u := range used {
 		if !u {
 			return nil, fmt.Errorf("schematic: %s %s is not on the series chain from %q to %q",
-				t.ID(), t.Element(series[k].i).Ref, "in", t.Plus())
+				t.ID(), t.Element(series[k].i).Ref, "in", l.drive)
 		}
 	}
 	for n := range l.shunts {
@@ -259,9 +291,14 @@ func SVG(t *synth.Topology, o Options) ([]byte, error) {
 	for i, n := range l.chain {
 		nodeX[n] = left + float64(i)*pitch
 	}
-	plus := t.Plus()
-	px := nodeX[plus]
-	opX := px + opGap + float64(max(0, len(l.shunts[plus])-1))*shuntShift
+	drive := l.drive
+	px := nodeX[drive]
+	opX := px + opGap + float64(max(0, len(l.shunts[drive])-1))*shuntShift
+	if l.divGround >= 0 {
+		// Room for the divider's resistor to ground clear of the shunt
+		// labels at the + input.
+		opX += 70
+	}
 	outX := opX + outRun
 	outY := chainY + opMinusDY/2
 	railY := chainY - railRise
@@ -328,33 +365,105 @@ func SVG(t *synth.Topology, o Options) ([]byte, error) {
 			railXs = append(railXs, x0)
 		}
 	}
-	// Wire from the + input node to the op-amp.
-	plusPin := pt{opX, chainY}
-	c.wire(plus, pt{px, chainY}, plusPin)
-	conductors[plus]++
-	// Op-amp and the output net: output wire, follower loop, feedback rail.
-	minusPin := pt{opX, chainY + opMinusDY}
+	// The op-amp: the chain's end drives the upper input (the + input, or
+	// the - input of an inverting section), the other input is below it.
+	upper, lower := pt{opX, chainY}, pt{opX, chainY + opMinusDY}
+	plusPin, minusPin := upper, lower
+	inverting := t.Plus() == "0"
+	if inverting {
+		plusPin, minusPin = lower, upper
+	}
+	c.wire(drive, pt{px, chainY}, upper)
+	conductors[drive]++
 	outPin := pt{opX + opWidth, outY}
 	outNode := pt{outX, outY}
 	outTerm := pt{outX + termRun, outY}
-	c.opamp(o.ID, o.OpAmp, o.Pins, o.Bias != nil, plusPin, minusPin, outPin)
-	c.wire("out", outPin, outTerm)
-	loopX := opX - 14
-	if o.Bias == nil {
-		c.wire("out", outNode, pt{outX, chainY + loopDrop}, pt{loopX, chainY + loopDrop},
-			pt{loopX, minusPin.y}, minusPin)
-	} else {
-		// The loop's bottom run carries the resistor; its label sits to
-		// the right of the output node's drop, clear of the shunt labels.
-		from, to := pt{outX, chainY + loopDrop}, pt{loopX, chainY + loopDrop}
-		c.wire("out", outNode, from)
-		e := synth.Element{Ref: "bias", Symbol: "Rbias", Kind: synth.Resistor, From: "out", To: "minus",
-			Role: "bias-current compensation, output to - input"}
-		c.element(o.ID, e, *o.Bias, from, to, func() {
-			c.labels(*o.Bias, pt{outX + 8, chainY + loopDrop + 16}, "start")
-		})
-		c.wire("minus", to, pt{loopX, minusPin.y}, minusPin)
+	plusNet, minusNet := t.Plus(), t.Minus()
+	if minusNet == "" {
+		minusNet = "out"
 	}
+	loopX := opX - 14
+	switch {
+	case inverting:
+		// + input to ground, through the bias resistor when drawn.
+		gnd := pt{loopX, chainY + loopDrop + 20}
+		if o.Bias == nil {
+			c.wire("0", lower, pt{loopX, lower.y}, gnd)
+		} else {
+			plusNet = "plus"
+			at := pt{loopX, lower.y}
+			c.wire("plus", lower, at)
+			gnd = pt{loopX, lower.y + 70}
+			e := synth.Element{Ref: "bias", Symbol: "Rbias", Kind: synth.Resistor, From: "plus", To: "0",
+				Role: "bias-current compensation, + input to ground"}
+			c.element(o.ID, e, *o.Bias, at, gnd, func() {
+				c.labels(*o.Bias, pt{loopX - 8, lower.y + 40}, "end")
+			})
+		}
+		c.ground(gnd)
+	case l.divGround >= 0:
+		// Gain divider: Rb from the output to node n on the loop's bottom
+		// run, Ra from n to ground, n up to the - input (through the bias
+		// resistor when drawn).
+		nY := chainY + loopDrop
+		if o.Bias != nil {
+			nY += 40
+		}
+		n := pt{loopX, nY}
+		fb, gr := t.Element(l.divFeedback), t.Element(l.divGround)
+		c.wire("out", outNode, pt{outX, nY})
+		from, to := pt{outX, nY}, n
+		if fb.From != "out" {
+			from, to = to, from
+		}
+		lbF := label(l.divFeedback)
+		c.element(o.ID, fb, lbF, from, to, func() {
+			c.labels(lbF, pt{outX + 8, nY + 16}, "start")
+		})
+		g := pt{loopX, nY + 60}
+		from, to = n, g
+		if gr.From == "0" {
+			from, to = to, from
+		}
+		lbG := label(l.divGround)
+		c.element(o.ID, gr, lbG, from, to, func() {
+			c.labels(lbG, pt{loopX + 12, nY + 40}, "start")
+		})
+		c.ground(g)
+		c.junction(n)
+		if o.Bias == nil {
+			c.wire(minusNet, n, pt{loopX, lower.y}, lower)
+		} else {
+			at := pt{loopX, lower.y}
+			e := synth.Element{Ref: "bias", Symbol: "Rbias", Kind: synth.Resistor, From: minusNet, To: "minus",
+				Role: "bias-current compensation, divider to - input"}
+			c.element(o.ID, e, *o.Bias, n, at, func() {
+				c.labels(*o.Bias, pt{loopX - 8, (n.y + at.y) / 2}, "end")
+			})
+			minusNet = "minus"
+			c.wire("minus", at, lower)
+		}
+	default:
+		// Follower: the output loops back to the - input.
+		if o.Bias == nil {
+			c.wire("out", outNode, pt{outX, chainY + loopDrop}, pt{loopX, chainY + loopDrop},
+				pt{loopX, minusPin.y}, minusPin)
+		} else {
+			// The loop's bottom run carries the resistor; its label sits to
+			// the right of the output node's drop, clear of the shunt labels.
+			from, to := pt{outX, chainY + loopDrop}, pt{loopX, chainY + loopDrop}
+			c.wire("out", outNode, from)
+			e := synth.Element{Ref: "bias", Symbol: "Rbias", Kind: synth.Resistor, From: "out", To: "minus",
+				Role: "bias-current compensation, output to - input"}
+			c.element(o.ID, e, *o.Bias, from, to, func() {
+				c.labels(*o.Bias, pt{outX + 8, chainY + loopDrop + 16}, "start")
+			})
+			c.wire("minus", to, pt{loopX, minusPin.y}, minusPin)
+			minusNet = "minus"
+		}
+	}
+	c.opamp(o.ID, o.OpAmp, o.Pins, plusNet, minusNet, opampRole(t), plusPin, minusPin, outPin)
+	c.wire("out", outPin, outTerm)
 	c.junction(outNode)
 	if len(railXs) > 0 {
 		slices.Sort(railXs)
@@ -501,21 +610,32 @@ func (c *canvas) ground(p pt) {
 	c.extend(pt{p.x, p.y + 10})
 }
 
-func (c *canvas) opamp(id, ref string, pins *Pins, bias bool, plus, minus, out pt) {
-	top := pt{plus.x, plus.y - opHalfH + opMinusDY/2 - 2}
-	bottom := pt{plus.x, minus.y + opHalfH - opMinusDY/2 + 2}
-	minusNet := "out"
-	if bias {
-		minusNet = "minus"
+// opampRole describes what the op-amp does in t, for its tooltip.
+func opampRole(t *synth.Topology) string {
+	switch {
+	case t.Plus() == "0":
+		return "inverting amplifier"
+	case t.Minus() != "out" && t.Minus() != "":
+		return "non-inverting amplifier, gain set by the divider"
 	}
-	c.printf(`<g id="%s-%s" class="opamp" data-ref="%s" data-pin-plus="%s" data-pin-minus="%s" data-pin-out="%s" data-net-minus="%s">`+"\n",
-		esc(id), esc(ref), esc(ref), plus, minus, out, minusNet)
-	c.printf("<title>%s</title>\n", esc(ref+": unity-gain follower"))
+	return "unity-gain follower"
+}
+
+func (c *canvas) opamp(id, ref string, pins *Pins, plusNet, minusNet, role string, plus, minus, out pt) {
+	hi, lo := plus, minus
+	if lo.y < hi.y {
+		hi, lo = lo, hi
+	}
+	top := pt{plus.x, hi.y - opHalfH + opMinusDY/2 - 2}
+	bottom := pt{plus.x, lo.y + opHalfH - opMinusDY/2 + 2}
+	c.printf(`<g id="%s-%s" class="opamp" data-ref="%s" data-pin-plus="%s" data-pin-minus="%s" data-pin-out="%s" data-net-plus="%s" data-net-minus="%s">`+"\n",
+		esc(id), esc(ref), esc(ref), plus, minus, out, esc(plusNet), esc(minusNet))
+	c.printf("<title>%s</title>\n", esc(ref+": "+role))
 	c.printf(`<polygon class="body" points="%s %s %s" fill="white"/>`+"\n", top, out, bottom)
 	c.printf(`<text class="pin-sign" x="%s" y="%s" fill="black" stroke="none">+</text>`+"\n", num(plus.x+4), num(plus.y+4))
 	c.printf(`<text class="pin-sign" x="%s" y="%s" fill="black" stroke="none">&#8722;</text>`+"\n", num(minus.x+4), num(minus.y+4))
 	c.printf(`<text class="label" x="%s" y="%s" fill="black" stroke="none"><tspan class="ref" font-weight="bold">%s</tspan></text>`+"\n",
-		num(plus.x+14), num(top.y-4), esc(ref))
+		num(hi.x+14), num(top.y-4), esc(ref))
 	pin := func(p pt, n string, dy float64) {
 		if n != "" {
 			c.printf(`<text class="pin" x="%s" y="%s" text-anchor="end" font-size="8" fill="black" stroke="none">%s</text>`+"\n",

@@ -257,7 +257,7 @@ func connectivity(t *testing.T, name string, top *synth.Topology, opt Options) {
 					pins = append(pins, pin{parsePt(t, n.attr["data-pin"]), n.attr["data-node"], "terminal " + n.attr["data-node"]})
 				case n.hasClass("opamp"):
 					pins = append(pins,
-						pin{parsePt(t, n.attr["data-pin-plus"]), top.Plus(), "+ input"},
+						pin{parsePt(t, n.attr["data-pin-plus"]), n.attr["data-net-plus"], "+ input"},
 						pin{parsePt(t, n.attr["data-pin-minus"]), n.attr["data-net-minus"], "- input"},
 						pin{parsePt(t, n.attr["data-pin-out"]), "out", "output"})
 				case n.hasClass("wire"):

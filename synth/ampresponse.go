@@ -28,6 +28,21 @@ func (op *OpAmp) FollowerGain(w float64) complex128 {
 	return a / (1 + a)
 }
 
+// InverseGain is 1/A of the single-pole model at angular frequency w (0 for
+// a nil op, an ideal amplifier).
+func (op *OpAmp) InverseGain(w float64) complex128 {
+	if op == nil {
+		return 0
+	}
+	a0 := op.A0()
+	a := complex(a0, 0)
+	if op.GBW > 0 {
+		wa := 2 * math.Pi * op.GBW / a0
+		a = complex(a0, 0) / complex(1, w/wa)
+	}
+	return 1 / a
+}
+
 // DCFollowerGain is the follower's gain at DC, A0/(1+A0) (1 for a nil op):
 // the passband gain a unity-gain section reaches with this amplifier, and
 // the reference its attenuations are measured from.
@@ -48,9 +63,11 @@ func (op *OpAmp) DCFollowerGain() float64 {
 // Method: modified nodal analysis built from the topology's element list.
 // The unknowns are the voltages of every node except the input (driven at
 // 1 V) and ground; each node but the output gets Kirchhoff's current law,
-// and the output row is the follower's equation Vout = A(V+ - Vout), i.e.
-// Vout - A/(1+A)·V+ = 0 (the amplifier's output is an ideal source, so the
-// output node needs no current balance, and its inputs draw no current).
+// and the output row is the amplifier's equation Vout = A(V+ - V-),
+// written Vout/A - V+ + V- = 0 so that an ideal amplifier is 1/A = 0 (the
+// output is an ideal source, so the output node needs no current balance,
+// and the inputs draw no current). A follower has V- = Vout, where the row
+// is Vout - A/(1+A)·V+ = 0 scaled; a grounded + input drops its term.
 // The system (at most seven unknowns) is solved by Gaussian elimination
 // with partial pivoting. It panics if len(v) does not match the topology.
 func AmpResponse(t *Topology, v []float64, op *OpAmp, w float64) complex128 {
@@ -74,6 +91,7 @@ func AmpResponse(t *Topology, v []float64, op *OpAmp, w float64) complex128 {
 	}
 	out := index("out")
 	plus := index(t.Plus())
+	minus := index(t.Minus())
 	type stamp struct {
 		a, b     int
 		aIn, bIn bool
@@ -107,8 +125,18 @@ func AmpResponse(t *Topology, v []float64, op *OpAmp, w float64) complex128 {
 			}
 		}
 	}
-	m[out][out] = 1
-	m[out][plus] -= op.FollowerGain(w)
+	if minus == out {
+		// Follower: Vout - A/(1+A)·V+ = 0, the form the unity-gain
+		// sections have always used.
+		m[out][out] = 1
+		m[out][plus] -= op.FollowerGain(w)
+	} else {
+		m[out][out] = op.InverseGain(w)
+		if plus >= 0 {
+			m[out][plus] -= 1
+		}
+		m[out][minus] += 1
+	}
 	x := SolveComplex(&m, n)
 	return x[out]
 }

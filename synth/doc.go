@@ -69,6 +69,21 @@
 // 1 rad/s mapped to fp. A high-pass is the low-pass prototype under
 // s -> 1/s: section frequencies mirror about fp and Q is unchanged.
 //
+// # Gain and topology
+//
+// Spec.GainDB asks for a passband gain (0..40 dB). It is shared between the
+// 2-pole sections in equal parts in dB; first-order RC sections and the
+// single-amplifier 3-pole section stay unity-gain followers, so an order
+// whose sections are all of those kinds cannot take a gain. Equal shares
+// keep the largest section gain, and with it the largest noise gain and
+// the largest demand on the op-amp's gain-bandwidth, as small as the split
+// allows (common practice, no source). The 2-pole sections are Sallen-Key
+// (unity gain, or K = 1 + Rb/Ra above 0 dB) or multiple-feedback
+// (inverting; gain R2/R1 for the low-pass, C1/C2 for the high-pass), as
+// Spec.Topology asks; Design.Alternatives lists what the fit may choose
+// from under TopologyAuto. Spec.Polarity keep forbids an inverting
+// filter: an odd number of multiple-feedback sections.
+//
 // # Sections
 //
 // A complex pair p, p* becomes a 2-pole section with w0 = |p| and

@@ -122,7 +122,9 @@ func BiasResistors(c *optimize.Candidate) ([]BiasResistor, error) {
 // dcResistance injects 1 A into the + input of the resistive network left
 // when capacitors are open, with "in", "0" and "out" held at 0 V, and
 // returns the voltage there (the resistance) and the resistors that carry
-// current.
+// current. When the + input is grounded (a multiple-feedback section) it
+// measures at the - input instead: a compensating resistor from the +
+// input to ground then matches what the - input sees.
 func dcResistance(t *synth.Topology, v []float64) (float64, string, bool) {
 	var names []string
 	index := func(n string) int {
@@ -137,7 +139,14 @@ func dcResistance(t *synth.Topology, v []float64) (float64, string, bool) {
 		names = append(names, n)
 		return len(names) - 1
 	}
-	plus := index(t.Plus())
+	at := t.Plus()
+	if at == "0" {
+		at = t.Minus()
+	}
+	plus := index(at)
+	if plus < 0 {
+		return 0, "", false
+	}
 	for _, e := range t.Elements() {
 		index(e.From)
 		index(e.To)
