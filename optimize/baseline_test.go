@@ -29,14 +29,14 @@ type handStock struct {
 
 // newHandStock applies the same filters as the fit with options o: the
 // resistor and capacitor ranges, capacitors of a precision dielectric
-// (stock.IsPrecisionDielectric) and rows that cover o.Boards boards.
+// (stock.SignalPathOK) and rows that cover o.Boards boards.
 func newHandStock(items []stock.Item, o Options) *handStock {
 	hs := &handStock{qty: map[synth.PartKind]map[float64]int{synth.Resistor: {}, synth.Capacitor: {}}}
 	for _, it := range items {
 		k, lo, hi := synth.Resistor, o.RMin, o.RMax
 		if it.Kind == stock.Capacitor {
 			k, lo, hi = synth.Capacitor, o.CMin, o.CMax
-			if !stock.IsPrecisionDielectric(it.Dielectric) {
+			if !stock.SignalPathOK(it.Dielectric) {
 				continue
 			}
 		}

@@ -1,6 +1,8 @@
 package optimize
 
 import (
+	"sort"
+
 	"drawerfit/stock"
 	"drawerfit/synth"
 )
@@ -101,6 +103,10 @@ type Candidate struct {
 	StockUse      []StockUse
 	// BoardsBuildable is how many boards the stock covers for this design.
 	BoardsBuildable int
+	// Cautions are the Caution-grade dielectrics (stock.SignalGrade: PET,
+	// PEN, PC, film of unstated type) among the candidate's capacitors,
+	// sorted; empty when every capacitor is of a precision dielectric.
+	Cautions []string
 	// CostPerBoard is the parts cost of one board: every physical part
 	// (both parts of a pair) at its stock row's unit price. Unknown when a
 	// row used has no price.
@@ -148,4 +154,23 @@ func costPerBoard(use []StockUse, rows []Row) stock.Money {
 		t.Add(price[u.StockID], u.PerBoard)
 	}
 	return t.Total()
+}
+
+// cautions lists the Caution-grade dielectrics of the candidate's parts.
+func cautions(c *Candidate) []string {
+	seen := map[string]bool{}
+	var out []string
+	for _, s := range c.Sections {
+		for _, comp := range s.Components {
+			for _, p := range comp.Parts {
+				d := stock.NormalizeDielectric(p.Dielectric)
+				if comp.Kind == synth.Capacitor && stock.SignalGrade(d) == stock.Caution && !seen[d] {
+					seen[d] = true
+					out = append(out, d)
+				}
+			}
+		}
+	}
+	sort.Strings(out)
+	return out
 }

@@ -244,6 +244,7 @@ func Fit(ctx context.Context, items []stock.Item, spec synth.Spec, o Options) (*
 				worst, stock.FormatVoltage(o.MinVoltage)))
 		}
 	}
+	r.Notes = append(r.Notes, cautionNotes(r.Candidates)...)
 	markPareto(r.Candidates)
 	for i, c := range r.Candidates {
 		_ = i
@@ -398,7 +399,7 @@ func usableRows(items []stock.Item, o Options) ([]Row, string, int) {
 		if it.Kind == stock.Capacitor {
 			k = synth.Capacitor
 			lo, hi = o.CMin, o.CMax
-			if !stock.IsPrecisionDielectric(it.Dielectric) && !allowed[stock.NormalizeDielectric(it.Dielectric)] {
+			if !stock.SignalPathOK(it.Dielectric) && !allowed[stock.NormalizeDielectric(it.Dielectric)] {
 				diel++
 				continue
 			}
@@ -436,6 +437,23 @@ func usableRows(items []stock.Item, o Options) ([]Row, string, int) {
 		return rows, "", short
 	}
 	return rows, " (excluded: " + strings.Join(why, "; ") + ")", short
+}
+
+// cautionNotes explains, once per dielectric, that some listed candidates
+// use a Caution-grade capacitor (each candidate's Cautions say which), so
+// that a builder choosing between two of them sees it.
+func cautionNotes(cs []*Candidate) []string {
+	seen := map[string]bool{}
+	var out []string
+	for _, c := range cs {
+		for _, d := range c.Cautions {
+			if !seen[d] {
+				seen[d] = true
+				out = append(out, "some candidates use "+stock.CautionText(d))
+			}
+		}
+	}
+	return out
 }
 
 // VoltageOK reports whether the fit may use capacitor row it at the
@@ -570,6 +588,7 @@ func assemble(cb *combo, d *synth.Design, lists [][]sectionCand, rows []Row, res
 	}
 	sort.Slice(c.StockUse, func(a, b int) bool { return c.StockUse[a].StockID < c.StockUse[b].StockID })
 	c.CostPerBoard = costPerBoard(c.StockUse, rows)
+	c.Cautions = cautions(c)
 	return c
 }
 

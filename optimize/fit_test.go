@@ -182,7 +182,7 @@ func TestCandidatesObeyStockAndFilters(t *testing.T) {
 							if !ok || it.Value != p.Value {
 								t.Fatalf("%s uses stock row %d that does not hold %g", comp.Ref, p.StockID, p.Value)
 							}
-							if it.Kind == stock.Capacitor && !stock.IsPrecisionDielectric(it.Dielectric) &&
+							if it.Kind == stock.Capacitor && !stock.SignalPathOK(it.Dielectric) &&
 								(len(tc.allow) == 0 || stock.NormalizeDielectric(it.Dielectric) != "X7R") {
 								t.Errorf("%s uses dielectric %s", comp.Ref, it.Dielectric)
 							}

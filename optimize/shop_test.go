@@ -60,6 +60,7 @@ func byID(items []stock.Item) map[int64]stock.Item {
 }
 
 func TestMinVoltageNeverUsesAnUnderRatedPart(t *testing.T) {
+	t.Parallel()
 	items := pricedStock(false)
 	rows := byID(items)
 	for _, require := range []bool{false, true} {
@@ -117,6 +118,7 @@ func TestMinVoltageNeverUsesAnUnderRatedPart(t *testing.T) {
 // against a count made here from its components: each physical part, both
 // parts of a pair, at its row's price, times the batch.
 func TestCandidateCostIsTheSumOfItsParts(t *testing.T) {
+	t.Parallel()
 	for _, gaps := range []bool{false, true} {
 		items := pricedStock(gaps)
 		rows := byID(items)
@@ -162,6 +164,7 @@ func TestCandidateCostIsTheSumOfItsParts(t *testing.T) {
 }
 
 func TestRankCostListsCheapestFirst(t *testing.T) {
+	t.Parallel()
 	items := pricedStock(true)
 	o := DefaultOptions()
 	o.ShowFailing, o.Top = true, 10
@@ -211,5 +214,56 @@ func TestBalancedKeyBreaksTiesOnCost(t *testing.T) {
 	unknown := makeKey(RankBalanced, 0.05, 0.01, 10, 6, math.Inf(1))
 	if !dear.less(unknown) {
 		t.Error("an unknown cost must rank after a known one")
+	}
+}
+
+// TestCautionDielectricsAreMarked: polyester capacitors are used but every
+// candidate that has one says so, with one note; C0G-only candidates carry
+// no caution.
+func TestCautionDielectricsAreMarked(t *testing.T) {
+	t.Parallel()
+	items := pricedStock(false)
+	for i := range items {
+		if items[i].Kind == stock.Capacitor && i%2 == 0 {
+			items[i].Dielectric = "polyester"
+		}
+	}
+	o := DefaultOptions()
+	o.ShowFailing, o.Top = true, 15
+	r, err := Fit(context.Background(), items, shopSpec(), o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rows := byID(items)
+	marked := 0
+	for _, c := range r.Candidates {
+		pet := false
+		for _, s := range c.Sections {
+			for _, comp := range s.Components {
+				for _, p := range comp.Parts {
+					if rows[p.StockID].Dielectric == "polyester" {
+						pet = true
+					}
+				}
+			}
+		}
+		if pet != (len(c.Cautions) == 1 && c.Cautions[0] == stock.PET) {
+			t.Errorf("candidate uses PET %v, cautions %v", pet, c.Cautions)
+		}
+		if pet {
+			marked++
+		}
+	}
+	notes := 0
+	for _, n := range r.Notes {
+		if strings.Contains(n, "polyester (PET) capacitors: allowed") {
+			notes++
+		}
+	}
+	if (marked > 0) != (notes == 1) {
+		t.Errorf("%d candidates with PET, %d notes: %q", marked, notes, r.Notes)
+	}
+	if marked == 0 {
+		t.Log("no candidate chose a PET row")
 	}
 }

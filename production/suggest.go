@@ -311,7 +311,7 @@ func usableValues(items []stock.Item, o optimize.Options) (res, caps []float64, 
 			continue
 		}
 		if it.Kind == stock.Capacitor {
-			if !stock.IsPrecisionDielectric(it.Dielectric) && !allowed[stock.NormalizeDielectric(it.Dielectric)] {
+			if !stock.SignalPathOK(it.Dielectric) && !allowed[stock.NormalizeDielectric(it.Dielectric)] {
 				continue
 			}
 			if !have[synth.Capacitor][roundSig(it.Value)] {
@@ -372,7 +372,7 @@ func newPartShape(items []stock.Item, k synth.PartKind, v float64) stock.Item {
 	}
 	tols, pkgs := map[float64]int{}, map[string]int{}
 	for _, it := range items {
-		if it.Kind == kind && (kind == stock.Resistor || stock.IsPrecisionDielectric(it.Dielectric)) {
+		if it.Kind == kind && (kind == stock.Resistor || stock.SignalPathOK(it.Dielectric)) {
 			tols[it.Tolerance]++
 			pkgs[it.Package]++
 		}

@@ -49,13 +49,64 @@ var dielectricAliases = map[string]string{
 	"tantalum": Tantalum, "ta": Tantalum, "tant": Tantalum, "tantalumelectrolytic": Tantalum,
 }
 
-// precisionDielectrics are the dielectrics stable enough for a filter's
-// signal path: class 1 ceramics and films (docs/check-values.md, "Practical rules",
-// citing Op Amps for Everyone 16.8.3: C0G/NP0 preferred, high-K ceramics
-// avoided; films by common practice, no source).
-var precisionDielectrics = map[string]bool{
-	C0G: true, NP0: true, PP: true, PPS: true, PET: true, PEN: true, PS: true,
-	PTFE: true, PC: true, Mica: true, Film: true,
+// Grade says how a capacitor dielectric suits a filter's signal path.
+type Grade uint8
+
+const (
+	// Avoid: class 2 ceramics (X7R, X5R, Y5V, Z5U, ...), electrolytics,
+	// tantalum, and any dielectric not known or not stated. The fit uses
+	// them only when allowed by name.
+	Avoid Grade = iota
+	// Caution: general-purpose films (polyester PET, PEN, polycarbonate,
+	// film of unstated type). The fit uses them and says so: they are
+	// stable enough for many filters, but their dielectric absorption and
+	// their change of capacitance with temperature are larger than those
+	// of the precision dielectrics, which audio builders avoid in the
+	// signal path (common practice, no source).
+	Caution
+	// Precision: class 1 ceramics (C0G, NP0) and the low-loss films and
+	// mica: polypropylene, polystyrene, PPS, PTFE and mica.
+	Precision
+)
+
+// String names the grade: "precision", "caution" or "avoid".
+func (g Grade) String() string {
+	switch g {
+	case Precision:
+		return "precision"
+	case Caution:
+		return "caution"
+	}
+	return "avoid"
+}
+
+// grades lists the dielectrics that are not Avoid. Precision: class 1
+// ceramics are preferred and high-K ceramics avoided in active filters
+// (Op Amps for Everyone 16.8.3, as quoted in docs/check-values.md,
+// "Practical rules"); the films and mica by common practice, no source.
+var grades = map[string]Grade{
+	C0G: Precision, NP0: Precision, PP: Precision, PS: Precision, PPS: Precision, PTFE: Precision, Mica: Precision,
+	PET: Caution, PEN: Caution, PC: Caution, Film: Caution,
+}
+
+// SignalGrade returns how dielectric d (in any spelling NormalizeDielectric
+// accepts) suits a filter's signal path.
+func SignalGrade(d string) Grade { return grades[NormalizeDielectric(d)] }
+
+// SignalPathOK reports whether the fit uses a capacitor of dielectric d
+// without being told to: Precision and Caution grades.
+func SignalPathOK(d string) bool { return SignalGrade(d) != Avoid }
+
+// CautionText says, in one sentence, why a Caution-grade dielectric is
+// flagged; "" for the other grades.
+func CautionText(d string) string {
+	if SignalGrade(d) != Caution {
+		return ""
+	}
+	name := NormalizeDielectric(d)
+	what := map[string]string{PET: "polyester (PET)", PEN: "PEN film", PC: "polycarbonate", Film: "film of unstated type"}[name]
+	return what + " capacitors: allowed, but their dielectric absorption and drift with temperature exceed those of C0G, polypropylene or polystyrene, " +
+		"and audio builders keep them out of the signal path (common practice)"
 }
 
 // NormalizeDielectric returns the canonical name of a dielectric (C0G, NP0,
@@ -82,12 +133,11 @@ func NormalizeDielectric(d string) string {
 	return t
 }
 
-// IsPrecisionDielectric reports whether a capacitor of dielectric d suits a
-// filter's signal path: class 1 ceramics (C0G, NP0) and films (PP, PPS,
-// PET, PEN, PS, PTFE, PC, mica, or plain "film") do; class 2 ceramics (X7R,
-// X5R, Y5V, Z5U, ...), electrolytics, tantalum, an empty dielectric and any
-// unknown name do not. d is normalised first.
-func IsPrecisionDielectric(d string) bool { return precisionDielectrics[NormalizeDielectric(d)] }
+// IsPrecisionDielectric reports whether d is of the Precision grade: C0G,
+// NP0, polypropylene, polystyrene, PPS, PTFE or mica. Polyester and the
+// other general-purpose films are not (SignalGrade says Caution; the fit
+// still uses them, see SignalPathOK). d is normalised first.
+func IsPrecisionDielectric(d string) bool { return SignalGrade(d) == Precision }
 
 // KnownDielectric reports whether d (in any spelling NormalizeDielectric
 // accepts) is one of the dielectric names drawerfit knows.

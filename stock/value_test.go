@@ -306,42 +306,54 @@ func TestParseTolerance(t *testing.T) {
 
 func TestDielectrics(t *testing.T) {
 	t.Parallel()
+	const P, C, A = Precision, Caution, Avoid
 	cases := []struct {
-		in, norm  string
-		precision bool
+		in, norm string
+		grade    Grade
 	}{
-		// Class 1 ceramics and films suit a signal path; class 2 ceramics,
+		// Class 1 ceramics suit a signal path, class 2 ceramics,
 		// electrolytics and tantalum do not (Op Amps for Everyone 16.8.3 as
-		// quoted in docs/check-values.md, "Practical rules"; films common practice, no source).
-		{"C0G", "C0G", true},
-		{"cog", "C0G", true},
-		{"NP0", "NP0", true},
-		{"npo", "NP0", true},
-		{"pp", "PP", true},
-		{"Polypropylene", "PP", true},
-		{"PPS", "PPS", true},
-		{"polyester", "PET", true},
-		{"PEN", "PEN", true},
-		{"polystyrene", "PS", true},
-		{"silver mica", "mica", true},
-		{"film", "film", true},
-		{"x7r", "X7R", false},
-		{"X5R", "X5R", false},
-		{"Y5V", "Y5V", false},
-		{"z5u", "Z5U", false},
-		{"Electrolytic", "electrolytic", false},
-		{"aluminium electrolytic", "electrolytic", false},
-		{"tantalum", "tantalum", false},
-		{"", "", false},
-		{"  paper  oil ", "paper oil", false},
+		// quoted in docs/check-values.md, "Practical rules"). Which films
+		// count as precision (PP, PS, PPS, PTFE, mica) and which as
+		// general-purpose (PET, PEN, PC): common practice, no source.
+		{"C0G", "C0G", P},
+		{"cog", "C0G", P},
+		{"NP0", "NP0", P},
+		{"npo", "NP0", P},
+		{"pp", "PP", P},
+		{"Polypropylene", "PP", P},
+		{"PPS", "PPS", P},
+		{"polystyrene", "PS", P},
+		{"silver mica", "mica", P},
+		{"PTFE", "PTFE", P},
+		{"polyester", "PET", C},
+		{"MKT", "PET", C},
+		{"PEN", "PEN", C},
+		{"polycarbonate", "PC", C},
+		{"film", "film", C},
+		{"x7r", "X7R", A},
+		{"X5R", "X5R", A},
+		{"Y5V", "Y5V", A},
+		{"z5u", "Z5U", A},
+		{"Electrolytic", "electrolytic", A},
+		{"aluminium electrolytic", "electrolytic", A},
+		{"tantalum", "tantalum", A},
+		{"", "", A},
+		{"  paper  oil ", "paper oil", A},
 	}
 	for _, c := range cases {
 		t.Run(c.in, func(t *testing.T) {
 			if got := NormalizeDielectric(c.in); got != c.norm {
 				t.Errorf("NormalizeDielectric(%q) = %q, want %q", c.in, got, c.norm)
 			}
-			if got := IsPrecisionDielectric(c.in); got != c.precision {
-				t.Errorf("IsPrecisionDielectric(%q) = %v", c.in, got)
+			if got := SignalGrade(c.in); got != c.grade {
+				t.Errorf("SignalGrade(%q) = %v, want %v", c.in, got, c.grade)
+			}
+			if IsPrecisionDielectric(c.in) != (c.grade == Precision) || SignalPathOK(c.in) != (c.grade != Avoid) {
+				t.Errorf("%q: precision %v, signal path %v", c.in, IsPrecisionDielectric(c.in), SignalPathOK(c.in))
+			}
+			if (CautionText(c.in) != "") != (c.grade == Caution) {
+				t.Errorf("%q: caution text %q", c.in, CautionText(c.in))
 			}
 		})
 	}

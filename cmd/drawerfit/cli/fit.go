@@ -96,8 +96,12 @@ without a rating in the stock are used and the fit warns about them;
 --require-rating leaves them out too.
 
 The stock is the database (--db), or a CSV file read into memory (--stock)
-without importing it. Only C0G/NP0 and film capacitors are used unless
---allow-dielectric widens the choice. With --boards N every stock row used
+without importing it. Capacitors of a precision dielectric (C0G/NP0,
+polypropylene, polystyrene, PPS, PTFE, mica) are used; so are the
+general-purpose films (polyester PET, PEN, polycarbonate, unstated film),
+but a candidate with one is marked "PET!" (etc.; --json
+dielectric_cautions) and a note says why;
+class 2 ceramics, electrolytics and tantalum only with --allow-dielectric. With --boards N every stock row used
 must cover N boards (a row used three times needs 3·N parts).
 
 Results are small-signal designs with ideal op-amps: verify on the bench
@@ -444,6 +448,9 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 		if !c.MeetsSpec {
 			mark += " fails spec"
 		}
+		for _, d := range c.Cautions {
+			mark += " " + d + "!"
+		}
 		row := []string{strconv.Itoa(i + 1), strconv.Itoa(c.Order()), c.Arrangement(), fmtErr(c.ResponseError),
 			formatDB(c.PassAtten, 3), stopCell(c.StopAtten), strconv.Itoa(c.PartCount), strconv.Itoa(c.UniqueParts),
 			c.CostPerBoard.String(), strconv.Itoa(c.BoardsBuildable), strings.TrimSpace(mark)}
@@ -606,7 +613,7 @@ func costText(cs []*optimize.Candidate, boards int) string {
 		}
 	}
 	if known == 0 {
-		return "cost/board: the stock has no prices for these parts (stock set ID --price P)."
+		return "cost/board: no candidate has a price for every part (set them with stock set ID --price P)."
 	}
 	s := "cost/board = parts at the stock's unit prices (pairs count both parts; no currency conversion); blank when a part has no price."
 	if b, ok := cs[0].CostPerBoard.Times(boards); ok && b.Known() && boards > 1 {
@@ -691,21 +698,24 @@ type jsonStockUse struct {
 }
 
 type jsonCandidate struct {
-	ID              string         `json:"id,omitempty"`
-	Rank            int            `json:"rank"`
-	Order           int            `json:"order"`
-	Arrangement     string         `json:"arrangement"`
-	ResponseError   float64        `json:"response_error_db"`
-	MeetsSpec       bool           `json:"meets_spec"`
-	Attenuation     jsonAtten      `json:"attenuation_db"`
-	PartCount       int            `json:"part_count"`
-	UniqueParts     int            `json:"unique_parts"`
-	CostPerBoard    *string        `json:"cost_per_board"`
-	BoardsBuildable int            `json:"boards_buildable"`
-	Pareto          bool           `json:"pareto"`
-	Sections        []jsonSection  `json:"sections"`
-	StockUse        []jsonStockUse `json:"stock_use"`
-	Netlist         string         `json:"netlist"`
+	ID            string    `json:"id,omitempty"`
+	Rank          int       `json:"rank"`
+	Order         int       `json:"order"`
+	Arrangement   string    `json:"arrangement"`
+	ResponseError float64   `json:"response_error_db"`
+	MeetsSpec     bool      `json:"meets_spec"`
+	Attenuation   jsonAtten `json:"attenuation_db"`
+	PartCount     int       `json:"part_count"`
+	UniqueParts   int       `json:"unique_parts"`
+	CostPerBoard  *string   `json:"cost_per_board"`
+	// DielectricCautions are the general-purpose film dielectrics (PET,
+	// ...) among the candidate's capacitors; [] when all are precision.
+	DielectricCautions []string       `json:"dielectric_cautions"`
+	BoardsBuildable    int            `json:"boards_buildable"`
+	Pareto             bool           `json:"pareto"`
+	Sections           []jsonSection  `json:"sections"`
+	StockUse           []jsonStockUse `json:"stock_use"`
+	Netlist            string         `json:"netlist"`
 	// Amplifiers: the rows used, and the error the same parts give with
 	// ideal amplifiers (null when scored with ideal ones).
 	OpAmps          []jsonAmp `json:"opamps"`
@@ -758,7 +768,8 @@ func candidateJSON(c *optimize.Candidate, rank int) jsonCandidate {
 	jc := jsonCandidate{Rank: rank, Order: c.Order(), Arrangement: c.Arrangement(), ResponseError: c.ResponseError,
 		MeetsSpec: c.MeetsSpec, Attenuation: jsonAtten{Pass: c.PassAtten}, PartCount: c.PartCount,
 		UniqueParts: c.UniqueParts, CostPerBoard: moneyJSON(c.CostPerBoard), BoardsBuildable: c.BoardsBuildable,
-		Pareto: c.Pareto, Netlist: candidateNetlist(c), OpAmps: ampJSON(c)}
+		DielectricCautions: append([]string{}, c.Cautions...),
+		Pareto:             c.Pareto, Netlist: candidateNetlist(c), OpAmps: ampJSON(c)}
 	if c.Amp != nil {
 		e := c.IdealAmpError
 		jc.IdealOpAmpError = &e

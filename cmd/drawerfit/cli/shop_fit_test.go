@@ -13,6 +13,7 @@ import (
 // capacitor rated below it is used and that cost_per_board is the sum of
 // the parts' prices (null exactly when one has none).
 func TestFitMinVoltageAndCostJSON(t *testing.T) {
+	t.Parallel()
 	s := newStockEnv(t)
 	s.ok("stock", "import", sampleCSV)
 	items := s.listJSON()
