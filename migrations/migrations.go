@@ -1,11 +1,14 @@
 // Package migrations holds drawerfit's database schema as numbered SQL
-// files, embedded into the binary. It is its own package because go:embed
-// cannot reach files outside the package directory.
+// files, embedded into the binary: one set per SQL dialect, sqlite/ and
+// postgres/, with the same numbers and file names, each leaving the same
+// tables and constraints at each number. It is its own package because
+// go:embed cannot reach files outside the package directory.
 //
 // Each file is named NNNN_words.sql, numbered from 0001 without gaps, and
 // is applied once, in order, inside a transaction by package drawerfit/store,
-// which records it in the schema_version table. A shipped file is never
-// edited; a schema change is a new file with the next number.
+// which records it (by number and file name) in the schema_version table.
+// A shipped file is never edited; a schema change is a new file with the
+// next number in both sets.
 package migrations
 
 import (
@@ -17,7 +20,7 @@ import (
 	"strings"
 )
 
-//go:embed *.sql
+//go:embed sqlite/*.sql postgres/*.sql
 var files embed.FS
 
 // Migration is one schema step.
@@ -30,14 +33,29 @@ type Migration struct {
 	SQL string
 }
 
-var all = mustLoad(files)
+var (
+	all      = mustLoad(mustSub(files, "sqlite"))
+	postgres = mustLoad(mustSub(files, "postgres"))
+)
 
-// All returns every migration in version order, 1 to Latest(). The slice is
-// a copy.
+// All returns every SQLite migration in version order, 1 to Latest(). The
+// slice is a copy.
 func All() []Migration { return append([]Migration(nil), all...) }
+
+// Postgres returns every PostgreSQL migration in version order, 1 to
+// Latest(): the same numbers and file names as All. The slice is a copy.
+func Postgres() []Migration { return append([]Migration(nil), postgres...) }
 
 // Latest returns the schema version this binary knows: the highest number.
 func Latest() int { return len(all) }
+
+func mustSub(fsys fs.FS, dir string) fs.FS {
+	sub, err := fs.Sub(fsys, dir)
+	if err != nil {
+		panic("migrations: " + err.Error())
+	}
+	return sub
+}
 
 // mustLoad reads and checks the embedded files; a misnamed or misnumbered
 // file is a build mistake, so it panics (the package test catches it).

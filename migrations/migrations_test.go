@@ -22,6 +22,22 @@ func TestEmbeddedSetIsNumberedWithoutGaps(t *testing.T) {
 	}
 }
 
+// TestDialectsMatch: the PostgreSQL set has the same numbers and file
+// names as the SQLite set, so that the runner recognises a database of
+// either by the names it recorded.
+func TestDialectsMatch(t *testing.T) {
+	t.Parallel()
+	s, p := All(), Postgres()
+	if len(s) != len(p) {
+		t.Fatalf("%d SQLite migrations, %d PostgreSQL", len(s), len(p))
+	}
+	for i := range s {
+		if s[i].Name != p[i].Name || s[i].Version != p[i].Version {
+			t.Errorf("migration %d: %s (SQLite) and %s (PostgreSQL)", i+1, s[i].Name, p[i].Name)
+		}
+	}
+}
+
 func TestLoadRejectsBadSets(t *testing.T) {
 	t.Parallel()
 	sql := &fstest.MapFile{Data: []byte("CREATE TABLE t (x);")}

@@ -35,19 +35,15 @@ func (db *DB) Draw(ctx context.Context, req production.DrawRequest) (*production
 		if n == 0 {
 			return fault.NotFoundf("no saved design %q (list them with `drawerfit designs`)", id)
 		}
-		res, err := tx.ExecContext(ctx, `INSERT INTO build (design_id, boards, built_at) VALUES (?, ?, ?)`,
-			id, req.Boards, formatTime(tx.at))
-		if err != nil {
-			return fmt.Errorf("record build: %w", err)
-		}
-		buildID, err := res.LastInsertId()
-		if err != nil {
+		var buildID int64
+		if err := tx.QueryRowContext(ctx, `INSERT INTO build (design_id, boards, built_at) VALUES (?, ?, ?) RETURNING id`,
+			id, req.Boards, formatTime(tx.at)).Scan(&buildID); err != nil {
 			return fmt.Errorf("record build: %w", err)
 		}
 		if req.Check != nil {
 			rows := map[int64]stock.Item{}
 			for _, d := range req.Deltas {
-				it, err := get(ctx, tx.Tx, d.StockID)
+				it, err := get(ctx, tx, d.StockID)
 				if fault.KindOf(err) == fault.NotFound {
 					continue
 				}
@@ -63,7 +59,8 @@ func (db *DB) Draw(ctx context.Context, req production.DrawRequest) (*production
 		if err := tx.adjustLinked(ctx, buildID, req.Deltas, production.BuildReason(buildID, id, req.Boards), false); err != nil {
 			return err
 		}
-		b, err = build(ctx, tx.Tx, buildID)
+		var err error
+		b, err = build(ctx, tx, buildID)
 		return err
 	})
 	if err != nil {
@@ -73,13 +70,11 @@ func (db *DB) Draw(ctx context.Context, req production.DrawRequest) (*production
 }
 
 // adjustLinked applies deltas with reason and links the ledger entries it
-// writes to the build. The transaction holds the write lock, so the
-// entries after the highest id read before are this transaction's own.
+// writes to the build: exactly the ids its own INSERTs returned (a MAX(id)
+// read before would also catch another writer's entries wherever writers
+// do not take turns).
 func (tx *Tx) adjustLinked(ctx context.Context, buildID int64, deltas []stock.Delta, reason string, undo bool) error {
-	var before int64
-	if err := tx.QueryRowContext(ctx, `SELECT COALESCE(MAX(id), 0) FROM movement`).Scan(&before); err != nil {
-		return fmt.Errorf("read ledger: %w", err)
-	}
+	first := len(tx.moves)
 	if err := tx.Adjust(ctx, deltas, reason); err != nil {
 		return err
 	}
@@ -87,9 +82,11 @@ func (tx *Tx) adjustLinked(ctx context.Context, buildID int64, deltas []stock.De
 	if undo {
 		u = 1
 	}
-	if _, err := tx.ExecContext(ctx, `INSERT INTO build_movement (build_id, movement_id, undo)
-		SELECT ?, id, ? FROM movement WHERE id > ? ORDER BY id`, buildID, u, before); err != nil {
-		return fmt.Errorf("link build %d to the ledger: %w", buildID, err)
+	for _, mid := range tx.moves[first:] {
+		if _, err := tx.ExecContext(ctx, `INSERT INTO build_movement (build_id, movement_id, undo) VALUES (?, ?, ?)`,
+			buildID, mid, u); err != nil {
+			return fmt.Errorf("link build %d to the ledger: %w", buildID, err)
+		}
 	}
 	return nil
 }
@@ -189,7 +186,7 @@ func build(ctx context.Context, q querier, id int64) (*production.Build, error) 
 func (db *DB) UndoBuild(ctx context.Context, id int64) (*production.Build, error) {
 	var b *production.Build
 	err := db.Tx(ctx, func(tx *Tx) error {
-		cur, err := build(ctx, tx.Tx, id)
+		cur, err := build(ctx, tx, id)
 		if err != nil {
 			return err
 		}
@@ -202,10 +199,10 @@ func (db *DB) UndoBuild(ctx context.Context, id int64) (*production.Build, error
 				continue
 			}
 			target := m.StockID
-			if _, err := get(ctx, tx.Tx, m.StockID); fault.KindOf(err) == fault.NotFound {
+			if _, err := get(ctx, tx, m.StockID); fault.KindOf(err) == fault.NotFound {
 				// The row was removed; a live row of the same identity
 				// (the part added back) takes the parts instead.
-				same, ok, err := findIdentity(ctx, tx.Tx, m.Part)
+				same, ok, err := findIdentity(ctx, tx, m.Part)
 				if err != nil {
 					return err
 				}
@@ -227,7 +224,7 @@ func (db *DB) UndoBuild(ctx context.Context, id int64) (*production.Build, error
 		if _, err := tx.ExecContext(ctx, `UPDATE build SET undone_at = ? WHERE id = ?`, formatTime(tx.at), id); err != nil {
 			return fmt.Errorf("mark build %d undone: %w", id, err)
 		}
-		b, err = build(ctx, tx.Tx, id)
+		b, err = build(ctx, tx, id)
 		return err
 	})
 	if err != nil {

@@ -37,8 +37,8 @@ const BusyTimeout = 10 * time.Second
 
 // DB is an open stock database. Its methods are safe for concurrent use.
 type DB struct {
-	sql      *sql.DB
-	path     string
+	sql      *pool
+	path     string // the file's absolute path, or the server URL without its password
 	created  bool
 	readOnly bool
 
@@ -83,7 +83,7 @@ func OpenMemory() (*DB, error) {
 	sdb.SetMaxIdleConns(1)
 	sdb.SetConnMaxLifetime(0)
 	sdb.SetConnMaxIdleTime(0)
-	db := &DB{sql: sdb, path: ":memory:"}
+	db := &DB{sql: &pool{DB: sdb}, path: ":memory:"}
 	if err := db.init(context.Background()); err != nil {
 		sdb.Close()
 		return nil, err
@@ -95,7 +95,7 @@ func (db *DB) init(ctx context.Context) error {
 	if err := db.sql.PingContext(ctx); err != nil {
 		return fmt.Errorf("open stock database %s: %w", db.path, err)
 	}
-	return migrate(ctx, db.sql, db.path, migrations.All())
+	return migrate(ctx, db.sql.DB, db.path, migrations.All())
 }
 
 // Created reports whether Open made a new database (the file did not
@@ -114,7 +114,7 @@ func (db *DB) Path() string { return db.path }
 
 // SQL returns the underlying pool for read-only queries by packages that
 // keep their own tables in the same file. Write through DB.Tx.
-func (db *DB) SQL() *sql.DB { return db.sql }
+func (db *DB) SQL() *sql.DB { return db.sql.DB }
 
 // SchemaVersion returns the schema version recorded in the file.
 func (db *DB) SchemaVersion(ctx context.Context) (int, error) {
@@ -139,6 +139,10 @@ func (db *DB) now() time.Time {
 type Tx struct {
 	*sql.Tx
 	at time.Time
+	pg bool
+	// moves collects the ids of the ledger entries the transaction writes
+	// (from INSERT ... RETURNING), so that a build links exactly its own.
+	moves []int64
 }
 
 // Now returns the transaction's time: DB.Now read once when it began, so
@@ -158,13 +162,25 @@ func (db *DB) Tx(ctx context.Context, fn func(tx *Tx) error) (err error) {
 	if err != nil {
 		return Plain(fmt.Errorf("begin transaction: %w", err), db.path)
 	}
+	if db.sql.pg {
+		// One lock for every writing transaction: writers on the server
+		// take turns, as SQLite's BEGIN IMMEDIATE makes them, so a
+		// transaction that reads a quantity and writes it back can never
+		// lose another bench's update, and at READ COMMITTED each
+		// statement after the lock sees every commit before it. Writes
+		// are short, so the queue is too; reads take no lock at all.
+		if err := lockWriters(ctx, stx); err != nil {
+			stx.Rollback()
+			return Plain(err, db.path)
+		}
+	}
 	done := false
 	defer func() {
 		if !done {
 			_ = stx.Rollback()
 		}
 	}()
-	if err := fn(&Tx{Tx: stx, at: db.now()}); err != nil {
+	if err := fn(&Tx{Tx: stx, at: db.now(), pg: db.sql.pg}); err != nil {
 		return Plain(err, db.path)
 	}
 	done = true

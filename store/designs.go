@@ -144,10 +144,15 @@ func design(ctx context.Context, q querier, id string) (*production.Design, erro
 
 // Designs lists the saved designs that are not removed, newest first.
 func (db *DB) Designs(ctx context.Context) ([]production.DesignInfo, error) {
+	// Saving order breaks ties: SQLite's rowid, PostgreSQL's seq column.
+	order := "d.rowid"
+	if db.sql.pg {
+		order = "d.seq"
+	}
 	rows, err := db.sql.QueryContext(ctx, `SELECT d.id, d.name, d.summary, d.filters, d.boards, d.worst_error,
 		d.part_count, d.unique_parts, d.meets_spec, d.created_at,
 		(SELECT COUNT(*) FROM build b WHERE b.design_id = d.id AND b.undone_at IS NULL)
-		FROM design d WHERE d.removed_at IS NULL ORDER BY d.created_at DESC, d.rowid`)
+		FROM design d WHERE d.removed_at IS NULL ORDER BY d.created_at DESC, `+order)
 	if err != nil {
 		return nil, fmt.Errorf("list designs: %w", err)
 	}

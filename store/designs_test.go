@@ -93,10 +93,12 @@ func quantities(t *testing.T, db *DB) map[int64]int {
 	return q
 }
 
-func TestDesignRoundTrip(t *testing.T) {
+func TestDesignRoundTrip(t *testing.T) { eachDialect(t, testDesignRoundTrip) }
+
+func testDesignRoundTrip(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	d := fixtureDesign(t, db, 40)
 	if err := db.SaveDesigns(ctx, []*production.Design{d}); err != nil {
 		t.Fatal(err)
@@ -144,9 +146,11 @@ func TestDesignRoundTrip(t *testing.T) {
 	}
 }
 
-func TestDesignIDCollisionsAreRetried(t *testing.T) {
+func TestDesignIDCollisionsAreRetried(t *testing.T) { eachDialect(t, testDesignIDCollisionsAreRetried) }
+
+func testDesignIDCollisionsAreRetried(t *testing.T, open opener) {
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	old := newDesignID
 	t.Cleanup(func() { newDesignID = old })
 	// The generator repeats itself: the second design must skip the taken id.
@@ -176,9 +180,13 @@ func TestDesignIDCollisionsAreRetried(t *testing.T) {
 }
 
 func TestSaveRefusesRowsOfAnotherStock(t *testing.T) {
+	eachDialect(t, testSaveRefusesRowsOfAnotherStock)
+}
+
+func testSaveRefusesRowsOfAnotherStock(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	d := fixtureDesign(t, db, 10)
 	d.Filters[0].Candidate.Sections[0].Components[0].Parts[0].StockID = 999
 	d.Filters[0].Candidate.StockUse = append(d.Filters[0].Candidate.StockUse, optimize.StockUse{StockID: 999, PerBoard: 1})
@@ -192,9 +200,13 @@ func TestSaveRefusesRowsOfAnotherStock(t *testing.T) {
 }
 
 func TestBuildAndUndoRestoreQuantitiesExactly(t *testing.T) {
+	eachDialect(t, testBuildAndUndoRestoreQuantitiesExactly)
+}
+
+func testBuildAndUndoRestoreQuantitiesExactly(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	d := fixtureDesign(t, db, 40)
 	if err := db.SaveDesigns(ctx, []*production.Design{d}); err != nil {
 		t.Fatal(err)
@@ -255,10 +267,12 @@ func TestBuildAndUndoRestoreQuantitiesExactly(t *testing.T) {
 	}
 }
 
-func TestRefusedBuildDrawsNothing(t *testing.T) {
+func TestRefusedBuildDrawsNothing(t *testing.T) { eachDialect(t, testRefusedBuildDrawsNothing) }
+
+func testRefusedBuildDrawsNothing(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	d := fixtureDesign(t, db, 20)
 	if err := db.SaveDesigns(ctx, []*production.Design{d}); err != nil {
 		t.Fatal(err)
@@ -300,10 +314,12 @@ func TestRefusedBuildDrawsNothing(t *testing.T) {
 	}
 }
 
-func TestBuildRefusesMissingRow(t *testing.T) {
+func TestBuildRefusesMissingRow(t *testing.T) { eachDialect(t, testBuildRefusesMissingRow) }
+
+func testBuildRefusesMissingRow(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	d := fixtureDesign(t, db, 20)
 	if err := db.SaveDesigns(ctx, []*production.Design{d}); err != nil {
 		t.Fatal(err)
@@ -338,10 +354,12 @@ func TestBuildRefusesMissingRow(t *testing.T) {
 	}
 }
 
-func TestUndoRefusedWhenRowRemoved(t *testing.T) {
+func TestUndoRefusedWhenRowRemoved(t *testing.T) { eachDialect(t, testUndoRefusedWhenRowRemoved) }
+
+func testUndoRefusedWhenRowRemoved(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	d := fixtureDesign(t, db, 20)
 	db.SaveDesigns(ctx, []*production.Design{d})
 	batch, _ := production.NewBatch(d, 1)
@@ -394,10 +412,12 @@ func TestSeedDesignSurvivesMigration(t *testing.T) {
 // TestUndoOntoTheRowAddedBack: after a used row is removed and the same part
 // is added again (a new row of the same identity), undo returns the parts
 // to that row.
-func TestUndoOntoTheRowAddedBack(t *testing.T) {
+func TestUndoOntoTheRowAddedBack(t *testing.T) { eachDialect(t, testUndoOntoTheRowAddedBack) }
+
+func testUndoOntoTheRowAddedBack(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	d := fixtureDesign(t, db, 20)
 	if err := db.SaveDesigns(ctx, []*production.Design{d}); err != nil {
 		t.Fatal(err)

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"regexp"
 
+	"github.com/jackc/pgx/v5/pgconn"
 	"modernc.org/sqlite"
 
 	"drawerfit/fault"
@@ -46,6 +47,9 @@ var rawCode = regexp.MustCompile(`\s*\(\d+\)(\s*\(SQLITE_[A-Z_]+\))?`)
 // foreign file, each naming the database at path, and never SQLite's
 // numeric codes. Any other error is returned unchanged.
 func Plain(err error, path string) error {
+	if pe := pgError(err); pe != nil {
+		return plainPostgres(err, pe, path)
+	}
 	c := sqliteCode(err)
 	if c == 0 {
 		return err
@@ -71,4 +75,34 @@ func Plain(err error, path string) error {
 		return fault.Conflictf("reading or writing the stock database at %s failed with an input/output error from the disk", path)
 	}
 	return fmt.Errorf("%s", rawCode.ReplaceAllString(err.Error(), ""))
+}
+
+// pgError returns the server error in err's chain, if any.
+func pgError(err error) *pgconn.PgError {
+	var pe *pgconn.PgError
+	if errors.As(err, &pe) {
+		return pe
+	}
+	return nil
+}
+
+// plainPostgres words the server's errors that a user meets: a writer
+// that holds the lock too long, a read-only session or server, a full
+// disk; others keep the server's message without its SQLSTATE code.
+func plainPostgres(err error, pe *pgconn.PgError, name string) error {
+	var f *fault.Error
+	if errors.As(err, &f) {
+		return err
+	}
+	switch pe.Code {
+	case "55P03": // lock_not_available: lock_timeout passed
+		return fault.Conflictf("the stock database at %s is busy: another bench has held its write lock for more than %s; this command changed nothing, try it again when that one has finished", name, BusyTimeout)
+	case "25006": // read_only_sql_transaction
+		return fault.Conflictf("the stock database at %s is read-only for this session: this command changes the stock", name)
+	case "53100": // disk_full
+		return fault.Conflictf("the disk of the server holding %s is full; this command changed nothing", name)
+	case "42501": // insufficient_privilege
+		return fault.Conflictf("the server refuses this user a change to the stock database at %s: %s", name, pe.Message)
+	}
+	return fmt.Errorf("stock database %s: %s", name, pe.Message)
 }

@@ -58,6 +58,9 @@ func OpenMode(ctx context.Context, path string, mode Mode) (*DB, error) {
 	if path == "" {
 		return nil, fault.Invalidf("no database path given")
 	}
+	if IsServerURL(path) {
+		return openPostgres(ctx, path, mode)
+	}
 	abs, err := filepath.Abs(path)
 	if err != nil {
 		return nil, fmt.Errorf("open stock database %s: %w", path, err)
@@ -117,7 +120,7 @@ func OpenMode(ctx context.Context, path string, mode Mode) (*DB, error) {
 	if err != nil {
 		return nil, fmt.Errorf("open stock database %s: %w", abs, err)
 	}
-	db := &DB{sql: sdb, path: abs, created: state != stateDrawerfit}
+	db := &DB{sql: &pool{DB: sdb}, path: abs, created: state != stateDrawerfit}
 	// A current file needs no migration step, so opening it takes no
 	// write lock.
 	if err := db.prepareWritable(ctx, state != stateDrawerfit || version < known); err != nil {
@@ -161,7 +164,7 @@ func (db *DB) prepareOnce(ctx context.Context, needMigrate bool) error {
 	if !needMigrate {
 		return nil
 	}
-	return migrate(ctx, db.sql, db.path, migrations.All())
+	return migrate(ctx, db.sql.DB, db.path, migrations.All())
 }
 
 // openReadOnly opens a checked, current database for reading. A database
@@ -174,7 +177,7 @@ func openReadOnly(ctx context.Context, abs string) (*DB, error) {
 	if err != nil {
 		return nil, Plain(err, abs)
 	}
-	return &DB{sql: sdb, path: abs, readOnly: true}, nil
+	return &DB{sql: &pool{DB: sdb}, path: abs, readOnly: true}, nil
 }
 
 // openRO opens a read-only pool on abs and checks that it can read.
@@ -274,15 +277,27 @@ type querierCtx interface {
 // name of this binary's migration file of that number. Another program's
 // schema_version table does not pass.
 func fingerprint(ctx context.Context, q querierCtx, abs string) (fileState, int, error) {
+	return fingerprintOf(ctx, q, abs, false)
+}
+
+func fingerprintOf(ctx context.Context, q querierCtx, abs string, pg bool) (fileState, int, error) {
 	var tables, hasSchema int
-	if err := q.QueryRowContext(ctx, `SELECT COUNT(*), COALESCE(SUM(name = 'schema_version'), 0) FROM sqlite_schema
-		WHERE type = 'table' AND name NOT LIKE 'sqlite_%'`).Scan(&tables, &hasSchema); err != nil {
+	tablesQuery := `SELECT COUNT(*), COALESCE(SUM(name = 'schema_version'), 0) FROM sqlite_schema
+		WHERE type = 'table' AND name NOT LIKE 'sqlite_%'`
+	if pg {
+		tablesQuery = `SELECT COUNT(*), COUNT(*) FILTER (WHERE table_name = 'schema_version') FROM information_schema.tables
+		WHERE table_schema = current_schema()`
+	}
+	if err := q.QueryRowContext(ctx, tablesQuery).Scan(&tables, &hasSchema); err != nil {
 		return 0, 0, fmt.Errorf("read the schema of %s: %w", abs, err)
 	}
 	if tables == 0 {
 		return stateNew, 0, nil
 	}
 	foreign := fault.Conflictf("%s is a SQLite database but not a drawerfit stock database; give another --db file (this one was left unchanged)", abs)
+	if pg {
+		foreign = fault.Conflictf("the PostgreSQL database %s holds tables that are not a drawerfit stock; give an empty database or one drawerfit made (nothing was changed)", abs)
+	}
 	if hasSchema == 0 {
 		return 0, 0, foreign
 	}
@@ -292,6 +307,9 @@ func fingerprint(ctx context.Context, q querierCtx, abs string) (fileState, int,
 	}
 	defer rows.Close()
 	ms := migrations.All()
+	if pg {
+		ms = migrations.Postgres()
+	}
 	version := 0
 	for rows.Next() {
 		var v int

@@ -14,7 +14,9 @@ import (
 // TestShopAttributesRoundTrip stores rows with every shop attribute, exports
 // them as CSV, imports the file into a fresh database and checks that every
 // column comes back identical.
-func TestShopAttributesRoundTrip(t *testing.T) {
+func TestShopAttributesRoundTrip(t *testing.T) { eachDialect(t, testShopAttributesRoundTrip) }
+
+func testShopAttributesRoundTrip(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
 	in := "kind,value,quantity,tolerance,dielectric,location,voltage,price,min,pack,supplier-ref\n" +
@@ -26,7 +28,7 @@ func TestShopAttributesRoundTrip(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	a := openTest(t)
+	a := open(t)
 	if _, err := a.Import(ctx, items, false); err != nil {
 		t.Fatal(err)
 	}
@@ -42,7 +44,7 @@ func TestShopAttributesRoundTrip(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	b := openTest(t)
+	b := open(t)
 	if _, err := b.Import(ctx, back, false); err != nil {
 		t.Fatal(err)
 	}
@@ -67,10 +69,12 @@ func TestShopAttributesRoundTrip(t *testing.T) {
 	}
 }
 
-func TestSetAttrsWritesLedgerNotes(t *testing.T) {
+func TestSetAttrsWritesLedgerNotes(t *testing.T) { eachDialect(t, testSetAttrsWritesLedgerNotes) }
+
+func testSetAttrsWritesLedgerNotes(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	r, _, err := db.Add(ctx, res(t, "10k", 30, "A2"), "")
 	if err != nil {
 		t.Fatal(err)
@@ -103,9 +107,13 @@ func TestSetAttrsWritesLedgerNotes(t *testing.T) {
 }
 
 func TestMergeFillsAttributesAndRefusesOtherRatings(t *testing.T) {
+	eachDialect(t, testMergeFillsAttributesAndRefusesOtherRatings)
+}
+
+func testMergeFillsAttributesAndRefusesOtherRatings(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	c := capa(t, "10n", 10, "C0G", "C1")
 	c.Voltage = 50
 	row, _, err := db.Add(ctx, c, "")

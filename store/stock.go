@@ -55,6 +55,7 @@ func scanItem(s scanner, before ...any) (stock.Item, error) {
 type querier interface {
 	QueryContext(ctx context.Context, q string, args ...any) (*sql.Rows, error)
 	QueryRowContext(ctx context.Context, q string, args ...any) *sql.Row
+	isPG() bool
 }
 
 // List returns the rows in the inventory that f selects: resistors, then
@@ -71,9 +72,10 @@ func list(ctx context.Context, q querier, f stock.Filter) ([]stock.Item, error) 
 		query += ` AND kind = ?`
 		args = append(args, f.Kind.String())
 	}
-	query += ` ORDER BY CASE kind WHEN 'resistor' THEN 0 WHEN 'capacitor' THEN 1 ELSE 2 END, value,
-		label COLLATE NOCASE, tolerance,
-		package COLLATE NOCASE, dielectric COLLATE NOCASE, location COLLATE NOCASE, id`
+	pg := q.isPG()
+	query += ` ORDER BY CASE kind WHEN 'resistor' THEN 0 WHEN 'capacitor' THEN 1 ELSE 2 END, value, ` +
+		nocaseOrder(pg, "label") + `, tolerance, ` + nocaseOrder(pg, "package") + `, ` +
+		nocaseOrder(pg, "dielectric") + `, ` + nocaseOrder(pg, "location") + `, id`
 	rows, err := q.QueryContext(ctx, query, args...)
 	if err != nil {
 		return nil, fmt.Errorf("list stock: %w", err)
@@ -98,7 +100,7 @@ func list(ctx context.Context, q querier, f stock.Filter) ([]stock.Item, error) 
 func (db *DB) Get(ctx context.Context, id int64) (stock.Item, error) { return get(ctx, db.sql, id) }
 
 // Get is DB.Get inside the transaction.
-func (tx *Tx) Get(ctx context.Context, id int64) (stock.Item, error) { return get(ctx, tx.Tx, id) }
+func (tx *Tx) Get(ctx context.Context, id int64) (stock.Item, error) { return get(ctx, tx, id) }
 
 func get(ctx context.Context, q querier, id int64) (stock.Item, error) {
 	it, err := scanItem(q.QueryRowContext(ctx,
@@ -114,9 +116,10 @@ func get(ctx context.Context, q querier, id int64) (stock.Item, error) {
 
 // findIdentity returns the row in the inventory with it's identity, if any.
 func findIdentity(ctx context.Context, q querier, it stock.Item) (stock.Item, bool, error) {
+	pg := q.isPG()
 	got, err := scanItem(q.QueryRowContext(ctx, `SELECT `+itemColumns+` FROM stock
-		WHERE removed_at IS NULL AND kind = ? AND value = ? AND label = ? COLLATE NOCASE AND tolerance = ?
-		  AND package = ? COLLATE NOCASE AND dielectric = ? COLLATE NOCASE AND location = ? COLLATE NOCASE`,
+		WHERE removed_at IS NULL AND kind = ? AND value = ? AND `+nocaseEq(pg, "label")+` AND tolerance = ?
+		  AND `+nocaseEq(pg, "package")+` AND `+nocaseEq(pg, "dielectric")+` AND `+nocaseEq(pg, "location"),
 		it.Kind.String(), it.Value, it.Name, it.Tolerance, it.Package, it.Dielectric, it.Location))
 	if isNoRows(err) {
 		return stock.Item{}, false, nil
@@ -164,18 +167,15 @@ func cleanReason(reason, def string) (string, error) {
 // insert writes a new row and its first ledger entry.
 func (tx *Tx) insert(ctx context.Context, it stock.Item, reason string) (stock.Item, error) {
 	at := formatTime(tx.at)
-	res, err := tx.ExecContext(ctx, `INSERT INTO stock
+	err := tx.QueryRowContext(ctx, `INSERT INTO stock
 		(kind, value, tolerance, quantity, package, dielectric, location, note,
 		 voltage, price_micros, min_stock, pack, supplier_ref, created_at, updated_at,
 		 label, channels, gbw, dc_gain, slew, supply)
-		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+		VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) RETURNING id`,
 		it.Kind.String(), it.Value, it.Tolerance, it.Quantity, it.Package, it.Dielectric, it.Location, it.Note,
 		it.Voltage, priceArg(it.Price), it.Min, it.Pack, it.SupplierRef, at, at,
-		it.Name, it.Channels, it.GBW, it.DCGain, it.Slew, it.Supply)
+		it.Name, it.Channels, it.GBW, it.DCGain, it.Slew, it.Supply).Scan(&it.ID)
 	if err != nil {
-		return it, fmt.Errorf("add %s: %w", it.Label(), err)
-	}
-	if it.ID, err = res.LastInsertId(); err != nil {
 		return it, fmt.Errorf("add %s: %w", it.Label(), err)
 	}
 	// The first entry records the row's creation even when it holds none.
@@ -231,7 +231,7 @@ func (tx *Tx) SetAttrs(ctx context.Context, id int64, a stock.Attrs, reason stri
 	if err != nil {
 		return stock.Item{}, err
 	}
-	old, err := get(ctx, tx.Tx, id)
+	old, err := get(ctx, tx, id)
 	if err != nil {
 		return old, err
 	}
@@ -244,10 +244,12 @@ func (tx *Tx) SetAttrs(ctx context.Context, id int64, a stock.Attrs, reason stri
 
 // record appends a ledger entry.
 func (tx *Tx) record(ctx context.Context, id int64, delta, balance int, reason string) error {
-	if _, err := tx.ExecContext(ctx, `INSERT INTO movement (stock_id, delta, balance, reason, at) VALUES (?, ?, ?, ?, ?)`,
-		id, delta, balance, reason, formatTime(tx.at)); err != nil {
+	var mid int64
+	if err := tx.QueryRowContext(ctx, `INSERT INTO movement (stock_id, delta, balance, reason, at) VALUES (?, ?, ?, ?, ?) RETURNING id`,
+		id, delta, balance, reason, formatTime(tx.at)).Scan(&mid); err != nil {
 		return fmt.Errorf("write ledger for row %d: %w", id, err)
 	}
+	tx.moves = append(tx.moves, mid)
 	return nil
 }
 
@@ -291,7 +293,7 @@ func (tx *Tx) Add(ctx context.Context, item stock.Item, reason string) (stock.It
 	if reason, err = cleanReason(reason, "added"); err != nil {
 		return it, false, err
 	}
-	old, found, err := findIdentity(ctx, tx.Tx, it)
+	old, found, err := findIdentity(ctx, tx, it)
 	if err != nil {
 		return it, false, err
 	}
@@ -342,7 +344,7 @@ func (tx *Tx) SetQuantity(ctx context.Context, id int64, qty int, reason string)
 	if err != nil {
 		return stock.Item{}, err
 	}
-	it, err := get(ctx, tx.Tx, id)
+	it, err := get(ctx, tx, id)
 	if err != nil {
 		return it, err
 	}
@@ -363,7 +365,7 @@ func (tx *Tx) Remove(ctx context.Context, id int64, reason string) error {
 	if err != nil {
 		return err
 	}
-	it, err := get(ctx, tx.Tx, id)
+	it, err := get(ctx, tx, id)
 	if err != nil {
 		return err
 	}
@@ -416,7 +418,7 @@ func (tx *Tx) Adjust(ctx context.Context, deltas []stock.Delta, reason string) e
 	var short []stock.ShortRow
 	var labels []string
 	for _, id := range order {
-		it, err := get(ctx, tx.Tx, id)
+		it, err := get(ctx, tx, id)
 		if err != nil {
 			return err
 		}
@@ -504,7 +506,7 @@ func (tx *Tx) Import(ctx context.Context, items []stock.Item, replace bool) (sto
 	}
 
 	if replace {
-		current, err := list(ctx, tx.Tx, stock.Filter{})
+		current, err := list(ctx, tx, stock.Filter{})
 		if err != nil {
 			return sum, err
 		}
@@ -550,7 +552,7 @@ func (tx *Tx) Import(ctx context.Context, items []stock.Item, replace bool) (sto
 		if !ok {
 			continue // kept by replace
 		}
-		old, found, err := findIdentity(ctx, tx.Tx, it)
+		old, found, err := findIdentity(ctx, tx, it)
 		if err != nil {
 			return sum, err
 		}

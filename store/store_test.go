@@ -52,10 +52,12 @@ func capa(t *testing.T, v string, qty int, diel, loc string) stock.Item {
 	return stock.Item{Kind: stock.Capacitor, Value: mustParse(t, v, stock.Capacitor), Tolerance: 0.05, Quantity: qty, Package: "0805", Dielectric: diel, Location: loc}
 }
 
-func TestAddMergesSameIdentity(t *testing.T) {
+func TestAddMergesSameIdentity(t *testing.T) { eachDialect(t, testAddMergesSameIdentity) }
+
+func testAddMergesSameIdentity(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	a, merged, err := db.Add(ctx, res(t, "4k7", 50, "A1"), "bought a strip")
 	if err != nil || merged || a.ID == 0 || a.Quantity != 50 {
 		t.Fatalf("first add: %+v merged=%v err=%v", a, merged, err)
@@ -82,10 +84,12 @@ func TestAddMergesSameIdentity(t *testing.T) {
 	}
 }
 
-func TestAddRefusesInvalidItems(t *testing.T) {
+func TestAddRefusesInvalidItems(t *testing.T) { eachDialect(t, testAddRefusesInvalidItems) }
+
+func testAddRefusesInvalidItems(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	cases := []struct {
 		name string
 		it   stock.Item
@@ -109,10 +113,12 @@ func TestAddRefusesInvalidItems(t *testing.T) {
 	}
 }
 
-func TestSetQuantityRemoveAndHistory(t *testing.T) {
+func TestSetQuantityRemoveAndHistory(t *testing.T) { eachDialect(t, testSetQuantityRemoveAndHistory) }
+
+func testSetQuantityRemoveAndHistory(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	a, _, _ := db.Add(ctx, res(t, "10k", 100, "B2"), "")
 	if _, err := db.SetQuantity(ctx, a.ID, 90, ""); !fault.Is(err, fault.Invalid) {
 		t.Fatalf("set without reason: %v", err)
@@ -173,10 +179,12 @@ func TestSetQuantityRemoveAndHistory(t *testing.T) {
 	}
 }
 
-func TestAdjustIsAllOrNothing(t *testing.T) {
+func TestAdjustIsAllOrNothing(t *testing.T) { eachDialect(t, testAdjustIsAllOrNothing) }
+
+func testAdjustIsAllOrNothing(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	r, _, _ := db.Add(ctx, res(t, "1k", 10, "A1"), "")
 	c, _, _ := db.Add(ctx, capa(t, "10n", 4, "C0G", "C1"), "")
 
@@ -224,17 +232,19 @@ func TestAdjustIsAllOrNothing(t *testing.T) {
 	}
 }
 
-func TestTxSharesOneTransaction(t *testing.T) {
+func TestTxSharesOneTransaction(t *testing.T) { eachDialect(t, testTxSharesOneTransaction) }
+
+func testTxSharesOneTransaction(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	r, _, _ := db.Add(ctx, res(t, "2k2", 10, "A1"), "")
 	boom := errors.New("later step failed")
 	err := db.Tx(ctx, func(tx *Tx) error {
 		if err := tx.Adjust(ctx, []stock.Delta{{StockID: r.ID, Change: -5}}, "build"); err != nil {
 			return err
 		}
-		if _, err := tx.ExecContext(ctx, `CREATE TABLE scratch (x)`); err != nil {
+		if _, err := tx.ExecContext(ctx, `CREATE TABLE scratch (x INTEGER)`); err != nil {
 			return err
 		}
 		return boom
@@ -246,7 +256,11 @@ func TestTxSharesOneTransaction(t *testing.T) {
 		t.Fatalf("rolled-back adjust left quantity %d", got.Quantity)
 	}
 	var n int
-	db.SQL().QueryRow(`SELECT COUNT(*) FROM sqlite_schema WHERE name = 'scratch'`).Scan(&n)
+	q := `SELECT COUNT(*) FROM sqlite_schema WHERE name = 'scratch'`
+	if db.sql.pg {
+		q = `SELECT COUNT(*) FROM information_schema.tables WHERE table_name = 'scratch'`
+	}
+	db.SQL().QueryRow(q).Scan(&n)
 	if n != 0 {
 		t.Fatal("rolled-back table exists")
 	}
@@ -260,11 +274,13 @@ func TestTxSharesOneTransaction(t *testing.T) {
 	}
 }
 
-func TestImport(t *testing.T) {
+func TestImport(t *testing.T) { eachDialect(t, testImport) }
+
+func testImport(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
 	t.Run("merges duplicates and existing rows", func(t *testing.T) {
-		db := openTest(t)
+		db := open(t)
 		db.Add(ctx, res(t, "1k", 10, "A1"), "")
 		sum, err := db.Import(ctx, []stock.Item{
 			res(t, "1k", 5, "A1"),          // exists
@@ -290,7 +306,7 @@ func TestImport(t *testing.T) {
 		}
 	})
 	t.Run("one bad item stores nothing", func(t *testing.T) {
-		db := openTest(t)
+		db := open(t)
 		db.Add(ctx, res(t, "1k", 10, "A1"), "")
 		bad := res(t, "3k3", 1, "A3")
 		bad.Quantity = -4
@@ -307,7 +323,7 @@ func TestImport(t *testing.T) {
 		}
 	})
 	t.Run("replace swaps the inventory", func(t *testing.T) {
-		db := openTest(t)
+		db := open(t)
 		keep, _, _ := db.Add(ctx, res(t, "1k", 10, "A1"), "")
 		gone, _, _ := db.Add(ctx, res(t, "3k3", 4, "A3"), "")
 		sum, err := db.Import(ctx, []stock.Item{res(t, "1k", 6, "A1"), res(t, "2k2", 7, "A2")}, true)
@@ -377,6 +393,8 @@ func TestOpenMemory(t *testing.T) {
 	}
 }
 
+// TestConnectionSettings checks SQLite's connection pragmas (PostgreSQL
+// has none of them).
 func TestConnectionSettings(t *testing.T) {
 	t.Parallel()
 	db := openTest(t)
@@ -406,21 +424,25 @@ func TestConnectionSettings(t *testing.T) {
 	}
 }
 
-func TestForeignKeysAreEnforced(t *testing.T) {
+func TestForeignKeysAreEnforced(t *testing.T) { eachDialect(t, testForeignKeysAreEnforced) }
+
+func testForeignKeysAreEnforced(t *testing.T, open opener) {
 	t.Parallel()
-	db := openTest(t)
+	db := open(t)
 	_, err := db.SQL().Exec(`INSERT INTO movement (stock_id, delta, balance, reason, at) VALUES (4242, 1, 1, 'x', '')`)
-	if err == nil || !strings.Contains(err.Error(), "FOREIGN KEY") {
+	if err == nil || !strings.Contains(strings.ToUpper(err.Error()), "FOREIGN KEY") {
 		t.Fatalf("ledger entry for a missing row: %v", err)
 	}
 }
 
 // TestImportMergeKeepsNotes: merging a file row into a row of the same
 // identity fills an empty note from the file and keeps a note already held.
-func TestImportMergeKeepsNotes(t *testing.T) {
+func TestImportMergeKeepsNotes(t *testing.T) { eachDialect(t, testImportMergeKeepsNotes) }
+
+func testImportMergeKeepsNotes(t *testing.T, open opener) {
 	t.Parallel()
 	ctx := context.Background()
-	db := openTest(t)
+	db := open(t)
 	a := stock.Item{Kind: stock.Resistor, Value: 10e3, Tolerance: 0.01, Quantity: 5, Location: "A1"}
 	b := stock.Item{Kind: stock.Resistor, Value: 22e3, Tolerance: 0.01, Quantity: 5, Location: "A1", Note: "from the old drawer"}
 	if _, err := db.Import(ctx, []stock.Item{a, b}, false); err != nil {

@@ -3,7 +3,6 @@ package cli
 import (
 	"context"
 	"fmt"
-	"net/url"
 	"os"
 	"path/filepath"
 	"strings"
@@ -51,7 +50,7 @@ func (e *Env) openStoreMode(mode store.Mode) (*store.DB, error) {
 	if err != nil {
 		return nil, err
 	}
-	if isDefault && mode == store.Create {
+	if isDefault && mode == store.Create && !store.IsServerURL(path) {
 		if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
 			return nil, fmt.Errorf("create the default data folder for the stock database: %w", err)
 		}
@@ -62,7 +61,7 @@ func (e *Env) openStoreMode(mode store.Mode) (*store.DB, error) {
 	}
 	db, err := store.OpenMode(ctx, path, mode)
 	if err != nil {
-		if fault.KindOf(err) == fault.NotFound && mode != store.Create {
+		if fault.KindOf(err) == fault.NotFound && mode != store.Create && !store.IsServerURL(path) {
 			if _, serr := os.Stat(path); serr != nil {
 				abs, _ := filepath.Abs(path)
 				return nil, fault.NotFoundf("no stock database at %s; create one by adding stock: drawerfit stock import FILE (or drawerfit stock add); check --db and $DRAWERFIT_DB for a typing mistake", abs)
@@ -84,9 +83,12 @@ func (e *Env) dbLocation() (string, bool, error) {
 		return "", false, err
 	}
 	explicit := e.DBPath != "" || (e.Getenv != nil && e.Getenv("DRAWERFIT_DB") != "")
+	if store.IsServerURL(path) {
+		return path, false, nil
+	}
 	if scheme, ok := urlScheme(path); ok {
 		if strings.Contains(path, "://") {
-			return "", false, fault.Invalidf("the stock database %q is a URL with the scheme %q, which drawerfit does not know; give a file path", redactURL(path), scheme)
+			return "", false, fault.Invalidf("the stock database %q is a URL with the scheme %q, which drawerfit does not know; give a file path or a postgres:// URL", store.RedactURL(path), scheme)
 		}
 		return "", false, fault.Invalidf("the stock database %q starts like a URL with the scheme %q; for a file whose name has a colon write ./%s", path, scheme, path)
 	}
@@ -110,18 +112,6 @@ func urlScheme(s string) (string, bool) {
 	return strings.ToLower(s[:i]), true
 }
 
-// redactURL hides the password a URL may hold.
-func redactURL(s string) string {
-	u, err := url.Parse(s)
-	if err != nil || u.User == nil {
-		return s
-	}
-	if _, has := u.User.Password(); has {
-		u.User = url.UserPassword(u.User.Username(), "xxxxx")
-		return u.String()
-	}
-	return s
-}
 
 // stockItems returns the inventory that a command works on: the rows of
 // the CSV file at csvPath when it is not empty (read and merged in memory,

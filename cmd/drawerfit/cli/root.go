@@ -142,7 +142,7 @@ func Run(env *Env, args []string) int {
 	if path, _, perr := env.dbLocation(); perr == nil {
 		// Any SQLite error that reached here unexplained gets plain words
 		// and loses its numeric code.
-		err = store.Plain(err, path)
+		err = store.Plain(err, store.RedactURL(path))
 	}
 	fmt.Fprintln(env.Err, "drawerfit: "+err.Error())
 	return exitCode(err)
