@@ -1,6 +1,7 @@
 package migrations
 
 import (
+	"os"
 	"strings"
 	"testing"
 	"testing/fstest"
@@ -18,6 +19,21 @@ func TestEmbeddedSetIsNumberedWithoutGaps(t *testing.T) {
 		}
 		if !strings.HasSuffix(m.Name, ".sql") || m.SQL == "" {
 			t.Errorf("migration %d: name %q, %d bytes", i, m.Name, len(m.SQL))
+		}
+	}
+}
+
+// TestNoFilesOutsideTheDialectSets: a migration file put in this folder
+// itself would be embedded by neither set and never applied.
+func TestNoFilesOutsideTheDialectSets(t *testing.T) {
+	t.Parallel()
+	entries, err := os.ReadDir(".")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, e := range entries {
+		if strings.HasSuffix(e.Name(), ".sql") {
+			t.Errorf("%s is outside sqlite/ and postgres/: a new migration goes into both, with the same number and name", e.Name())
 		}
 	}
 }

@@ -1,12 +1,16 @@
 // Package store keeps drawerfit's inventory in a SQLite file (pure Go,
-// modernc.org/sqlite). *DB implements stock.Store.
+// modernc.org/sqlite) or, for several benches sharing one stock, in a
+// PostgreSQL database (pgx). *DB implements stock.Store for both.
 //
-// Every connection gets its settings from the connection string: foreign
-// keys on, WAL journal, synchronous=FULL, a busy timeout, and transactions
-// that begin IMMEDIATE (they take the write lock at the start, so two
-// processes never deadlock upgrading a read to a write; the later one waits
-// up to the busy timeout). The schema is the numbered files of package
-// drawerfit/migrations, applied on Open.
+// SQLite: every connection gets its settings from the connection string:
+// foreign keys on, synchronous=FULL, a busy timeout, and transactions that
+// begin IMMEDIATE (they take the write lock at the start, so two processes
+// never deadlock upgrading a read to a write; the later one waits up to
+// the busy timeout); the file is switched to WAL once, after it has been
+// checked. PostgreSQL: every writing transaction first takes one advisory
+// lock, so writers take turns exactly as on SQLite (see DB.Tx). The schema
+// is the numbered files of package drawerfit/migrations for the dialect,
+// applied when a command that writes opens the database.
 //
 // Public methods each run in one transaction and call private helpers that
 // take the transaction. Other packages that keep their own tables in the
