@@ -112,7 +112,6 @@ func urlScheme(s string) (string, bool) {
 	return strings.ToLower(s[:i]), true
 }
 
-
 // stockItems returns the inventory that a command works on: the rows of
 // the CSV file at csvPath when it is not empty (read and merged in memory,
 // the database untouched), else the rows of the stock database. f selects
