@@ -716,6 +716,8 @@ type jsonCandidate struct {
 	Sections           []jsonSection  `json:"sections"`
 	StockUse           []jsonStockUse `json:"stock_use"`
 	Netlist            string         `json:"netlist"`
+	// Placement is where the candidate's target sits in the specification.
+	Placement placementJSON `json:"placement"`
 	// Amplifiers: the rows used, and the error the same parts give with
 	// ideal amplifiers (null when scored with ideal ones).
 	OpAmps          []jsonAmp `json:"opamps"`
@@ -769,7 +771,7 @@ func candidateJSON(c *optimize.Candidate, rank int) jsonCandidate {
 		MeetsSpec: c.MeetsSpec, Attenuation: jsonAtten{Pass: c.PassAtten}, PartCount: c.PartCount,
 		UniqueParts: c.UniqueParts, CostPerBoard: moneyJSON(c.CostPerBoard), BoardsBuildable: c.BoardsBuildable,
 		DielectricCautions: append([]string{}, c.Cautions...),
-		Pareto:             c.Pareto, Netlist: candidateNetlist(c), OpAmps: ampJSON(c)}
+		Pareto:             c.Pareto, Netlist: candidateNetlist(c), OpAmps: ampJSON(c), Placement: placementOf(c.Design)}
 	if c.Amp != nil {
 		e := c.IdealAmpError
 		jc.IdealOpAmpError = &e

@@ -154,6 +154,10 @@ func TestFitYieldJSON(t *testing.T) {
 			t.Errorf("yield object lacks %q", k)
 		}
 	}
+	// Where the target was placed: inside, with its margins.
+	if p := f.Candidates[0].Placement; p.Used != "inside" || !(p.PassMarginDB > 0) || p.StopMarginDB == nil || !(*p.StopMarginDB > 0) || p.Why == "" {
+		t.Errorf("placement %+v, want inside with positive margins and a sentence", p)
+	}
 	// With --yield the best gets the corners and the advice.
 	full := checksFitJSON(t, append(append([]string(nil), args...), "--yield")...)
 	if a := full.Candidates[0].Yield.Analysis; a == nil || a.WorstCase == nil || len(a.Advice) == 0 {

@@ -173,6 +173,8 @@ The same seed and trial count always give the same result.`,
 // ...).
 type yieldReport struct {
 	Design string `json:"design"`
+	// Placement is where the design's target sits in its specification.
+	Placement placementJSON `json:"placement"`
 	*tolerance.Result
 	OpAmp         *tolerance.OpAmpReport   `json:"opamp,omitempty"`
 	Practical     []string                 `json:"practical"`
@@ -265,7 +267,7 @@ func yieldAnalysis(ctx context.Context, o *yieldOptions, name string, c *optimiz
 	if err != nil {
 		return nil, err
 	}
-	rep := &yieldReport{Design: name, Result: res, Caution: tolerance.Caution}
+	rep := &yieldReport{Design: name, Result: res, Caution: tolerance.Caution, Placement: placementOf(c.Design)}
 	if op != nil {
 		if rep.OpAmp, err = tolerance.CheckOpAmp(c, spec, *op); err != nil {
 			return nil, err
@@ -296,6 +298,9 @@ func writeYieldReport(env *Env, w io.Writer, rep *yieldReport, sens bool) {
 		window = fmt.Sprintf("the specification widened by %.3g dB (passband) and %.3g dB (stopband)", r.PassMargin, r.StopMargin)
 	}
 	fmt.Fprintf(w, "parts %s their stock tolerances, seed %d, judged against %s\n", how, r.Seed, window)
+	if p := rep.Placement.Why; p != "" {
+		fmt.Fprintln(w, p)
+	}
 	if b := r.Boards; b != nil {
 		fmt.Fprintf(w, "of %s built, expect about %.0f to pass (95%% range %d to %d)\n", plural(b.Built, "board"), b.Expected, b.Low, b.High)
 	}
