@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"drawerfit/optimize"
+	"drawerfit/report"
 	"drawerfit/stock"
 )
 
@@ -101,4 +102,25 @@ func ampJSON(c *optimize.Candidate) []jsonAmp {
 		j.Designators = append(j.Designators, s.Designator(a.Channels))
 	}
 	return []jsonAmp{j}
+}
+
+// sheetAmps are the candidate's amplifier channels for the build sheet:
+// one per section, with the package designator and channel letter.
+func sheetAmps(c *optimize.Candidate) []report.Amplifier {
+	var out []report.Amplifier
+	for i, sl := range c.AmpSlots {
+		a := report.Amplifier{Ref: fmt.Sprintf("U%d", sl.Package), Section: i + 1}
+		if c.Amp.Channels > 1 {
+			a.Channel = string(rune('A' + sl.Channel))
+		}
+		if c.Amp.FromStock() {
+			a.Part = fmt.Sprintf("%s (%s, %s)", c.Amp.Label, stock.PackageWord(c.Amp.Channels), stock.FormatGBW(c.Amp.Model.GBW))
+			if c.Amp.Package != "" {
+				a.Part += " " + c.Amp.Package
+			}
+			a.Location, a.StockID = c.Amp.Location, c.Amp.StockID
+		}
+		out = append(out, a)
+	}
+	return out
 }

@@ -631,6 +631,10 @@ func checkSheet(env *Env, c *optimize.Candidate, cc *candidateChecks, boards int
 	if version != "" {
 		s.Generator += " " + version
 	}
+	if c.Amp != nil {
+		s.Amplifiers = sheetAmps(c)
+		s.Netlist = candidateNetlist(c) // with the amplifier's subcircuit
+	}
 	if cc == nil {
 		return s
 	}

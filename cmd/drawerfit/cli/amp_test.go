@@ -1,0 +1,125 @@
+package cli
+
+import (
+	"os"
+	"path/filepath"
+	"reflect"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+// ampRow returns the stock id of the sample drawer's amplifier row with
+// the given label.
+func ampRow(t *testing.T, s *stockEnv, label string) string {
+	t.Helper()
+	for _, it := range s.listJSON("--kind", "opamp") {
+		if it["label"] == label {
+			return strconv.Itoa(int(it["id"].(float64)))
+		}
+	}
+	t.Fatalf("no amplifier row %q", label)
+	return ""
+}
+
+// TestAmplifierPackagesThroughProduction: a design pinned to the sample
+// drawer's quad takes one package for its two sections; the netlist has the
+// row's subcircuit; a build that needs more packages than the row holds is
+// refused with the shortfall and changes nothing; a build draws the
+// packages with the passives and lists their channels by bin; undo returns
+// them.
+func TestAmplifierPackagesThroughProduction(t *testing.T) {
+	t.Parallel()
+	s := sampleEnv(t)
+	quad := ampRow(t, s, "blue bag") // 10 quads, 1 MHz, bin E1 (invented)
+	net := filepath.Join(s.dir, "filter.cir")
+	var fit struct {
+		Candidates []struct {
+			ID     string `json:"id"`
+			OpAmps []struct {
+				StockID     int64    `json:"stock_id"`
+				Packages    int      `json:"packages_per_board"`
+				Channels    int      `json:"channels_used"`
+				Designators []string `json:"designators"`
+			} `json:"opamps"`
+			Ideal    *float64 `json:"ideal_opamp_error_db"`
+			Error    float64  `json:"response_error_db"`
+			Sections []any    `json:"sections"`
+		} `json:"candidates"`
+	}
+	if code := s.jsonOf(&fit, "fit", "lowpass", "--pass", "1k", "--order", "4", "--combine", "1", "--rank", "balanced",
+		"--top", "1", "--opamp", quad, "--save", "--json", "--netlist", net); code != 0 || len(fit.Candidates) != 1 {
+		t.Fatalf("fit exit %d: %+v", code, fit)
+	}
+	c := fit.Candidates[0]
+	if len(c.OpAmps) != 1 || strconv.FormatInt(c.OpAmps[0].StockID, 10) != quad || c.OpAmps[0].Packages != 1 ||
+		c.OpAmps[0].Channels != 2 || strings.Join(c.OpAmps[0].Designators, " ") != "U1A U1B" || c.Ideal == nil {
+		t.Fatalf("amplifier of the fit: %+v", c)
+	}
+	text, err := os.ReadFile(net)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(text), ".subckt") || !strings.Contains(string(text), "XU1A ") || !strings.Contains(string(text), "XU1B ") ||
+		strings.Count(string(text), ".subckt") != 1 {
+		t.Fatalf("netlist:\n%s", text)
+	}
+	id := c.ID
+	before := s.quantities()
+	// 11 boards need 11 quads; the row holds 10.
+	out, _, code := s.run("", "build", id, "--boards", "11")
+	if code != 1 || !strings.Contains(out, "Not enough stock") || !strings.Contains(out, "blue bag") {
+		t.Fatalf("build of 11: exit %d\n%s", code, out)
+	}
+	if !reflect.DeepEqual(before, s.quantities()) {
+		t.Fatal("a refused build changed the stock")
+	}
+	qtyOf := func() float64 {
+		for _, it := range s.listJSON("--kind", "opamp") {
+			if strconv.Itoa(int(it["id"].(float64))) == quad {
+				return it["quantity"].(float64)
+			}
+		}
+		return -1
+	}
+	out = s.ok("build", id, "--boards", "3")
+	if !strings.Contains(out, "U1A U1B") || !strings.Contains(out, "E1") || qtyOf() != 7 {
+		t.Fatalf("build of 3 (quads left %v):\n%s", qtyOf(), out)
+	}
+	if h := s.ok("stock", "history", quad); !strings.Contains(h, "build 1") {
+		t.Fatalf("ledger of the quad row:\n%s", h)
+	}
+	s.ok("build", "undo", "1")
+	if qtyOf() != 10 || !reflect.DeepEqual(before, s.quantities()) {
+		t.Fatalf("undo left %v quads", qtyOf())
+	}
+}
+
+// TestFitOpAmpFlags: --opamp none scores with ideal amplifiers and lists
+// no amplifier; --opamp with a resistor row or --gbw with --opamp is
+// refused.
+func TestFitOpAmpFlags(t *testing.T) {
+	t.Parallel()
+	s := sampleEnv(t)
+	var fit struct {
+		Candidates []struct {
+			OpAmps []any    `json:"opamps"`
+			Ideal  *float64 `json:"ideal_opamp_error_db"`
+		} `json:"candidates"`
+	}
+	if code := s.jsonOf(&fit, "fit", "lowpass", "--pass", "1k", "--order", "2", "--combine", "1", "--rank", "balanced",
+		"--top", "2", "--opamp", "none", "--json"); code != 0 || len(fit.Candidates) == 0 {
+		t.Fatalf("--opamp none: exit %d", code)
+	}
+	for _, c := range fit.Candidates {
+		if len(c.OpAmps) != 0 || c.Ideal != nil {
+			t.Fatalf("--opamp none lists an amplifier: %+v", c)
+		}
+	}
+	if msg := s.fail("fit", "lowpass", "--pass", "1k", "--order", "2", "--opamp", "1"); !strings.Contains(msg, "not an amplifier") {
+		t.Errorf("--opamp with a resistor row: %q", msg)
+	}
+	if msg := s.fail("fit", "lowpass", "--pass", "1k", "--order", "2", "--opamp", "none", "--gbw", "1M"); !strings.Contains(msg, "exclude each other") {
+		t.Errorf("--opamp with --gbw: %q", msg)
+	}
+}
