@@ -20,6 +20,17 @@ type SuggestOptions struct {
 	// Trials is how many single additions get a full search (0: 6); the
 	// screen orders them first.
 	Trials int
+	// Fit is the search SuggestFit runs (nil: optimize.Fit); the fit with
+	// amplifiers (optimize.FitAmps) plugs in here, so that amplifier
+	// packages are counted and can be what is short.
+	Fit func(ctx context.Context, items []stock.Item, spec synth.Spec, o optimize.Options) (*optimize.Result, error)
+}
+
+func (o SuggestOptions) fit() func(context.Context, []stock.Item, synth.Spec, optimize.Options) (*optimize.Result, error) {
+	if o.Fit != nil {
+		return o.Fit
+	}
+	return optimize.Fit
 }
 
 func (o SuggestOptions) max() int {
@@ -479,7 +490,8 @@ func newValueTrials(items []stock.Item, refs []*optimize.Candidate, groups []int
 
 // topUpTrial is the purchase that closes a shortfall: more of every short
 // row the relaxed best design uses, where the row's value is a preferred
-// series value. It returns false when there is nothing to buy.
+// series value or the row is an amplifier (more packages of the part the
+// drawer has). It returns false when there is nothing to buy.
 func topUpTrial(items []stock.Item, short []stock.ShortRow) (trial, bool) {
 	byID := map[int64]stock.Item{}
 	for _, it := range items {
@@ -488,7 +500,7 @@ func topUpTrial(items []stock.Item, short []stock.ShortRow) (trial, bool) {
 	var tr trial
 	for _, r := range short {
 		it, ok := byID[r.StockID]
-		if !ok || !inPreferred(it) {
+		if !ok || !(inPreferred(it) || it.Kind == stock.OpAmp) {
 			continue
 		}
 		it.Quantity = r.Needed - r.OnHand
@@ -537,8 +549,9 @@ func SuggestFit(ctx context.Context, items []stock.Item, spec synth.Spec, o opti
 	// design, which halves their cost; a full fit can only do as well or
 	// better, so what a suggestion claims stays true.
 	tspec, topt := spec, o
+	fit := so.fit()
 	run := func(its []stock.Item, _ []int) (Outcome, error) {
-		r, err := optimize.Fit(ctx, its, tspec, topt)
+		r, err := fit(ctx, its, tspec, topt)
 		if err != nil {
 			return Outcome{}, err
 		}
@@ -548,7 +561,7 @@ func SuggestFit(ctx context.Context, items []stock.Item, spec synth.Spec, o opti
 	base, ref := fitOutcome(res, o.Boards)
 	var trials []trial
 	if !base.Feasible {
-		r, err := optimize.Fit(ctx, relaxed(items, o.Boards), spec, o)
+		r, err := fit(ctx, relaxed(items, o.Boards), spec, o)
 		if err != nil {
 			return nil, err
 		}

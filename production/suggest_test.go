@@ -212,3 +212,17 @@ func TestCandidateValuesAreSeriesNeighbours(t *testing.T) {
 		t.Fatalf("below 1 kΩ: %v", got)
 	}
 }
+
+// TestTopUpIncludesAmplifiers: when an amplifier row is what is short, the
+// top-up buys its missing packages.
+func TestTopUpIncludesAmplifiers(t *testing.T) {
+	t.Parallel()
+	items := []stock.Item{
+		{ID: 1, Kind: stock.Resistor, Value: 10e3, Tolerance: 0.01, Quantity: 100},
+		{ID: 2, Kind: stock.OpAmp, Name: "test quad", Channels: 4, GBW: 1e6, Quantity: 3},
+	}
+	tr, ok := topUpTrial(items, []stock.ShortRow{{StockID: 2, Needed: 5, OnHand: 3}})
+	if !ok || len(tr.items) != 1 || tr.items[0].ID != 2 || tr.items[0].Quantity != 2 {
+		t.Fatalf("top-up %+v, %v", tr.items, ok)
+	}
+}

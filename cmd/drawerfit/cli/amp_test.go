@@ -123,3 +123,27 @@ func TestFitOpAmpFlags(t *testing.T) {
 		t.Errorf("--opamp with --gbw: %q", msg)
 	}
 }
+
+// TestSuggestBuysAmplifierPackages: for 20 boards every amplifier row of
+// the sample drawer is short; the purchase suggestion that closes the
+// shortfall buys the missing packages of one.
+func TestSuggestBuysAmplifierPackages(t *testing.T) {
+	t.Parallel()
+	s := newStockEnv(t)
+	var fit struct {
+		Suggestions []jsonSuggestion `json:"suggestions"`
+	}
+	s.jsonOf(&fit, "fit", "lowpass", "--pass", "1k", "--order", "4", "--combine", "1", "--rank", "balanced",
+		"--stock", sampleCSV, "--boards", "20", "--suggest", "--json")
+	for _, sg := range fit.Suggestions {
+		if !sg.ClosesShortfall {
+			continue
+		}
+		for _, p := range sg.Items {
+			if p.Kind == "opamp" && p.Quantity > 0 {
+				return
+			}
+		}
+	}
+	t.Fatalf("no suggestion buys amplifier packages: %+v", fit.Suggestions)
+}

@@ -547,6 +547,9 @@ func tryText(run *fitRun) string {
 	if o.Boards > 1 {
 		tries = append(tries, "fewer --boards")
 	}
+	if run.amps != nil && len(run.amps.Amps) > 0 {
+		tries = append(tries, "--opamp none (ideal amplifiers, none drawn from stock)")
+	}
 	tries = append(tries, "--suggest for purchases")
 	if !o.ShowFailing {
 		tries = append(tries, "--show-failing to see the misses")

@@ -144,7 +144,18 @@ type fitSuggestions struct {
 
 func suggestForFit(env *Env, o *fitOptions, run *fitRun) error {
 	start := env.Now()
-	list, err := production.SuggestFit(env.Ctx, run.items, run.spec, run.opts, run.result, production.SuggestOptions{})
+	so := production.SuggestOptions{}
+	if choice, err := o.ampChoice(); err == nil {
+		so.Fit = func(ctx context.Context, items []stock.Item, spec synth.Spec, fo optimize.Options) (*optimize.Result, error) {
+			fo.Progress = nil
+			ar, err := optimize.FitAmps(ctx, items, spec, fo, choice)
+			if err != nil {
+				return nil, err
+			}
+			return ar.Result, nil
+		}
+	}
+	list, err := production.SuggestFit(env.Ctx, run.items, run.spec, run.opts, run.result, so)
 	if err != nil {
 		return err
 	}
