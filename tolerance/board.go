@@ -16,6 +16,15 @@ type board struct {
 	parts    []physPart
 	comps    []boardComp
 	sections []boardSection
+	// amp is the candidate's amplifier model (nil: ideal); with it every
+	// analysis of the board uses the single-pole model, measured from the
+	// passband gain ampRef = (A0/(1+A0))^2n in |H|², as the fit scores it.
+	amp    *synth.OpAmp
+	ampRef float64
+	// ampFmax caps the frequencies analysed with the amplifier (Hz; 0: no
+	// cap): a high-pass is judged up to HighPassUpperFactor·fp, as the fit
+	// scores it, not into the amplifier's roll-off.
+	ampFmax float64
 }
 
 // physPart is one physical part of the board.
@@ -143,6 +152,15 @@ func newBoard(c *optimize.Candidate) (*board, error) {
 		}
 		b.sections = append(b.sections, bs)
 	}
+	if c.Amp != nil {
+		m := c.Amp.Model
+		b.amp = &m
+		dc := m.DCFollowerGain()
+		b.ampRef = math.Pow(dc*dc, float64(len(b.sections)))
+		if c.Design != nil && c.Design.Spec.Kind == synth.HighPass {
+			b.ampFmax = HighPassUpperFactor * c.Design.Spec.Pass
+		}
+	}
 	return b, nil
 }
 
@@ -167,6 +185,9 @@ type workspace struct {
 	vals   [][]float64 // per section, element values
 	buf    []float64   // scratch for combining parts
 	coeffs []coeffs
+	// ideal analyses with ideal amplifiers even when the board has one
+	// (the op-amp check's reference).
+	ideal bool
 }
 
 func (b *board) newWorkspace() *workspace {
@@ -211,8 +232,20 @@ func (w *workspace) loadSection(si int, parts []float64) {
 	w.coeffs[si].num, w.coeffs[si].den = s.topo.Coeffs(v)
 }
 
-// gain2 returns the cascade's |H(jω)|².
+// gain2 returns the cascade's |H(jω)|², with the board's amplifier when
+// it has one (measured from its passband gain).
 func (w *workspace) gain2(omega float64) float64 {
+	if w.b.amp != nil && !w.ideal {
+		if w.b.ampFmax > 0 {
+			omega = math.Min(omega, 2*math.Pi*w.b.ampFmax)
+		}
+		g := 1.0
+		for i, s := range w.b.sections {
+			h := synth.AmpResponse(s.topo, w.vals[i], w.b.amp, omega)
+			g *= real(h)*real(h) + imag(h)*imag(h)
+		}
+		return g / w.b.ampRef
+	}
 	g := 1.0
 	for i := range w.coeffs {
 		c := &w.coeffs[i]

@@ -157,6 +157,7 @@ func CheckOpAmp(c *optimize.Candidate, spec synth.Spec, op synth.OpAmp) (*OpAmpR
 		return nil, err
 	}
 	ws := b.newWorkspace()
+	ws.ideal = true // the reference: the same parts with ideal amplifiers
 	ws.load(b.nominalParts())
 	dc := op.DCFollowerGain()
 	ref := math.Pow(dc*dc, float64(len(b.sections)))

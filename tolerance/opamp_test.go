@@ -2,6 +2,7 @@ package tolerance
 
 import (
 	"bufio"
+	"context"
 	"math"
 	"math/cmplx"
 	"os"
@@ -307,5 +308,38 @@ func TestHighPassJudgedUpToTenFp(t *testing.T) {
 	}
 	if !(rep.WithOpAmp.PassAtten < 30) || rep.PassJudgedUpTo != 5e6 {
 		t.Errorf("pass figure with the amplifier %.2f dB judged up to %g Hz", rep.WithOpAmp.PassAtten, rep.PassJudgedUpTo)
+	}
+}
+
+// TestYieldWithTheCandidatesAmplifier: a candidate that carries an
+// amplifier is simulated with it. With a 1 THz amplifier of 1e12 V/V the
+// yield is the ideal one; with a slow one it differs.
+func TestYieldWithTheCandidatesAmplifier(t *testing.T) {
+	t.Parallel()
+	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 10e3, Order: 4}
+	c := designCandidate(t, spec, 4, synth.OddOnePole, tols{0.01, 0.05})
+	opt := Options{Trials: 400, Seed: 3, Brief: true, PassMargin: 0.05}
+	ideal, err := Run(context.Background(), c, spec, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	fast := *c
+	fast.Amp = &optimize.Amplifier{Label: "test", Channels: 1, Model: synth.OpAmp{GBW: 1e12, DCGain: 1e12}}
+	rf, err := Run(context.Background(), &fast, spec, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rf.Passed != ideal.Passed {
+		t.Errorf("with a 1 THz amplifier %d of 400 pass, ideal %d", rf.Passed, ideal.Passed)
+	}
+	slow := *c
+	slow.Amp = &optimize.Amplifier{Label: "test", Channels: 1, Model: synth.OpAmp{GBW: 200e3}}
+	rs, err := Run(context.Background(), &slow, spec, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("passed: ideal %d, 1 THz %d, 200 kHz %d of 400", ideal.Passed, rf.Passed, rs.Passed)
+	if rs.Passed == ideal.Passed {
+		t.Errorf("a 200 kHz amplifier under a 10 kHz filter changes no board's verdict (%d)", rs.Passed)
 	}
 }
