@@ -20,6 +20,7 @@ import (
 	"testing"
 	"time"
 
+	"drawerfit/migrations"
 	"drawerfit/production"
 	"drawerfit/stock"
 )
@@ -271,5 +272,46 @@ func TestServerKilledImportLeavesNothing(t *testing.T) {
 	}
 	if _, _, err := db.Add(ctx, res(t, "47k", 1, "A6"), "after the kill"); err != nil {
 		t.Fatal(err)
+	}
+}
+
+// TestBenchesCreateOneServerDatabase: pairs of processes put the schema
+// into one empty server database at the same moment (two benches on their
+// first command): both succeed and each migration is applied once, since
+// every step first takes the writers' lock.
+func TestBenchesCreateOneServerDatabase(t *testing.T) {
+	if testing.Short() {
+		t.Skip("starts 20 subprocesses")
+	}
+	for pair := 0; pair < 10; pair++ {
+		url := newPostgresDatabase(t)
+		var cmds []*exec.Cmd
+		var gates []io.WriteCloser
+		for i := 0; i < 2; i++ {
+			cmd := helper(t, "open", url)
+			in, _ := cmd.StdinPipe()
+			if err := cmd.Start(); err != nil {
+				t.Fatal(err)
+			}
+			cmds, gates = append(cmds, cmd), append(gates, in)
+		}
+		for _, g := range gates {
+			g.Close()
+		}
+		for i, cmd := range cmds {
+			if err := cmd.Wait(); err != nil {
+				t.Fatalf("pair %d, process %d: %v", pair, i, err)
+			}
+		}
+		db, err := Open(url)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var n, max int
+		db.SQL().QueryRow(`SELECT COUNT(*), MAX(version) FROM schema_version`).Scan(&n, &max)
+		db.Close()
+		if n != max || max != migrations.Latest() {
+			t.Fatalf("pair %d: %d migration records, highest %d, want %d each", pair, n, max, migrations.Latest())
+		}
 	}
 }

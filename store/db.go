@@ -49,7 +49,17 @@ type DB struct {
 	// Now is the clock for ledger and row times (time.Now when nil). Tests
 	// set it before use.
 	Now func() time.Time
+
+	// Waiting, when set, is told once when a writing transaction has
+	// waited WaitNotice for another process's write to finish, with a
+	// sentence that says so; the wait goes on up to BusyTimeout.
+	Waiting func(msg string)
 }
+
+// WaitNotice is how long a write waits for the lock before DB.Waiting is
+// told (common practice, no source: long enough not to show for ordinary
+// turns, short enough that a person is not left wondering).
+const WaitNotice = time.Second
 
 var _ stock.Store = (*DB)(nil)
 
@@ -162,6 +172,14 @@ func (db *DB) Tx(ctx context.Context, fn func(tx *Tx) error) (err error) {
 	if db.readOnly {
 		return fault.Conflictf("the stock database at %s was opened for reading only; this step changes it", db.path)
 	}
+	locked := func() {}
+	if db.Waiting != nil {
+		notice := time.AfterFunc(WaitNotice, func() {
+			db.Waiting(fmt.Sprintf("waiting for another process to finish writing to the stock database at %s (up to %s)", db.path, BusyTimeout))
+		})
+		locked = func() { notice.Stop() }
+		defer locked()
+	}
 	stx, err := db.sql.BeginTx(ctx, nil)
 	if err != nil {
 		return Plain(fmt.Errorf("begin transaction: %w", err), db.path)
@@ -178,6 +196,8 @@ func (db *DB) Tx(ctx context.Context, fn func(tx *Tx) error) (err error) {
 			return Plain(err, db.path)
 		}
 	}
+	locked() // the lock is held: no more waiting to report
+
 	done := false
 	defer func() {
 		if !done {

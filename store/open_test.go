@@ -8,6 +8,7 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"sync"
 	"testing"
 	"time"
 
@@ -235,5 +236,40 @@ func TestReadOnlyHandleRefusesWrites(t *testing.T) {
 	_, _, err = r.Add(ctx, stock.Item{Kind: stock.Resistor, Value: 100, Quantity: 1}, "")
 	if fault.KindOf(err) != fault.Conflict || !strings.Contains(err.Error(), "reading only") {
 		t.Errorf("write through a read-only handle: %v", err)
+	}
+}
+
+// TestWriteWaitingIsReported: a write that waits for another's lock says
+// so after WaitNotice, once; a write that gets the lock at once says
+// nothing.
+func TestWriteWaitingIsReported(t *testing.T) { eachDialect(t, testWriteWaitingIsReported) }
+
+func testWriteWaitingIsReported(t *testing.T, open opener) {
+	t.Parallel()
+	ctx := context.Background()
+	db := open(t)
+	var said []string
+	var mu sync.Mutex
+	db.Waiting = func(msg string) { mu.Lock(); said = append(said, msg); mu.Unlock() }
+	if err := db.Tx(ctx, func(tx *Tx) error { time.Sleep(WaitNotice + 200*time.Millisecond); return nil }); err != nil {
+		t.Fatal(err)
+	}
+	if len(said) != 0 {
+		t.Fatalf("a slow transaction that waited for nobody said %q", said)
+	}
+	holding, release, done := make(chan struct{}), make(chan struct{}), make(chan error)
+	go func() {
+		done <- db.Tx(ctx, func(tx *Tx) error { close(holding); <-release; return nil })
+	}()
+	<-holding
+	time.AfterFunc(WaitNotice+500*time.Millisecond, func() { close(release) })
+	if err := db.Tx(ctx, func(tx *Tx) error { return nil }); err != nil {
+		t.Fatal(err)
+	}
+	<-done
+	mu.Lock()
+	defer mu.Unlock()
+	if len(said) != 1 || !strings.Contains(said[0], "waiting for another process") {
+		t.Fatalf("waiting said %q", said)
 	}
 }

@@ -70,6 +70,7 @@ func (e *Env) openStoreMode(mode store.Mode) (*store.DB, error) {
 		return nil, err
 	}
 	db.Now = e.Now
+	db.Waiting = func(msg string) { fmt.Fprintln(e.Err, msg) }
 	return db, nil
 }
 
