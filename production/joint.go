@@ -307,6 +307,19 @@ func (js *jointSearch) board(l leaf) *Board {
 			use[js.ids[u.row]] += u.n
 		}
 	}
+	// The filters' sections share the packages of an amplifier row: count
+	// the board's packages, not each filter's.
+	d := &Design{}
+	for _, c := range b.Filters {
+		d.Filters = append(d.Filters, Filter{Candidate: c})
+	}
+	for _, ba := range d.BoardAmps() {
+		id := ba.Amp.StockID
+		if saved := use[id] - ba.Packages; saved > 0 {
+			use[id] = ba.Packages
+			b.PartCount -= saved
+		}
+	}
 	b.StockUse = sortedUse(use)
 	b.BoardsBuildable = buildable(b.StockUse, js.items)
 	b.Shared = sharedRows(distinct)

@@ -89,6 +89,12 @@ type PlanOptions struct {
 	NodeBudget int
 	// Progress, when set, is called as the filters' searches finish.
 	Progress func(done, total int)
+	// FitFunc is each filter's search (nil: optimize.Fit); the fit with
+	// amplifiers (optimize.FitAmps) plugs in here. The joint search counts
+	// each filter's amplifier packages on their own (a bound that can only
+	// over-count); the boards it lists count the packages the filters
+	// share (Design.BoardAmps).
+	FitFunc func(ctx context.Context, items []stock.Item, spec synth.Spec, o optimize.Options) (*optimize.Result, error)
 }
 
 // DefaultPool is the default number of alternatives per distinct filter.
@@ -293,7 +299,11 @@ func fitGroup(ctx context.Context, items []stock.Item, p Plan, g *Group, o PlanO
 	if r, ok := cache[key]; ok {
 		return r, nil
 	}
-	r, err := optimize.Fit(ctx, items, g.Spec, fo)
+	fit := o.FitFunc
+	if fit == nil {
+		fit = optimize.Fit
+	}
+	r, err := fit(ctx, items, g.Spec, fo)
 	if fault.KindOf(err) == fault.Infeasible {
 		// Nothing usable for this many copies and boards: an empty pool,
 		// which the joint search reports (and may split the copies).

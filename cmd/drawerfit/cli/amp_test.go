@@ -147,3 +147,40 @@ func TestSuggestBuysAmplifierPackages(t *testing.T) {
 	}
 	t.Fatalf("no suggestion buys amplifier packages: %+v", fit.Suggestions)
 }
+
+// TestPlanFiltersSharePackages: two 2-section filters pinned to the quad
+// share one package per board (four channels), not one each; the build of
+// the saved board draws one package per board and names four channels.
+func TestPlanFiltersSharePackages(t *testing.T) {
+	t.Parallel()
+	s := sampleEnv(t)
+	quad := ampRow(t, s, "blue bag")
+	plan := s.write("pair.toml", "name = \"two-channel pair\"\nboards = 2\n\n"+
+		"[[filter]]\nlabel = \"low\"\nkind = \"lowpass\"\npass = \"1k\"\norder = 4\n\n"+
+		"[[filter]]\nlabel = \"high\"\nkind = \"highpass\"\npass = \"100\"\norder = 4\n")
+	var res struct {
+		Boards []struct {
+			ID       string `json:"id"`
+			StockUse []struct {
+				StockID  int64 `json:"stock_id"`
+				PerBoard int   `json:"per_board"`
+			} `json:"stock_use"`
+		} `json:"boards"`
+	}
+	if code := s.jsonOf(&res, "fit", "--plan", plan, "--combine", "1", "--rank", "balanced", "--opamp", quad, "--top", "1", "--save", "--json"); code != 0 || len(res.Boards) == 0 {
+		t.Fatalf("plan fit exit %d: %+v", code, res)
+	}
+	quads := 0
+	for _, u := range res.Boards[0].StockUse {
+		if strconv.FormatInt(u.StockID, 10) == quad {
+			quads = u.PerBoard
+		}
+	}
+	if quads != 1 {
+		t.Fatalf("two filters of 2 sections take %d quads per board, want 1 shared", quads)
+	}
+	out := s.ok("build", res.Boards[0].ID, "--boards", "2", "--dry-run")
+	if !strings.Contains(out, "U1A U1B U1C U1D") {
+		t.Fatalf("pick list of the shared quad:\n%s", out)
+	}
+}

@@ -431,6 +431,17 @@ func runPlanFit(env *Env, o *fitOptions) error {
 		return fault.Infeasiblef("the stock (%s) is empty: import a CSV with `drawerfit stock import FILE`, or fit against one with --stock FILE", source)
 	}
 	popts := production.PlanOptions{Fit: fo, Top: o.top}
+	choice, err := o.ampChoice()
+	if err != nil {
+		return err
+	}
+	popts.FitFunc = func(ctx context.Context, items []stock.Item, spec synth.Spec, fo optimize.Options) (*optimize.Result, error) {
+		ar, err := optimize.FitAmps(ctx, items, spec, fo, choice)
+		if err != nil {
+			return nil, err
+		}
+		return ar.Result, nil
+	}
 	prog := newProgress(env, "fitting the plan's filters")
 	popts.Progress = prog.update
 	start := env.Now()
