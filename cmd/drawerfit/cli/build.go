@@ -15,10 +15,9 @@ import (
 	"drawerfit/stock"
 )
 
-func init() { register("build", newBuildCmd) }
-
 // buildOptions are the flags of `drawerfit build`.
 type buildOptions struct {
+	id     string // the saved design
 	boards int
 	dryRun bool
 	csv    string
@@ -27,7 +26,9 @@ type buildOptions struct {
 	json   bool
 }
 
-func newBuildCmd(env *Env) *cobra.Command {
+// NewCmdBuild builds `drawerfit build`; runF replaces the run (nil: the
+// real one) so that tests can check the parsed options without drawing.
+func NewCmdBuild(env *Env, runF func(*buildOptions) error) *cobra.Command {
 	o := &buildOptions{}
 	cmd := &cobra.Command{
 		Use:   "build ID --boards N [--dry-run] [--csv FILE]",
@@ -79,7 +80,13 @@ building it.`,
 			}
 			return nil
 		},
-		RunE: func(cmd *cobra.Command, args []string) error { return runBuild(env, o, args[0]) },
+		RunE: func(cmd *cobra.Command, args []string) error {
+			o.id = args[0]
+			if runF != nil {
+				return runF(o)
+			}
+			return runBuild(env, o, o.id)
+		},
 	}
 	f := cmd.Flags()
 	f.IntVar(&o.boards, "boards", 0, "number of boards in the batch (required)")

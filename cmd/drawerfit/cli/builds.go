@@ -8,14 +8,14 @@ import (
 	"github.com/spf13/cobra"
 )
 
-func init() { register("builds", newBuildsCmd) }
-
 // buildsOptions are the flags of `drawerfit builds`.
 type buildsOptions struct {
 	json bool
 }
 
-func newBuildsCmd(env *Env) *cobra.Command {
+// NewCmdBuilds builds `drawerfit builds`; runF replaces the run (nil: the
+// real one).
+func NewCmdBuilds(env *Env, runF func(*buildsOptions) error) *cobra.Command {
 	o := &buildsOptions{}
 	cmd := &cobra.Command{
 		Use:   "builds",
@@ -29,7 +29,12 @@ parts it took and whether it was undone.`,
   # As JSON, for the club's spreadsheet
   drawerfit builds --json`,
 		Args: cobra.NoArgs,
-		RunE: func(cmd *cobra.Command, args []string) error { return runBuilds(env, o) },
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if runF != nil {
+				return runF(o)
+			}
+			return runBuilds(env, o)
+		},
 	}
 	cmd.Flags().BoolVar(&o.json, "json", false, "print a JSON array")
 	return cmd

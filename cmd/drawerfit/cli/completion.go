@@ -6,12 +6,11 @@ import (
 	"drawerfit/fault"
 )
 
-func init() { register("completion", newCompletionCmd) }
-
 // completionShells are the shells drawerfit writes completion scripts for.
 var completionShells = []string{"bash", "zsh", "fish"}
 
-func newCompletionCmd(env *Env) *cobra.Command {
+// NewCmdCompletion builds `drawerfit completion`.
+func NewCmdCompletion(env *Env) *cobra.Command {
 	return &cobra.Command{
 		Use:   "completion bash|zsh|fish",
 		Short: "Print a shell completion script",

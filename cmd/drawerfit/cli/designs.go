@@ -9,14 +9,14 @@ import (
 	"github.com/spf13/cobra"
 )
 
-func init() { register("designs", newDesignsCmd) }
-
 // designsOptions are the flags of `drawerfit designs`.
 type designsOptions struct {
 	json bool
 }
 
-func newDesignsCmd(env *Env) *cobra.Command {
+// NewCmdDesigns builds `drawerfit designs` and its remove subcommand; runF
+// replaces the listing's run (nil: the real one).
+func NewCmdDesigns(env *Env, runF func(*designsOptions) error) *cobra.Command {
 	o := &designsOptions{}
 	cmd := &cobra.Command{
 		Use:   "designs",
@@ -33,7 +33,12 @@ parts and distinct stock rows per board, and how many builds of it stand.`,
   # Drop one that will not be built
   drawerfit designs remove ID`,
 		Args: cobra.NoArgs,
-		RunE: func(cmd *cobra.Command, args []string) error { return runDesigns(env, o) },
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if runF != nil {
+				return runF(o)
+			}
+			return runDesigns(env, o)
+		},
 	}
 	cmd.Flags().BoolVar(&o.json, "json", false, "print a JSON array")
 	cmd.AddCommand(newDesignsRemoveCmd(env))

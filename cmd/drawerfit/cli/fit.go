@@ -20,8 +20,6 @@ import (
 	"drawerfit/tolerance"
 )
 
-func init() { register("fit", newFitCmd) }
-
 // fitOptions are the flags of `drawerfit fit`.
 type fitOptions struct {
 	spec planOptions // the specification flags, shared with plan
@@ -56,7 +54,9 @@ type fitOptions struct {
 	checks fitCheckOptions
 }
 
-func newFitCmd(env *Env) *cobra.Command {
+// NewCmdFit builds `drawerfit fit`; runF replaces the run (nil: the real
+// one) so that tests can check the parsed options without fitting.
+func NewCmdFit(env *Env, runF func(*fitOptions) error) *cobra.Command {
 	o := &fitOptions{}
 	cmd := &cobra.Command{
 		Use:   "fit lowpass|highpass --pass FREQ [--stop FREQ --atten DB | --order N]",
@@ -145,6 +145,9 @@ person under the applicable local rules.`,
 			if err := prepareFitChecks(f, o); err != nil {
 				return err
 			}
+			if runF != nil {
+				return runF(o)
+			}
 			return runFit(env, o)
 		},
 	}
@@ -153,7 +156,9 @@ person under the applicable local rules.`,
 	f.IntVar(&o.combine, "combine", 2, "parts per position: 1 (single parts) or 2 (also pairs in series or parallel)")
 	f.IntVar(&o.boards, "boards", 1, "every stock row used must cover this many boards")
 	f.IntVar(&o.maxOrder, "max-order", 0, "highest order to try (default: the minimum order + 1)")
-	f.StringVar(&o.rank, "rank", "yield", "ordering: yield (boards reaching --target-yield first, by parts), balanced, error, parts, unique or cost")
+	enumFlag(f, &o.rank, "rank", "yield", "ranking", "ordering", nil,
+		choice{"yield", "boards reaching --target-yield first, by parts"}, choice{"balanced", ""}, choice{"error", ""},
+		choice{"parts", ""}, choice{"unique", ""}, choice{"cost", ""})
 	f.StringVar(&o.minVoltage, "min-voltage", "", "never use capacitors rated below this voltage (50, 50V, 6.3V); unrated ones are used with a warning")
 	f.BoolVar(&o.requireRate, "require-rating", false, "with --min-voltage: leave out capacitors without a voltage rating too")
 	f.IntVar(&o.top, "top", 10, "how many candidates to list")

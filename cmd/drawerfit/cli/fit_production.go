@@ -2,7 +2,6 @@ package cli
 
 import (
 	"context"
-	"drawerfit/tolerance"
 	"errors"
 	"fmt"
 	"io"
@@ -13,6 +12,7 @@ import (
 	"time"
 
 	"github.com/BurntSushi/toml"
+	"github.com/spf13/cobra"
 
 	"drawerfit/fault"
 	"drawerfit/optimize"
@@ -20,13 +20,18 @@ import (
 	"drawerfit/stock"
 	"drawerfit/store"
 	"drawerfit/synth"
+	"drawerfit/tolerance"
 )
 
 // The production steps of fit: --save keeps the listed candidates as
 // saved designs, --plan fits a board plan file, --suggest lists
 // purchases. The domain work is package production's.
 
-func init() { register("yield", newYieldCmdWith(openSavedDesigns)) }
+// NewCmdYield builds `drawerfit yield` over the saved designs; runF replaces
+// the run (nil: the real one).
+func NewCmdYield(env *Env, runF func(*yieldOptions) error) *cobra.Command {
+	return newYieldCmdWith(openSavedDesigns)(env, runF)
+}
 
 // ---- saved designs as the yield command's source ----
 

@@ -15,8 +15,6 @@ import (
 	"drawerfit/synth"
 )
 
-func init() { register("plan", newPlanCmd) }
-
 // planOptions are the flags of `drawerfit plan`.
 type planOptions struct {
 	kind       string
@@ -38,7 +36,9 @@ type planOptions struct {
 	passAttenSet, attenSet, rippleSet, orderSet, besselNormSet bool
 }
 
-func newPlanCmd(env *Env) *cobra.Command {
+// NewCmdPlan builds `drawerfit plan`; runF replaces the run (nil: the real
+// one) so that tests can check the parsed options without designing.
+func NewCmdPlan(env *Env, runF func(*planOptions) error) *cobra.Command {
 	o := &planOptions{}
 	cmd := &cobra.Command{
 		Use:   "plan lowpass|highpass --pass FREQ [--stop FREQ --atten DB | --order N]",
@@ -90,6 +90,9 @@ and simulates in any SPICE-compatible program: input node in, output out.`,
 			o.rippleSet = f.Changed("ripple")
 			o.orderSet = f.Changed("order")
 			o.besselNormSet = f.Changed("bessel-norm")
+			if runF != nil {
+				return runF(o)
+			}
 			return runPlan(env, o)
 		},
 	}
@@ -107,12 +110,17 @@ func bindSpecFlags(f *pflag.FlagSet, o *planOptions) {
 	f.Float64Var(&o.passAtten, "pass-atten", 0, "most attenuation allowed at fp, dB (default 3.01 for Butterworth and Bessel; the ripple for Chebyshev)")
 	f.StringVar(&o.stop, "stop", "", "stopband edge frequency fs")
 	f.Float64Var(&o.atten, "atten", 0, "least attenuation required at fs, dB")
-	f.StringVar(&o.response, "response", "butterworth", "approximation: butterworth, chebyshev or bessel")
+	enumFlag(f, &o.response, "response", "butterworth", "response", "approximation", nil,
+		choice{"butterworth", ""}, choice{"chebyshev", ""}, choice{"bessel", ""})
 	f.Float64Var(&o.ripple, "ripple", 0, "Chebyshev passband ripple, dB (default 1)")
 	f.IntVar(&o.order, "order", 0, "filter order 1..12 (default: the minimum that meets --stop/--atten)")
-	f.StringVar(&o.odd, "odd", "1pole", "odd-order real pole: 1pole (own RC section) or 3pole (with the lowest-Q pair)")
-	f.StringVar(&o.besselNorm, "bessel-norm", "mag", "Bessel normalisation: mag (-3 dB at fp) or delay (unit delay scaled to fp)")
-	f.StringVar(&o.placement, "placement", "inside", "where the target sits: inside (centred in the specification when the order leaves slack) or edge (classical: Ap exactly at fp)")
+	enumFlag(f, &o.odd, "odd", "1pole", "odd-order arrangement", "odd-order real pole",
+		map[string]string{"1-pole": "1pole", "3-pole": "3pole"},
+		choice{"1pole", "own RC section"}, choice{"3pole", "with the lowest-Q pair"})
+	enumFlag(f, &o.besselNorm, "bessel-norm", "mag", "Bessel normalisation", "Bessel normalisation", nil,
+		choice{"mag", "-3 dB at fp"}, choice{"delay", "unit delay scaled to fp"})
+	enumFlag(f, &o.placement, "placement", "inside", "placement", "where the target sits", nil,
+		choice{"inside", "centred in the specification when the order leaves slack"}, choice{"edge", "classical: Ap exactly at fp"})
 }
 
 // planSpec turns the options into a specification; every mistake is a

@@ -17,10 +17,9 @@ import (
 	"drawerfit/tolerance"
 )
 
-func init() { register("report", newReportCmd) }
-
 // reportOptions are the flags of `drawerfit report`.
 type reportOptions struct {
+	id     string // the saved design
 	output string
 	png    string
 	filter string
@@ -30,7 +29,9 @@ type reportOptions struct {
 	checks fitCheckOptions
 }
 
-func newReportCmd(env *Env) *cobra.Command {
+// NewCmdReport builds `drawerfit report`; runF replaces the run (nil: the
+// real one) so that tests can check the parsed options without writing.
+func NewCmdReport(env *Env, runF func(*reportOptions) error) *cobra.Command {
 	o := &reportOptions{}
 	cmd := &cobra.Command{
 		Use:   "report ID -o FILE.html [--png DIR]",
@@ -87,7 +88,11 @@ filter's sheet on its own pages); --split writes one file per filter
 					return err
 				}
 			}
-			return runReport(env, o, args[0])
+			o.id = args[0]
+			if runF != nil {
+				return runF(o)
+			}
+			return runReport(env, o, o.id)
 		},
 	}
 	f := cmd.Flags()

@@ -10,7 +10,6 @@ import (
 	"io"
 	"os"
 	"path/filepath"
-	"sort"
 	"strings"
 	"time"
 
@@ -41,15 +40,10 @@ type Env struct {
 	TermWidth func(w io.Writer) int
 }
 
-// commandCtor builds one top-level command bound to env.
-type commandCtor func(env *Env) *cobra.Command
-
-var registry = map[string]commandCtor{}
-
-// register adds a top-level command; each command file calls it from init.
-func register(name string, c commandCtor) { registry[name] = c }
-
-// NewRoot builds the whole command tree bound to env.
+// NewRoot builds the whole command tree bound to env. The tree is written
+// out here: each command comes from its NewCmdX constructor, which binds the
+// flags into an options struct and takes the run function (nil: the real
+// one) that tests replace to check parsing without computing.
 func NewRoot(env *Env) *cobra.Command {
 	root := &cobra.Command{
 		Use:   "drawerfit",
@@ -73,20 +67,28 @@ qualified person under the applicable local rules.`,
   drawerfit stock list --kind capacitor`,
 		SilenceUsage:  true,
 		SilenceErrors: true,
+		Version:       versionString(),
 	}
+	root.SetVersionTemplate("drawerfit {{.Version}}\n")
 	root.SetIn(env.In)
 	root.SetOut(env.Out)
 	root.SetErr(env.Err)
 	root.PersistentFlags().StringVar(&env.DBPath, "db", "",
 		"stock database file (default: $DRAWERFIT_DB, else drawerfit/stock.db in the XDG data home)")
-	names := make([]string, 0, len(registry))
-	for n := range registry {
-		names = append(names, n)
-	}
-	sort.Strings(names)
-	for _, n := range names {
-		root.AddCommand(registry[n](env))
-	}
+	root.AddCommand(
+		NewCmdPlan(env, nil),
+		NewCmdFit(env, nil),
+		NewCmdYield(env, nil),
+		NewCmdReport(env, nil),
+		NewCmdShow(env, nil),
+		NewCmdDesigns(env, nil),
+		NewCmdBuild(env, nil),
+		NewCmdBuilds(env, nil),
+		NewCmdStock(env),
+		NewCmdCompletion(env),
+		NewCmdVersion(env),
+	)
+	registerEnumCompletions(root)
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error {
 		return usageError{err}
 	})

@@ -15,14 +15,15 @@ import (
 	"drawerfit/stock"
 )
 
-func init() { register("show", newShowCmd) }
-
 // showOptions are the flags of `drawerfit show`.
 type showOptions struct {
+	id   string // the saved design
 	json bool
 }
 
-func newShowCmd(env *Env) *cobra.Command {
+// NewCmdShow builds `drawerfit show`; runF replaces the run (nil: the real
+// one).
+func NewCmdShow(env *Env, runF func(*showOptions) error) *cobra.Command {
 	o := &showOptions{}
 	cmd := &cobra.Command{
 		Use:   "show ID",
@@ -49,7 +50,13 @@ specification, and stock_issues.`,
 			}
 			return nil
 		},
-		RunE: func(cmd *cobra.Command, args []string) error { return runShow(env, o, args[0]) },
+		RunE: func(cmd *cobra.Command, args []string) error {
+			o.id = args[0]
+			if runF != nil {
+				return runF(o)
+			}
+			return runShow(env, o, o.id)
+		},
 	}
 	cmd.Flags().BoolVar(&o.json, "json", false, "print one JSON object")
 	return cmd

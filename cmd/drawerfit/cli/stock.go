@@ -16,9 +16,8 @@ import (
 	"drawerfit/store"
 )
 
-func init() { register("stock", newStockCmd) }
-
-func newStockCmd(env *Env) *cobra.Command {
+// NewCmdStock builds `drawerfit stock` and its subcommands.
+func NewCmdStock(env *Env) *cobra.Command {
 	cmd := &cobra.Command{
 		Use:   "stock",
 		Short: "Keep the parts inventory: import, list, add, count, export, history",

@@ -9,6 +9,7 @@ import (
 	"strings"
 
 	"github.com/spf13/cobra"
+	"github.com/spf13/pflag"
 
 	"drawerfit/fault"
 	"drawerfit/optimize"
@@ -18,11 +19,9 @@ import (
 )
 
 // designSource loads saved designs for `drawerfit yield`. The saved-designs
-// code implements it and registers the command with
-//
-//	func init() { register("yield", newYieldCmdWith(openSavedDesigns)) }
-//
-// where openSavedDesigns(env) opens the store.
+// code implements it; NewCmdYield builds the command with
+// newYieldCmdWith(openSavedDesigns), where openSavedDesigns(env) opens the
+// store.
 type designSource interface {
 	// LoadDesign returns the candidate saved under id and the specification
 	// it was fitted to (fault.NotFound when there is none).
@@ -40,6 +39,7 @@ type refitSource interface {
 // yieldOptions are the flags of `drawerfit yield` (and the tolerance
 // options `fit --yield` shares).
 type yieldOptions struct {
+	id           string // the saved design (ID or ID/N); not a flag
 	trials       int
 	seed         uint64
 	dist         string
@@ -66,6 +66,7 @@ type flagBinder interface {
 	StringVar(*string, string, string, string)
 	Float64Var(*float64, string, float64, string)
 	BoolVar(*bool, string, bool, string)
+	Var(pflag.Value, string, string)
 }
 
 // addYieldFlags binds the flags of `drawerfit yield` to f: the tolerance
@@ -82,7 +83,8 @@ func addYieldFlags(f flagBinder, o *yieldOptions) {
 func addToleranceFlags(f flagBinder, o *yieldOptions) {
 	f.IntVar(&o.trials, "trials", tolerance.DefaultTrials, "number of simulated boards")
 	f.Uint64Var(&o.seed, "seed", 1, "random seed: the same seed gives the same result")
-	f.StringVar(&o.dist, "dist", "uniform", "part values within their tolerance: uniform, or normal (tolerance = 3 sigma)")
+	enumFlag(f, &o.dist, "dist", "uniform", "distribution", "part values within their tolerance", nil,
+		choice{"uniform", ""}, choice{"normal", "tolerance = 3 sigma"})
 	f.Float64Var(&o.passMargin, "pass-margin", 0, "accept this many dB beyond the passband limit")
 	f.Float64Var(&o.stopMargin, "stop-margin", 0, "accept this many dB short of the stopband attenuation")
 	f.StringVar(&o.targetYield, "target-yield", "95%", "yield the advice aims for, e.g. 95% or 0.95")
@@ -93,8 +95,8 @@ func addToleranceFlags(f flagBinder, o *yieldOptions) {
 
 // newYieldCmdWith returns the constructor of `drawerfit yield` reading
 // designs through open.
-func newYieldCmdWith(open func(env *Env) (designSource, error)) commandCtor {
-	return func(env *Env) *cobra.Command {
+func newYieldCmdWith(open func(env *Env) (designSource, error)) func(*Env, func(*yieldOptions) error) *cobra.Command {
+	return func(env *Env, runF func(*yieldOptions) error) *cobra.Command {
 		o := &yieldOptions{}
 		cmd := &cobra.Command{
 			Use:   "yield ID",
@@ -137,6 +139,10 @@ The same seed and trial count always give the same result.`,
 			},
 			RunE: func(cmd *cobra.Command, args []string) error {
 				o.dcGainSet = cmd.Flags().Changed("dc-gain")
+				o.id = args[0]
+				if runF != nil {
+					return runF(o)
+				}
 				src, err := open(env)
 				if err != nil {
 					return err

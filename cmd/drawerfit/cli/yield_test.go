@@ -68,7 +68,7 @@ func runYieldCmd(t *testing.T, src designSource, args ...string) (int, string) {
 	t.Helper()
 	var out, errb bytes.Buffer
 	env := &Env{Out: &out, Err: &errb, Getenv: func(string) string { return "" }, Ctx: context.Background()}
-	cmd := newYieldCmdWith(func(*Env) (designSource, error) { return src, nil })(env)
+	cmd := newYieldCmdWith(func(*Env) (designSource, error) { return src, nil })(env, nil)
 	cmd.SetArgs(args)
 	cmd.SetOut(&out)
 	cmd.SetErr(&errb)
