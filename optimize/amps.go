@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 
 	"drawerfit/fault"
@@ -162,6 +163,8 @@ func FitAmps(ctx context.Context, items []stock.Item, spec synth.Spec, o Options
 		} else {
 			out.Notes = append(out.Notes, r.Notes...)
 		}
+		// The notes on the listed parts are made again for the merged list.
+		out.Notes = without(out.Notes, shopNotes(r.Candidates, items, o))
 		dropped := 0
 		for _, c := range r.Candidates {
 			attachAmp(c, &a, items, o.Boards)
@@ -198,6 +201,7 @@ func FitAmps(ctx context.Context, items []stock.Item, spec synth.Spec, o Options
 	markPareto(all)
 	out.Candidates = all
 	out.Closest = nil
+	out.Notes = append(out.Notes, shopNotes(all, items, o)...)
 	if len(all) == 0 && len(short) > 0 {
 		out.Limits = append([]string{fmt.Sprintf("amplifier packages for %d boards: the designs found need more than %s hold (restock, build fewer boards, or fit with ideal amplifiers)",
 			o.Boards, joinOr(short))}, out.Limits...)
@@ -385,4 +389,15 @@ func joinOr(ws []string) string {
 		out += ", " + w
 	}
 	return out + " or " + ws[len(ws)-1]
+}
+
+// without returns ss without the strings in drop, in order.
+func without(ss, drop []string) []string {
+	out := ss[:0:0]
+	for _, s := range ss {
+		if !slices.Contains(drop, s) {
+			out = append(out, s)
+		}
+	}
+	return out
 }

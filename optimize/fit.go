@@ -228,23 +228,7 @@ func Fit(ctx context.Context, items []stock.Item, spec synth.Spec, o Options) (*
 	for _, c := range top.list {
 		r.Candidates = append(r.Candidates, assemble(c, r.Designs[c.design], lists[c.design], rows, res, caps, o))
 	}
-	if o.MinVoltage > 0 && !o.RequireRating {
-		unrated := map[int64]bool{}
-		for _, it := range items {
-			if it.Kind == stock.Capacitor && it.Voltage == 0 {
-				unrated[it.ID] = true
-			}
-		}
-		worst := 0
-		for _, c := range r.Candidates {
-			worst = max(worst, unratedUsed(c, unrated))
-		}
-		if worst > 0 {
-			r.Notes = append(r.Notes, fmt.Sprintf("capacitor rows without a voltage rating were used (up to %d in a candidate): check that they are rated for %s, or require a rating",
-				worst, stock.FormatVoltage(o.MinVoltage)))
-		}
-	}
-	r.Notes = append(r.Notes, cautionNotes(r.Candidates)...)
+	r.Notes = append(r.Notes, shopNotes(r.Candidates, items, o)...)
 	markPareto(r.Candidates)
 	for i, c := range r.Candidates {
 		_ = i
@@ -437,6 +421,29 @@ func usableRows(items []stock.Item, o Options) ([]Row, string, int) {
 		return rows, "", short
 	}
 	return rows, " (excluded: " + strings.Join(why, "; ") + ")", short
+}
+
+// shopNotes are the notes about the listed candidates' parts: unrated
+// capacitors used under a minimum voltage, and Caution-grade dielectrics.
+func shopNotes(cs []*Candidate, items []stock.Item, o Options) []string {
+	var out []string
+	if o.MinVoltage > 0 && !o.RequireRating {
+		unrated := map[int64]bool{}
+		for _, it := range items {
+			if it.Kind == stock.Capacitor && it.Voltage == 0 {
+				unrated[it.ID] = true
+			}
+		}
+		worst := 0
+		for _, c := range cs {
+			worst = max(worst, unratedUsed(c, unrated))
+		}
+		if worst > 0 {
+			out = append(out, fmt.Sprintf("capacitor rows without a voltage rating were used (up to %d in a candidate): check that they are rated for %s, or require a rating",
+				worst, stock.FormatVoltage(o.MinVoltage)))
+		}
+	}
+	return append(out, cautionNotes(cs)...)
 }
 
 // cautionNotes explains, once per dielectric, that some listed candidates

@@ -107,6 +107,7 @@ func partValue(p stock.Item) string {
 	if p.Kind == stock.Resistor || p.Kind == stock.Capacitor {
 		return stock.FormatValue(p.Value, p.Kind)
 	}
+	p.Location = ""
 	return p.Label()
 }
 
