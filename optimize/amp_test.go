@@ -317,3 +317,35 @@ func ngspiceAC(t *testing.T, netlist string) ([]float64, []complex128) {
 	}
 	return freqs, h
 }
+
+// TestSlowSectionsNameTheNeededGBW: a 6th-order 10 kHz Butterworth with a
+// 100 kHz amplifier: the high-Q section cannot be brought within 0.05 dB;
+// the gain-bandwidth named for it does bring it there, and 1 % less does
+// not (the bisection's precision).
+func TestSlowSectionsNameTheNeededGBW(t *testing.T) {
+	t.Parallel()
+	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 10e3, Order: 6}
+	d, err := synth.NewDesign(spec, 6, synth.OddOnePole)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ws := gridFor(d.Spec).w
+	amps := []Amplifier{GenericAmplifier(synth.OpAmp{GBW: 100e3})}
+	slow := slowSections([]*synth.Design{d}, amps, ws, 0.05)
+	if len(slow) == 0 {
+		t.Fatal("no section is too slow for a 100 kHz amplifier under a 10 kHz filter")
+	}
+	for _, s := range slow {
+		sec := &d.Sections[s.Section-1]
+		if !(s.NeedGBW > 100e3) {
+			t.Fatalf("section %d: needs %g Hz", s.Section, s.NeedGBW)
+		}
+		if e := residual(sec, synth.OpAmp{GBW: s.NeedGBW}, ws); e > 0.05 {
+			t.Errorf("section %d: %.4f dB off at the named %g Hz", s.Section, e, s.NeedGBW)
+		}
+		if e := residual(sec, synth.OpAmp{GBW: s.NeedGBW / 1.02}, ws); e <= 0.05 {
+			t.Errorf("section %d: already %.4f dB at 2 %% less than the named %g Hz", s.Section, e, s.NeedGBW)
+		}
+		t.Logf("section %d (Q %.3f): %.3f dB off with 100 kHz; needs about %.3g Hz", s.Section, s.Q, s.ErrorDB, s.NeedGBW)
+	}
+}
