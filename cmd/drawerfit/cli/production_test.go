@@ -300,7 +300,7 @@ func TestFitSuggestJSON(t *testing.T) {
 		}
 	}
 	out, _, _ := s.run("", "fit", "--plan", s.write("p.toml", intercomPlan), "--combine", "1", "--boards", "80", "--suggest")
-	if !strings.Contains(out, "Purchase suggestions for 80 board(s)") || !strings.Contains(out, "closes the shortfall") {
+	if !strings.Contains(out, "Purchase suggestions for 80 boards") || !strings.Contains(out, "closes the shortfall") {
 		t.Fatalf("plan suggestions:\n%s", out)
 	}
 }
