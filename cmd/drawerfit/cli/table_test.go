@@ -1,6 +1,7 @@
 package cli
 
 import (
+	"path/filepath"
 	"regexp"
 	"strconv"
 	"strings"
@@ -140,6 +141,9 @@ func TestTablesFitTheTerminal(t *testing.T) {
 			{"plan", "lowpass", "--pass", "1k", "--stop", "3k", "--atten", "40"},
 			{"stock", "list"},
 			{"stock", "history"},
+			{"stock", "reorder"},
+			{"build", id, "--boards", "3", "--dry-run"},
+			{"fit", "--plan", filepath.Join("..", "..", "..", "examples", "hydrophone-board.toml"), "--combine", "1", "--top", "2"},
 		} {
 			out := s.ok(args...)
 			checkWidth(t, strings.Join(args, " ")+" at "+strconv.Itoa(width), out, width)
