@@ -140,7 +140,7 @@ type Remedy struct {
 	Section int     `json:"section"`
 	From    float64 `json:"from_tolerance"`
 	To      float64 `json:"to_tolerance"`
-	Yield   float64 `json:"yield"`
+	Yield   float64 `json:"fraction"`
 	CILow   float64 `json:"ci_low"`
 	CIHigh  float64 `json:"ci_high"`
 	// Reaches says whether the target yield is reached.

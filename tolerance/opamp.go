@@ -97,7 +97,7 @@ type OpAmpSection struct {
 	Topology string  `json:"topology"`
 	F0       float64 `json:"f0_hz"`
 	Q        float64 `json:"q"`
-	RealF0   float64 `json:"real_f0_hz,omitempty"`
+	RealF0   float64 `json:"real_f0_hz"`
 	// RequiredGBW is the gain-bandwidth the rule asks for (Hz), Rule the
 	// rule applied and OK whether the op-amp meets it.
 	RequiredGBW float64 `json:"required_gbw_hz"`
@@ -129,10 +129,10 @@ type OpAmpReport struct {
 	// UpperEdge is, for a high-pass, the frequency above the passband where
 	// the op-amp's falling gain brings the response 3 dB down (Hz; 0 for a
 	// low-pass or when not found below 1000·GBW).
-	UpperEdge float64 `json:"upper_edge_hz,omitempty"`
+	UpperEdge float64 `json:"upper_edge_hz"`
 	// PassJudgedUpTo is, for a high-pass, the frequency up to which the
 	// pass band is judged with the amplifier (Hz; HighPassUpperFactor·fp).
-	PassJudgedUpTo float64  `json:"pass_judged_up_to_hz,omitempty"`
+	PassJudgedUpTo float64  `json:"pass_judged_up_to_hz"`
 	Warnings       []string `json:"warnings"`
 }
 

@@ -28,11 +28,11 @@ type Figures struct {
 	PassAtten float64 `json:"pass_atten_db"`
 	// StopAtten is the least attenuation in the stopband (at fs), dB relative
 	// to the passband gain; absent without a stopband.
-	StopAtten *float64 `json:"stop_atten_db,omitempty"`
+	StopAtten *float64 `json:"stop_atten_db"`
 	// Edge is the -3 dB frequency (the ripple-band edge for Chebyshev), Hz.
 	Edge float64 `json:"edge_hz"`
 	// Pass says whether the figures are inside the acceptance window.
-	Pass bool `json:"pass"`
+	Pass bool `json:"passes"`
 }
 
 // Margins are acceptance windows that would give the target yield, dB.
@@ -41,17 +41,17 @@ type Margins struct {
 	Balanced float64 `json:"balanced_db"`
 	// PassOnly widens only the passband limit (stop margin as given);
 	// absent when no passband margin suffices.
-	PassOnly *float64 `json:"pass_only_db,omitempty"`
+	PassOnly *float64 `json:"pass_only_db"`
 	// StopOnly widens only the stopband limit (pass margin as given).
-	StopOnly *float64 `json:"stop_only_db,omitempty"`
+	StopOnly *float64 `json:"stop_only_db"`
 }
 
 // SectionSpread is the spread over the trials of one section's natural
 // frequency (of the pair; of the pole for a 1-pole section) and Q.
 type SectionSpread struct {
 	Section int          `json:"section"` // 1-based
-	F0      *Percentiles `json:"f0_hz"`
-	Q       *Percentiles `json:"q,omitempty"`
+	F0      *Percentiles `json:"f0_spread_hz"`
+	Q       *Percentiles `json:"q_spread"`
 }
 
 // Refit is the analysis of the design fitted again with its edge moved
@@ -63,12 +63,12 @@ type Refit struct {
 	// Pass is where the new target reaches Ap (for Chebyshev where its
 	// ripple band ends), Hz; Ripple the new Chebyshev ripple.
 	Pass   float64 `json:"pass_hz"`
-	Ripple float64 `json:"ripple_db,omitempty"`
+	Ripple float64 `json:"ripple_db"`
 	// PassMargin and StopMargin are the new target's margins at fp and fs
 	// (dB; synth.Placing).
 	PassMargin float64             `json:"pass_margin_db"`
 	StopMargin float64             `json:"stop_margin_db"`
-	Yield      float64             `json:"yield"`
+	Yield      float64             `json:"fraction"`
 	CILow      float64             `json:"ci_low"`
 	CIHigh     float64             `json:"ci_high"`
 	Candidate  *optimize.Candidate `json:"-"`
@@ -79,14 +79,14 @@ type Refit struct {
 type Result struct {
 	// Yield is the fraction of trials that pass; CILow and CIHigh its
 	// Wilson 95 % confidence interval.
-	Yield  float64 `json:"yield"`
+	Yield  float64 `json:"fraction"`
 	CILow  float64 `json:"ci_low"`
 	CIHigh float64 `json:"ci_high"`
 	Trials int     `json:"trials"`
 	Passed int     `json:"passed"`
 	Seed   uint64  `json:"seed"`
 	// Boards forecasts a batch (only when Options.Boards is set).
-	Boards *Boards `json:"boards,omitempty"`
+	Boards *Boards `json:"forecast"`
 	Dist   Dist    `json:"dist"`
 	// PassMargin and StopMargin are the acceptance window used (dB beyond
 	// the spec's limits).
@@ -103,9 +103,9 @@ type Result struct {
 	// EdgeKind names what Edge measures: "-3 dB frequency" or
 	// "ripple-band edge".
 	EdgeKind  string       `json:"edge_kind"`
-	Edge      *Percentiles `json:"edge_hz,omitempty"`
-	PassAtten *Percentiles `json:"pass_atten_db,omitempty"`
-	StopAtten *Percentiles `json:"stop_atten_db,omitempty"`
+	Edge      *Percentiles `json:"edge_spread_hz"`
+	PassAtten *Percentiles `json:"pass_atten_spread_db"`
+	StopAtten *Percentiles `json:"stop_atten_spread_db"`
 	// Sections is the spread of each section's f0 and Q.
 	Sections []SectionSpread `json:"sections"`
 	// Blame lists each component's share of the failures, largest first;
@@ -114,11 +114,11 @@ type Result struct {
 	Unattributed float64 `json:"unattributed"`
 	// Needed is the acceptance window that would give the target yield
 	// (nil when the target is met).
-	Needed        *Margins             `json:"needed_margin,omitempty"`
-	WorstCase     *WorstCase           `json:"worst_case,omitempty"`
+	Needed        *Margins             `json:"needed_margin"`
+	WorstCase     *WorstCase           `json:"worst_case"`
 	Sensitivities []SectionSensitivity `json:"sensitivities"`
-	Remedies      []Remedy             `json:"remedies,omitempty"`
-	Refit         *Refit               `json:"refit,omitempty"`
+	Remedies      []Remedy             `json:"remedies"`
+	Refit         *Refit               `json:"refit"`
 	// Advice and Warnings are sentences for people.
 	Advice   []string `json:"advice"`
 	Warnings []string `json:"warnings"`

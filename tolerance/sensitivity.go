@@ -15,7 +15,7 @@ type ComponentSensitivity struct {
 	F0     float64 `json:"f0"`
 	Q      float64 `json:"q"`
 	// RealF0 is the sensitivity of a 3-pole section's real pole (0 otherwise).
-	RealF0 float64 `json:"real_f0,omitempty"`
+	RealF0 float64 `json:"real_f0"`
 }
 
 // SectionSensitivity lists the sensitivities of one section.
@@ -24,7 +24,7 @@ type SectionSensitivity struct {
 	Topology   string                 `json:"topology"`
 	F0         float64                `json:"f0_hz"` // nominal, of the pair (or the 1-pole section's pole)
 	Q          float64                `json:"q"`
-	RealF0     float64                `json:"real_f0_hz,omitempty"`
+	RealF0     float64                `json:"real_f0_hz"`
 	Components []ComponentSensitivity `json:"components"`
 }
 
@@ -83,7 +83,7 @@ type WorstCase struct {
 	PassOK    bool    `json:"pass_ok"`
 	// StopAtten is the smallest attenuation at fs (dB) and StopOK whether it
 	// is within the acceptance window; absent without a stopband.
-	StopAtten *float64 `json:"stop_atten_db,omitempty"`
+	StopAtten *float64 `json:"stop_atten_db"`
 	StopOK    bool     `json:"stop_ok"`
 	// EdgeLow and EdgeHigh are the lowest and highest edge frequencies (Hz):
 	// the -3 dB point, or the ripple-band edge for Chebyshev.

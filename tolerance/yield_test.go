@@ -348,7 +348,7 @@ func TestJSONFields(t *testing.T) {
 	if err := json.Unmarshal(b, &m); err != nil {
 		t.Fatal(err)
 	}
-	for _, k := range []string{"yield", "ci_low", "ci_high", "trials", "seed", "blame"} {
+	for _, k := range []string{"fraction", "ci_low", "ci_high", "trials", "seed", "blame"} {
 		if _, ok := m[k]; !ok {
 			t.Errorf("JSON lacks %q", k)
 		}

@@ -110,16 +110,16 @@ type jsonPick struct {
 }
 
 type jsonBuild struct {
-	ID        *int64           `json:"id"`
+	ID        *int64           `json:"build_id"`
 	DesignID  string           `json:"design_id"`
 	Boards    int              `json:"boards"`
 	Drawn     bool             `json:"drawn"`
 	Picks     []jsonPick       `json:"picks"`
-	Shortfall []stock.ShortRow `json:"shortfall,omitempty"`
-	Issues    []jsonIssue      `json:"issues,omitempty"`
+	Shortfall []stock.ShortRow `json:"shortfall"`
+	Issues    []jsonIssue      `json:"issues"`
 	// Reorder lists the rows below their minimum once the batch is drawn.
 	Reorder []jsonReorder `json:"reorder"`
-	Error   string        `json:"error,omitempty"`
+	Error   string        `json:"error"`
 }
 
 func runBuild(env *Env, o *buildOptions, id string) error {
@@ -381,8 +381,7 @@ nothing is returned.`,
 				}
 			}
 			if o.json {
-				return writeJSON(env.Out, map[string]any{"id": b.ID, "design_id": b.DesignID, "boards": b.Boards,
-					"undone": true, "returned": returned})
+				return writeJSON(env.Out, jsonUndo{BuildID: b.ID, DesignID: b.DesignID, Boards: b.Boards, Undone: true, Returned: returned})
 			}
 			fmt.Fprintf(env.Out, "Build %d undone: %d parts returned to their rows (ledger reason %q).\n", b.ID, returned, production.UndoReason(b.ID))
 			return nil
@@ -390,4 +389,14 @@ nothing is returned.`,
 	}
 	cmd.Flags().BoolVar(&o.json, "json", false, "print one JSON object")
 	return cmd
+}
+
+// jsonUndo is build undo --json.
+type jsonUndo struct {
+	BuildID  int64  `json:"build_id"`
+	DesignID string `json:"design_id"`
+	Boards   int    `json:"boards"`
+	Undone   bool   `json:"undone"`
+	// Returned is the number of parts put back into their rows.
+	Returned int `json:"returned"`
 }

@@ -41,13 +41,13 @@ parts it took and whether it was undone.`,
 }
 
 type jsonBuildInfo struct {
-	ID       int64   `json:"id"`
+	ID       int64   `json:"build_id"`
 	DesignID string  `json:"design_id"`
 	Design   string  `json:"design"`
 	Boards   int     `json:"boards"`
-	Built    string  `json:"built"`
-	Drawn    int     `json:"drawn"`
-	Undone   *string `json:"undone"`
+	Built    string  `json:"built_at"`
+	Drawn    int     `json:"parts_drawn"`
+	Undone   *string `json:"undone_at"`
 }
 
 func runBuilds(env *Env, o *buildsOptions) error {

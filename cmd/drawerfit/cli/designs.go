@@ -46,16 +46,16 @@ parts and distinct stock rows per board, and how many builds of it stand.`,
 }
 
 type jsonDesignInfo struct {
-	ID          string  `json:"id"`
+	ID          string  `json:"design_id"`
 	Name        string  `json:"name"`
 	Summary     string  `json:"summary"`
-	Filters     int     `json:"filters"`
+	Filters     int     `json:"filter_count"`
 	Boards      int     `json:"boards"`
 	WorstError  float64 `json:"worst_error_db"`
 	PartCount   int     `json:"part_count"`
 	UniqueParts int     `json:"unique_parts"`
 	MeetsSpec   bool    `json:"meets_spec"`
-	Created     string  `json:"created"`
+	Created     string  `json:"saved_at"`
 	Builds      int     `json:"builds"`
 }
 

@@ -696,8 +696,8 @@ type jsonSection struct {
 }
 
 type jsonAtten struct {
-	Pass float64  `json:"pass"`
-	Stop *float64 `json:"stop"`
+	Pass float64  `json:"pass_atten_db"`
+	Stop *float64 `json:"stop_atten_db"`
 }
 
 type jsonStockUse struct {
@@ -706,13 +706,13 @@ type jsonStockUse struct {
 }
 
 type jsonCandidate struct {
-	ID            string    `json:"id,omitempty"`
+	ID            string    `json:"design_id"`
 	Rank          int       `json:"rank"`
 	Order         int       `json:"order"`
 	Arrangement   string    `json:"arrangement"`
 	ResponseError float64   `json:"response_error_db"`
 	MeetsSpec     bool      `json:"meets_spec"`
-	Attenuation   jsonAtten `json:"attenuation_db"`
+	Attenuation   jsonAtten `json:"attenuation"`
 	PartCount     int       `json:"part_count"`
 	UniqueParts   int       `json:"unique_parts"`
 	CostPerBoard  *string   `json:"cost_per_board"`
@@ -730,11 +730,16 @@ type jsonCandidate struct {
 	// ideal amplifiers (null when scored with ideal ones).
 	OpAmps          []jsonAmp `json:"opamps"`
 	IdealOpAmpError *float64  `json:"ideal_opamp_error_db"`
+	// OpAmpCount is the number of op-amp channels (one per section).
+	OpAmpCount int `json:"opamp_count"`
+	// DesignNotes explain the design the candidate builds (edge placement,
+	// stopband margin, ...), as the text prints them.
+	DesignNotes []string `json:"design_notes"`
 	// With the checks (fit_checks.go).
-	Yield         *jsonYield `json:"yield,omitempty"`
-	OpAmp         *jsonOpAmp `json:"opamp,omitempty"`
-	BiasResistors []jsonBias `json:"bias_resistors,omitempty"`
-	Warnings      []string   `json:"warnings,omitempty"`
+	Yield         *jsonYield `json:"yield"`
+	OpAmp         *jsonOpAmp `json:"opamp"`
+	BiasResistors []jsonBias `json:"bias_resistors"`
+	Warnings      []string   `json:"warnings"`
 }
 
 type jsonSpec struct {
@@ -749,13 +754,22 @@ type jsonSpec struct {
 }
 
 type jsonFit struct {
-	Spec       jsonSpec        `json:"spec"`
+	Spec jsonSpec `json:"spec"`
+	// Searched are the orders and arrangements the search tried, as the
+	// text's "Searched:" line lists them.
+	Searched   []jsonSearched  `json:"searched"`
 	Candidates []jsonCandidate `json:"candidates"`
-	Closest    *jsonCandidate  `json:"closest_miss,omitempty"`
-	Limits     []string        `json:"limits,omitempty"`
-	Notes      []string        `json:"notes,omitempty"`
+	Closest    *jsonCandidate  `json:"closest_miss"`
+	Limits     []string        `json:"limits"`
+	Notes      []string        `json:"notes"`
 	// Suggestions are the purchase suggestions (with --suggest).
-	Suggestions []jsonSuggestion `json:"suggestions,omitempty"`
+	Suggestions []jsonSuggestion `json:"suggestions"`
+}
+
+// jsonSearched is one design the search tried: its order and arrangement.
+type jsonSearched struct {
+	Order       int    `json:"order"`
+	Arrangement string `json:"arrangement"`
 }
 
 func specJSON(s synth.Spec, order int) jsonSpec {
@@ -779,7 +793,9 @@ func candidateJSON(c *optimize.Candidate, rank int) jsonCandidate {
 		MeetsSpec: c.MeetsSpec, Attenuation: jsonAtten{Pass: c.PassAtten}, PartCount: c.PartCount,
 		UniqueParts: c.UniqueParts, CostPerBoard: moneyJSON(c.CostPerBoard), BoardsBuildable: c.BoardsBuildable,
 		DielectricCautions: append([]string{}, c.Cautions...),
-		Pareto:             c.Pareto, Netlist: candidateNetlist(c), OpAmps: ampJSON(c), Placement: placementOf(c.Design)}
+		Pareto:             c.Pareto, Netlist: candidateNetlist(c), OpAmps: ampJSON(c), OpAmpCount: len(c.Sections),
+		DesignNotes: append([]string{}, c.Design.Notes...), Placement: placementOf(c.Design),
+		Warnings: []string{}, BiasResistors: []jsonBias{}}
 	if c.Amp != nil {
 		e := c.IdealAmpError
 		jc.IdealOpAmpError = &e
@@ -811,7 +827,12 @@ func candidateJSON(c *optimize.Candidate, rank int) jsonCandidate {
 
 func fitJSON(run *fitRun) jsonFit {
 	res := run.result
-	out := jsonFit{Spec: specJSON(res.Spec, run.spec.Order), Candidates: []jsonCandidate{}, Limits: res.Limits, Notes: res.Notes}
+	out := jsonFit{Spec: specJSON(res.Spec, run.spec.Order), Candidates: []jsonCandidate{},
+		Limits: append([]string{}, res.Limits...), Notes: append([]string{}, res.Notes...), Searched: []jsonSearched{}}
+	for _, d := range res.Designs {
+		c := optimize.Candidate{Design: d}
+		out.Searched = append(out.Searched, jsonSearched{Order: d.Order, Arrangement: c.Arrangement()})
+	}
 	for i, c := range res.Candidates {
 		jc := candidateJSON(c, i+1)
 		if i < len(run.ids) {

@@ -549,22 +549,22 @@ type jsonYield struct {
 	RankByYield   int     `json:"rank_by_yield"`
 	// Analysis is the best candidate's (the failures and their causes;
 	// with --yield the corners and the advice).
-	Analysis *jsonYieldAnalysis `json:"analysis,omitempty"`
+	Analysis *jsonYieldAnalysis `json:"analysis"`
 }
 
 // jsonYieldAnalysis is the yield analysis of the best candidate.
 type jsonYieldAnalysis struct {
 	NominalPassMargin float64              `json:"nominal_pass_margin_db"`
-	NominalStopMargin *float64             `json:"nominal_stop_margin_db,omitempty"`
+	NominalStopMargin *float64             `json:"nominal_stop_margin_db"`
 	FailPassband      int                  `json:"fail_passband"`
 	FailStopband      int                  `json:"fail_stopband"`
 	Blame             []tolerance.Blame    `json:"blame"`
 	Unattributed      float64              `json:"unattributed"`
-	Boards            *tolerance.Boards    `json:"boards,omitempty"`
-	Needed            *tolerance.Margins   `json:"needed_margin,omitempty"`
-	WorstCase         *tolerance.WorstCase `json:"worst_case,omitempty"`
-	Refit             *tolerance.Refit     `json:"refit,omitempty"`
-	Advice            []string             `json:"advice,omitempty"`
+	Boards            *tolerance.Boards    `json:"forecast"`
+	Needed            *tolerance.Margins   `json:"needed_margin"`
+	WorstCase         *tolerance.WorstCase `json:"worst_case"`
+	Refit             *tolerance.Refit     `json:"refit"`
+	Advice            []string             `json:"advice"`
 }
 
 // jsonOpAmp is the op-amp check of one candidate.
@@ -576,7 +576,7 @@ type jsonBias struct {
 	TargetOhms  float64       `json:"target_ohms"`
 	Path        string        `json:"path"`
 	Value       float64       `json:"value"`
-	Arrangement string        `json:"arrangement,omitempty"`
+	Arrangement string        `json:"arrangement"`
 	Tolerance   float64       `json:"tolerance"`
 	Parts       []jsonPartUse `json:"parts"`
 }
@@ -587,7 +587,7 @@ func (fc *fitChecks) fillJSON(jc *jsonCandidate, c *optimize.Candidate) {
 	if cc == nil {
 		return
 	}
-	jc.Warnings = cc.warnings()
+	jc.Warnings = append([]string{}, cc.warnings()...)
 	jc.OpAmp = cc.opAmp
 	if e := cc.est; e != nil {
 		o := fc.tolOpts

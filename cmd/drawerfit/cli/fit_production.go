@@ -579,8 +579,8 @@ type jsonBoardFilter struct {
 }
 
 type jsonBoard struct {
-	ID              string            `json:"id,omitempty"`
-	Name            string            `json:"name,omitempty"`
+	ID              string            `json:"design_id"`
+	Name            string            `json:"name"`
 	Rank            int               `json:"rank"`
 	WorstError      float64           `json:"worst_error_db"`
 	MeetsSpec       bool              `json:"meets_spec"`
@@ -599,11 +599,11 @@ type jsonPlanFit struct {
 		Boards  int              `json:"boards"`
 		Filters []jsonPlanFilter `json:"filters"`
 	} `json:"plan"`
-	Boards      []jsonBoard      `json:"boards"`
+	Boards      []jsonBoard      `json:"candidates"`
 	Split       bool             `json:"split"`
-	Limits      []string         `json:"limits,omitempty"`
-	Notes       []string         `json:"notes,omitempty"`
-	Suggestions []jsonSuggestion `json:"suggestions,omitempty"`
+	Limits      []string         `json:"limits"`
+	Notes       []string         `json:"notes"`
+	Suggestions []jsonSuggestion `json:"suggestions"`
 }
 
 func boardJSON(filters []*optimize.Candidate, specs []production.PlanFilter, b *production.Board, rank int) jsonBoard {

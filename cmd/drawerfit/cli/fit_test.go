@@ -27,7 +27,7 @@ func TestFitJSONShape(t *testing.T) {
 		t.Fatalf("%d candidates, want 3", len(cands))
 	}
 	// The keys the issue lists for every candidate.
-	for _, k := range []string{"rank", "order", "arrangement", "response_error_db", "meets_spec", "attenuation_db",
+	for _, k := range []string{"rank", "order", "arrangement", "response_error_db", "meets_spec", "attenuation",
 		"part_count", "unique_parts", "boards_buildable", "sections", "stock_use", "netlist"} {
 		if _, ok := cands[0].(map[string]any)[k]; !ok {
 			t.Errorf("candidate has no %q", k)
@@ -37,9 +37,9 @@ func TestFitJSONShape(t *testing.T) {
 	if c["rank"].(float64) != 1 || c["order"].(float64) != 4 || c["meets_spec"] != true {
 		t.Errorf("first candidate: rank %v order %v meets %v", c["rank"], c["order"], c["meets_spec"])
 	}
-	att := c["attenuation_db"].(map[string]any)
-	if _, ok := att["pass"].(float64); !ok || att["stop"] != nil {
-		t.Errorf("attenuation_db = %v (stop must be null without --stop)", att)
+	att := c["attenuation"].(map[string]any)
+	if _, ok := att["pass_atten_db"].(float64); !ok || att["stop_atten_db"] != nil {
+		t.Errorf("attenuation = %v (stop must be null without --stop)", att)
 	}
 	sec := c["sections"].([]any)[0].(map[string]any)
 	for _, k := range []string{"topology", "target_f0_hz", "target_q", "f0_hz", "q", "components"} {

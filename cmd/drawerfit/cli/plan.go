@@ -211,7 +211,7 @@ type planJSON struct {
 	Odd           string            `json:"odd"`
 	BesselNorm    *string           `json:"bessel_norm"`
 	Sections      []planSectionJSON `json:"sections"`
-	AttenuationDB planAttenuationDB `json:"attenuation_db"`
+	AttenuationDB planAttenuationDB `json:"attenuation"`
 	Notes         []string          `json:"notes"`
 	Netlist       string            `json:"netlist"`
 	Placement     placementJSON     `json:"placement"`
@@ -221,10 +221,10 @@ type planJSON struct {
 type placementJSON struct {
 	Used          string   `json:"used"` // "inside" or "edge"
 	EdgeHz        float64  `json:"edge_hz"`
-	RippleDB      *float64 `json:"ripple_db,omitempty"`
+	RippleDB      *float64 `json:"ripple_db"`
 	PassMarginDB  float64  `json:"pass_margin_db"`
-	StopMarginDB  *float64 `json:"stop_margin_db,omitempty"`
-	ShiftFraction *float64 `json:"shift,omitempty"`
+	StopMarginDB  *float64 `json:"stop_margin_db"`
+	ShiftFraction *float64 `json:"shift"`
 	Why           string   `json:"why"`
 }
 
@@ -251,7 +251,7 @@ type planSectionJSON struct {
 	Name       string              `json:"name"`
 	F0Hz       float64             `json:"f0_hz"`
 	Q          float64             `json:"q"`
-	RealF0Hz   *float64            `json:"real_f0_hz,omitempty"`
+	RealF0Hz   *float64            `json:"real_f0_hz"`
 	Reason     string              `json:"reason"`
 	Components []planComponentJSON `json:"components"`
 }
@@ -267,8 +267,8 @@ type planComponentJSON struct {
 }
 
 type planAttenuationDB struct {
-	Pass float64  `json:"pass"`
-	Stop *float64 `json:"stop"`
+	Pass float64  `json:"pass_atten_db"`
+	Stop *float64 `json:"stop_atten_db"`
 }
 
 func runPlan(env *Env, o *planOptions) error {

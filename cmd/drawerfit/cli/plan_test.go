@@ -70,14 +70,14 @@ func TestPlanJSONKeys(t *testing.T) {
 	if raw["response"] != "butterworth" || raw["kind"] != "lowpass" {
 		t.Errorf("response %v kind %v", raw["response"], raw["kind"])
 	}
-	att, ok := raw["attenuation_db"].(map[string]any)
+	att, ok := raw["attenuation"].(map[string]any)
 	if !ok {
-		t.Fatalf("attenuation_db %v", raw["attenuation_db"])
+		t.Fatalf("attenuation %v", raw["attenuation"])
 	}
-	if v, present := att["stop"]; !present || v != nil {
-		t.Errorf("attenuation_db.stop should be null without fs, got %v (present %v)", v, present)
+	if v, present := att["stop_atten_db"]; !present || v != nil {
+		t.Errorf("attenuation.stop_atten_db should be null without fs, got %v (present %v)", v, present)
 	}
-	if p, ok := att["pass"].(float64); !ok || !testkit.Abs(1e-9).Equal(p, synth.HalfPowerDB) {
+	if p, ok := att["pass_atten_db"].(float64); !ok || !testkit.Abs(1e-9).Equal(p, synth.HalfPowerDB) {
 		t.Errorf("attenuation_db.pass %v, want 3.0103", att["pass"])
 	}
 	secs, ok := raw["sections"].([]any)

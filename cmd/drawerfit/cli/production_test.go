@@ -33,7 +33,7 @@ func (s *stockEnv) quantities() map[float64]float64 {
 	s.t.Helper()
 	q := map[float64]float64{}
 	for _, it := range s.listJSON() {
-		q[it["id"].(float64)] = it["quantity"].(float64)
+		q[it["stock_id"].(float64)] = it["quantity"].(float64)
 	}
 	return q
 }
@@ -68,9 +68,9 @@ func TestFitSaveShowRoundTrip(t *testing.T) {
 	}
 	var ids []string
 	for _, c := range cands {
-		id, _ := c.(map[string]any)["id"].(string)
+		id, _ := c.(map[string]any)["design_id"].(string)
 		if len(id) != 6 {
-			t.Fatalf("candidate without a saved id: %v", c.(map[string]any)["id"])
+			t.Fatalf("candidate without a saved id: %v", c.(map[string]any)["design_id"])
 		}
 		ids = append(ids, id)
 	}
@@ -79,7 +79,7 @@ func TestFitSaveShowRoundTrip(t *testing.T) {
 		t.Fatalf("show exit %d", code)
 	}
 	first := cands[0].(map[string]any)
-	for _, k := range []string{"id", "order", "arrangement", "response_error_db", "meets_spec", "attenuation_db", "part_count",
+	for _, k := range []string{"design_id", "order", "arrangement", "response_error_db", "meets_spec", "attenuation", "part_count",
 		"unique_parts", "sections", "stock_use", "netlist", "rank"} {
 		if !reflect.DeepEqual(shown[k], first[k]) {
 			t.Errorf("show %s = %v, fit said %v", k, shown[k], first[k])
@@ -90,7 +90,7 @@ func TestFitSaveShowRoundTrip(t *testing.T) {
 	}
 	var list []map[string]any
 	s.jsonOf(&list, "designs", "--json")
-	if len(list) != len(ids) || list[0]["id"] != ids[0] {
+	if len(list) != len(ids) || list[0]["design_id"] != ids[0] {
 		t.Fatalf("designs: %v, want %v first", list, ids)
 	}
 	text := s.ok("show", ids[0])
@@ -124,12 +124,12 @@ func TestPlanBuildUndo(t *testing.T) {
 	plan := s.write("intercom.toml", intercomPlan)
 	var fit struct {
 		Boards []struct {
-			ID          string `json:"id"`
+			ID          string `json:"design_id"`
 			UniqueParts int    `json:"unique_parts"`
 			Filters     []struct {
 				Label string `json:"label"`
 			} `json:"filters"`
-		} `json:"boards"`
+		} `json:"candidates"`
 	}
 	if code := s.jsonOf(&fit, "fit", "--plan", plan, "--combine", "1", "--top", "2", "--save", "--json"); code != 0 {
 		t.Fatalf("plan fit exit %d", code)
@@ -197,7 +197,7 @@ func TestBuildRefusedOnShortfall(t *testing.T) {
 	s := sampleEnv(t)
 	var fit map[string]any
 	s.jsonOf(&fit, "fit", "lowpass", "--pass", "2k", "--order", "2", "--combine", "1", "--top", "1", "--save", "--json")
-	id := fit["candidates"].([]any)[0].(map[string]any)["id"].(string)
+	id := fit["candidates"].([]any)[0].(map[string]any)["design_id"].(string)
 	before := s.quantities()
 	var res jsonBuild
 	if code := s.jsonOf(&res, "build", id, "--boards", "1000", "--json"); code != 1 {
@@ -311,8 +311,8 @@ func TestYieldReadsSavedDesigns(t *testing.T) {
 	plan := s.write("intercom.toml", intercomPlan)
 	var fit struct {
 		Boards []struct {
-			ID string `json:"id"`
-		} `json:"boards"`
+			ID string `json:"design_id"`
+		} `json:"candidates"`
 	}
 	s.jsonOf(&fit, "fit", "--plan", plan, "--combine", "1", "--top", "1", "--save", "--json")
 	id := fit.Boards[0].ID
@@ -323,9 +323,9 @@ func TestYieldReadsSavedDesigns(t *testing.T) {
 	// The whole board: every filter must pass, so its yield is the product
 	// of the filters' (their parts are drawn independently).
 	var board struct {
-		Yield   float64 `json:"yield"`
+		Yield   float64 `json:"fraction"`
 		Filters []struct {
-			Yield float64 `json:"yield"`
+			Yield float64 `json:"fraction"`
 		} `json:"filters"`
 	}
 	if code := s.jsonOf(&board, "yield", id, "--trials", "200", "--json"); code != 0 || len(board.Filters) != 2 {
@@ -334,8 +334,8 @@ func TestYieldReadsSavedDesigns(t *testing.T) {
 	if want := board.Filters[0].Yield * board.Filters[1].Yield; !testkit.Abs(1e-12).Equal(board.Yield, want) {
 		t.Errorf("board yield %v, want the product %v", board.Yield, want)
 	}
-	if board.Filters[1].Yield != y["yield"].(float64) {
-		t.Errorf("filter 2 in the board %v, alone %v", board.Filters[1].Yield, y["yield"])
+	if board.Filters[1].Yield != y["fraction"].(float64) {
+		t.Errorf("filter 2 in the board %v, alone %v", board.Filters[1].Yield, y["fraction"])
 	}
 }
 
@@ -359,7 +359,7 @@ func TestRemovedRowFoundAgainByIdentity(t *testing.T) {
 	s := sampleEnv(t)
 	var fit map[string]any
 	s.jsonOf(&fit, "fit", "lowpass", "--pass", "2k", "--order", "2", "--combine", "1", "--top", "1", "--save", "--json")
-	id := fit["candidates"].([]any)[0].(map[string]any)["id"].(string)
+	id := fit["candidates"].([]any)[0].(map[string]any)["design_id"].(string)
 	var dry jsonBuild
 	if code := s.jsonOf(&dry, "build", id, "--boards", "1", "--dry-run", "--json"); code != 0 {
 		t.Fatalf("dry run exit %d", code)
@@ -367,7 +367,7 @@ func TestRemovedRowFoundAgainByIdentity(t *testing.T) {
 	old := dry.Picks[0].StockID
 	var row map[string]any
 	for _, it := range s.listJSON() {
-		if int64(it["id"].(float64)) == old {
+		if int64(it["stock_id"].(float64)) == old {
 			row = it
 		}
 	}

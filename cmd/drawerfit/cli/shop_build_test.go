@@ -20,7 +20,7 @@ func savedDesign(t *testing.T, s *stockEnv) string {
 	t.Helper()
 	var fit struct {
 		Candidates []struct {
-			ID string `json:"id"`
+			ID string `json:"design_id"`
 		} `json:"candidates"`
 	}
 	if code := s.jsonOf(&fit, "fit", "lowpass", "--pass", "2k", "--order", "4", "--combine", "1", "--top", "1", "--save", "--json",
@@ -125,7 +125,7 @@ func TestBuildBOM(t *testing.T) {
 	}
 	rows := map[string]map[string]any{}
 	for _, it := range s.listJSON() {
-		rows[itoa64(int64(it["id"].(float64)))] = it
+		rows[itoa64(int64(it["stock_id"].(float64)))] = it
 	}
 	picks := map[string][]string{}
 	qty := map[string]string{}
@@ -177,7 +177,7 @@ func TestBuildBOM(t *testing.T) {
 func quantitiesOf(items []map[string]any) map[float64]float64 {
 	q := map[float64]float64{}
 	for _, it := range items {
-		q[it["id"].(float64)] = it["quantity"].(float64)
+		q[it["stock_id"].(float64)] = it["quantity"].(float64)
 	}
 	return q
 }

@@ -19,7 +19,7 @@ func TestFitMinVoltageAndCostJSON(t *testing.T) {
 	items := s.listJSON()
 	rows := map[int64]map[string]any{}
 	for _, it := range items {
-		rows[int64(it["id"].(float64))] = it
+		rows[int64(it["stock_id"].(float64))] = it
 	}
 	for _, args := range [][]string{
 		{"--min-voltage", "60V"},

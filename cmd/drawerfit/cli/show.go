@@ -68,7 +68,7 @@ type jsonIssue struct {
 	Refs       []string `json:"refs"`
 	Needed     int      `json:"needed"`
 	OnHand     int      `json:"on_hand"`
-	Substitute *int64   `json:"substitute,omitempty"`
+	Substitute *int64   `json:"substitute"`
 	Message    string   `json:"message"`
 }
 
@@ -89,7 +89,7 @@ func issuesJSON(is []production.Issue) []jsonIssue {
 type jsonShowFilter struct {
 	jsonCandidate
 	Spec        jsonSpec    `json:"spec"`
-	Saved       string      `json:"saved"`
+	Saved       string      `json:"saved_at"`
 	Boards      int         `json:"boards"`
 	StockIssues []jsonIssue `json:"stock_issues"`
 }
@@ -97,7 +97,7 @@ type jsonShowFilter struct {
 // jsonShowBoard is a board design: the plan fit's board object.
 type jsonShowBoard struct {
 	jsonBoard
-	Saved       string      `json:"saved"`
+	Saved       string      `json:"saved_at"`
 	Boards      int         `json:"boards"`
 	StockIssues []jsonIssue `json:"stock_issues"`
 }

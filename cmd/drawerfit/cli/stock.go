@@ -64,7 +64,7 @@ may only read, and while another process writes.`,
 // The shop's attributes are null when not set: voltage in volts, price as
 // an exact decimal string in the shop's currency, min and pack as counts.
 type itemJSON struct {
-	ID          int64    `json:"id"`
+	ID          int64    `json:"stock_id"`
 	Kind        string   `json:"kind"`
 	Value       float64  `json:"value"`
 	Tolerance   float64  `json:"tolerance"`
@@ -79,12 +79,12 @@ type itemJSON struct {
 	Pack        *int     `json:"pack"`
 	SupplierRef string   `json:"supplier_ref"`
 	// Amplifier rows only (value is 0 for them).
-	Label    string  `json:"label,omitempty"`
-	Channels int     `json:"channels,omitempty"`
-	GBW      float64 `json:"gbw_hz,omitempty"`
-	DCGain   float64 `json:"dc_gain_db,omitempty"`
-	Slew     float64 `json:"slew_v_per_us,omitempty"`
-	Supply   string  `json:"supply,omitempty"`
+	Label    string  `json:"label"`
+	Channels int     `json:"channels"`
+	GBW      float64 `json:"gbw_hz"`
+	DCGain   float64 `json:"dc_gain_db"`
+	Slew     float64 `json:"slew_v_per_us"`
+	Supply   string  `json:"supply"`
 }
 
 func toItemJSON(it stock.Item) itemJSON {
@@ -227,9 +227,9 @@ func runStockImport(ctx context.Context, env *Env, o stockImportOptions) error {
 		return err
 	}
 	if o.JSON {
-		return writeJSON(env.Out, map[string]any{
-			"rows": sum.Rows, "added": sum.Added, "merged": sum.Merged, "kept": sum.Kept,
-			"removed": sum.Removed, "units": sum.Units, "replace": o.Replace, "ignored_columns": append([]string{}, info.Ignored...),
+		return writeJSON(env.Out, jsonImport{
+			Rows: sum.Rows, Added: sum.Added, Merged: sum.Merged, Kept: sum.Kept,
+			Removed: sum.Removed, Units: sum.Units, Replace: o.Replace, IgnoredColumns: append([]string{}, info.Ignored...),
 		})
 	}
 	fmt.Fprintf(env.Out, "imported %d rows from %s into %s\n", sum.Rows, name, db.Path())
@@ -567,7 +567,7 @@ func runStockAdd(ctx context.Context, env *Env, o stockAddOptions) error {
 		return err
 	}
 	if o.JSON {
-		return writeJSON(env.Out, map[string]any{"item": toItemJSON(got), "merged": merged})
+		return writeJSON(env.Out, jsonAdd{Item: toItemJSON(got), Merged: merged})
 	}
 	if merged {
 		fmt.Fprintf(env.Out, "#%d %s: %+d, now %d on hand\n", got.ID, got.Label(), o.Qty, got.Quantity)
@@ -874,13 +874,13 @@ type stockHistoryOptions struct {
 
 // movementJSON is the stable JSON form of a ledger entry.
 type movementJSON struct {
-	ID      int64    `json:"id"`
+	ID      int64    `json:"movement_id"`
 	StockID int64    `json:"stock_id"`
 	Delta   int      `json:"delta"`
 	Balance int      `json:"balance"`
 	Reason  string   `json:"reason"`
-	At      string   `json:"at"`
-	Part    itemJSON `json:"part"`
+	At      string   `json:"recorded_at"`
+	Part    itemJSON `json:"item"`
 }
 
 func newStockHistoryCmd(env *Env) *cobra.Command {
@@ -1046,4 +1046,23 @@ func plural(n int, noun string) string {
 		return "1 " + noun
 	}
 	return strconv.Itoa(n) + " " + noun + "s"
+}
+
+// jsonImport is stock import --json: what the import did.
+type jsonImport struct {
+	Rows           int      `json:"rows"`
+	Added          int      `json:"added"`
+	Merged         int      `json:"merged"`
+	Kept           int      `json:"kept"`
+	Removed        int      `json:"removed"`
+	Units          int      `json:"units"`
+	Replace        bool     `json:"replace"`
+	IgnoredColumns []string `json:"ignored_columns"`
+}
+
+// jsonAdd is stock add --json: the row as it is now, and whether the part
+// joined an existing row.
+type jsonAdd struct {
+	Item   itemJSON `json:"item"`
+	Merged bool     `json:"existing_row"`
 }

@@ -124,14 +124,15 @@ func TestStockListJSONKeys(t *testing.T) {
 		keys = append(keys, k)
 	}
 	sort.Strings(keys)
-	want := []string{"dielectric", "id", "kind", "location", "min", "note", "pack", "package", "price", "quantity",
-		"supplier_ref", "tolerance", "value", "voltage"}
+	// Every key, the amplifier columns too (null or zero for a passive row).
+	want := []string{"channels", "dc_gain_db", "dielectric", "gbw_hz", "kind", "label", "location", "min", "note", "pack", "package",
+		"price", "quantity", "slew_v_per_us", "stock_id", "supplier_ref", "supply", "tolerance", "value", "voltage"}
 	if !reflect.DeepEqual(keys, want) {
 		t.Fatalf("keys %v, want %v", keys, want)
 	}
 	first := items[0]
 	if first["kind"] != "resistor" || first["value"] != 4700.0 || first["tolerance"] != 0.01 || first["quantity"] != 50.0 ||
-		first["package"] != "0805" || first["dielectric"] != "" || first["note"] != "" || first["id"] != 1.0 ||
+		first["package"] != "0805" || first["dielectric"] != "" || first["note"] != "" || first["stock_id"] != 1.0 ||
 		first["price"] != nil || first["min"] != nil || first["voltage"] != nil || first["pack"] != nil {
 		t.Fatalf("first item %v", first)
 	}
@@ -245,7 +246,7 @@ func TestStockExportImportRoundTrip(t *testing.T) {
 	a, b := s.listJSON(), fresh.listJSON()
 	for _, items := range [][]map[string]any{a, b} {
 		for _, it := range items {
-			delete(it, "id")
+			delete(it, "stock_id")
 		}
 	}
 	if !reflect.DeepEqual(a, b) {
@@ -300,7 +301,7 @@ func TestStockAmplifierRows(t *testing.T) {
 	if len(items) != 1 || items[0]["label"] != "QA-10" || items[0]["quantity"] != 8.0 || items[0]["channels"] != 2.0 || items[0]["gbw_hz"] != 1e7 {
 		t.Fatalf("list --kind opamp: %v", items)
 	}
-	id := fmt.Sprint(items[0]["id"])
+	id := fmt.Sprint(items[0]["stock_id"])
 	s.ok("stock", "set", id, "--qty", "5", "--reason", "three used on the bench")
 	hist := s.ok("stock", "history", id)
 	if !strings.Contains(hist, "three used on the bench") || !strings.Contains(hist, "QA-10") {
@@ -340,7 +341,7 @@ func TestStockAddSetRemoveHistory(t *testing.T) {
 		t.Fatalf("history: %v", hist)
 	}
 	for i, h := range hist {
-		if h["delta"] != wantDelta[i] || h["reason"] != wantReason[i] || h["at"] != "2030-03-01T09:30:00Z" || h["stock_id"] != 1.0 {
+		if h["delta"] != wantDelta[i] || h["reason"] != wantReason[i] || h["recorded_at"] != "2030-03-01T09:30:00Z" || h["stock_id"] != 1.0 {
 			t.Errorf("entry %d: %v", i, h)
 		}
 	}

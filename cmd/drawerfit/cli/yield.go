@@ -182,9 +182,9 @@ type yieldReport struct {
 	// Placement is where the design's target sits in its specification.
 	Placement placementJSON `json:"placement"`
 	*tolerance.Result
-	OpAmp         *tolerance.OpAmpReport   `json:"opamp,omitempty"`
+	OpAmp         *tolerance.OpAmpReport   `json:"opamp"`
 	Practical     []string                 `json:"practical"`
-	BiasResistors []tolerance.BiasResistor `json:"bias_resistors,omitempty"`
+	BiasResistors []tolerance.BiasResistor `json:"bias_resistors"`
 	Caution       string                   `json:"caution"`
 }
 

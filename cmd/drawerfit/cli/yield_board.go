@@ -47,7 +47,7 @@ func (s *savedDesigns) BoardFilters(ctx context.Context, id string) ([]boardFilt
 type boardFilterYield struct {
 	Filter int     `json:"filter"`
 	Label  string  `json:"label"`
-	Yield  float64 `json:"yield"`
+	Yield  float64 `json:"fraction"`
 	CILow  float64 `json:"ci_low"`
 	CIHigh float64 `json:"ci_high"`
 	Trials int     `json:"trials"`
@@ -58,12 +58,12 @@ type boardFilterYield struct {
 
 type boardYield struct {
 	Design  string             `json:"design"`
-	Yield   float64            `json:"yield"`
+	Yield   float64            `json:"fraction"`
 	CILow   float64            `json:"ci_low"`
 	CIHigh  float64            `json:"ci_high"`
 	Method  string             `json:"method"`
 	Filters []boardFilterYield `json:"filters"`
-	Boards  *tolerance.Boards  `json:"boards,omitempty"`
+	Boards  *tolerance.Boards  `json:"forecast"`
 	Caution string             `json:"caution"`
 }
 

@@ -112,7 +112,7 @@ func TestYieldJSON(t *testing.T) {
 	if err := json.Unmarshal([]byte(out), &raw); err != nil {
 		t.Fatalf("JSON: %v\n%s", err, out)
 	}
-	for _, k := range []string{"yield", "ci_low", "ci_high", "trials", "seed", "blame", "caution", "practical"} {
+	for _, k := range []string{"fraction", "ci_low", "ci_high", "trials", "seed", "blame", "caution", "practical"} {
 		if _, ok := raw[k]; !ok {
 			t.Errorf("JSON lacks %q", k)
 		}
@@ -120,7 +120,7 @@ func TestYieldJSON(t *testing.T) {
 	if raw["trials"].(float64) != 600 || raw["seed"].(float64) != 9 {
 		t.Errorf("trials %v seed %v", raw["trials"], raw["seed"])
 	}
-	y := raw["yield"].(float64)
+	y := raw["fraction"].(float64)
 	if !(raw["ci_low"].(float64) <= y && y <= raw["ci_high"].(float64)) {
 		t.Errorf("yield %v outside its interval %v..%v", y, raw["ci_low"], raw["ci_high"])
 	}
