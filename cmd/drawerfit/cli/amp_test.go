@@ -15,7 +15,7 @@ func ampRow(t *testing.T, s *stockEnv, label string) string {
 	t.Helper()
 	for _, it := range s.listJSON("--kind", "opamp") {
 		if it["label"] == label {
-			return strconv.Itoa(int(it["id"].(float64)))
+			return strconv.Itoa(int(it["stock_id"].(float64)))
 		}
 	}
 	t.Fatalf("no amplifier row %q", label)
@@ -35,7 +35,7 @@ func TestAmplifierPackagesThroughProduction(t *testing.T) {
 	net := filepath.Join(s.dir, "filter.cir")
 	var fit struct {
 		Candidates []struct {
-			ID     string `json:"id"`
+			ID     string `json:"design_id"`
 			OpAmps []struct {
 				StockID     int64    `json:"stock_id"`
 				Packages    int      `json:"packages_per_board"`
@@ -76,7 +76,7 @@ func TestAmplifierPackagesThroughProduction(t *testing.T) {
 	}
 	qtyOf := func() float64 {
 		for _, it := range s.listJSON("--kind", "opamp") {
-			if strconv.Itoa(int(it["id"].(float64))) == quad {
+			if strconv.Itoa(int(it["stock_id"].(float64))) == quad {
 				return it["quantity"].(float64)
 			}
 		}

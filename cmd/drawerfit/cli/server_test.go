@@ -50,7 +50,7 @@ func TestCopyToServerRoundTrip(t *testing.T) {
 	s := sampleEnv(t)
 	var fit map[string]any
 	s.jsonOf(&fit, "fit", "lowpass", "--pass", "2k", "--order", "2", "--combine", "1", "--top", "1", "--save", "--json")
-	id := fit["candidates"].([]any)[0].(map[string]any)["id"].(string)
+	id := fit["candidates"].([]any)[0].(map[string]any)["design_id"].(string)
 	s.ok("build", id, "--boards", "2")
 	before := map[string]string{}
 	views := [][]string{{"stock", "export"}, {"stock", "history", "--json"}, {"designs", "--json"}, {"builds", "--json"}}
