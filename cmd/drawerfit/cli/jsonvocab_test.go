@@ -193,7 +193,7 @@ func TestJSONOutputsValidate(t *testing.T) {
 	}
 	id := fit.Candidates[0].DesignID
 	check("fit", "fit", "lowpass", "--pass", "1k", "--stop", "1.05k", "--atten", "80", "--order", "4", "--combine", "1")
-	out = check("fit-plan", "fit", "--plan", plan, "--combine", "1", "--top", "1", "--save")
+	out = check("fit-plan", "fit", "--plan", plan, "--combine", "1", "--top", "1", "--boards", "1", "--save")
 	var pf struct {
 		Candidates []struct {
 			DesignID string `json:"design_id"`
