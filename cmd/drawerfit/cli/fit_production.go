@@ -297,6 +297,7 @@ type planFileFilter struct {
 	Order      *int     `toml:"order"`
 	Odd        string   `toml:"odd"`
 	BesselNorm string   `toml:"bessel-norm"`
+	Placement  string   `toml:"placement"`
 }
 
 // readPlan reads and checks a plan file; every mistake is a fault.Invalid
@@ -320,7 +321,7 @@ func readPlan(path string) (production.Plan, error) {
 		for _, k := range und {
 			keys = append(keys, k.String())
 		}
-		return p, fault.Invalidf("plan file %s: unknown keys %s (a filter takes label, kind, pass, pass-atten, stop, atten, response, ripple, order, odd, bessel-norm)",
+		return p, fault.Invalidf("plan file %s: unknown keys %s (a filter takes label, kind, pass, pass-atten, stop, atten, response, ripple, order, odd, bessel-norm, placement)",
 			path, strings.Join(keys, ", "))
 	}
 	p.Name, p.Boards = strings.TrimSpace(pf.Name), pf.Boards
@@ -335,7 +336,10 @@ func readPlan(path string) (production.Plan, error) {
 		if strings.TrimSpace(f.Label) != "" {
 			where = fmt.Sprintf("plan file %s, filter %q", path, f.Label)
 		}
-		po := planOptions{kind: f.Kind, response: f.Response, odd: f.Odd, besselNorm: f.BesselNorm}
+		po := planOptions{kind: f.Kind, response: f.Response, odd: f.Odd, besselNorm: f.BesselNorm, placement: f.Placement}
+		if strings.TrimSpace(po.placement) == "" {
+			po.placement = "inside" // as the fit of one filter
+		}
 		if po.response == "" {
 			po.response = "butterworth"
 		}

@@ -27,7 +27,7 @@ type planOptions struct {
 	order      int
 	odd        string
 	besselNorm string
-	placement  string // "inside" or "edge"; empty: edge (board plan files)
+	placement  string // "inside" or "edge"; empty: edge
 	anchor     string
 	json       bool
 	netlist    string
