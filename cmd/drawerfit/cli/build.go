@@ -210,13 +210,18 @@ func runBuild(env *Env, o *buildOptions, id string) error {
 			return err
 		}
 	} else {
-		printBuild(env, env.Out, d, o, res, buildErr)
+		// A file written to standard output ("-") keeps it to itself.
+		textOut := env.Out
+		if o.csv == "-" || o.bom == "-" {
+			textOut = env.Err
+		}
+		printBuild(env, textOut, d, o, res, buildErr)
 		if len(reorder) > 0 {
-			fmt.Fprintf(env.Out, "\nTo reorder once the batch is drawn (%s below minimum or short; stock reorder lists the same):\n", plural(len(reorder), "row"))
-			printReorder(env, env.Out, reorder, !res.Drawn())
+			fmt.Fprintf(textOut, "\nTo reorder once the batch is drawn (%s below minimum or short; stock reorder lists the same):\n", plural(len(reorder), "row"))
+			printReorder(env, textOut, reorder, !res.Drawn())
 		}
 		if o.bom != "" && o.bom != "-" {
-			fmt.Fprintf(env.Out, "\nBill of materials written to %s: %s.\n", o.bom, bomSummary(bomLines, o.boards))
+			fmt.Fprintf(textOut, "\nBill of materials written to %s: %s.\n", o.bom, bomSummary(bomLines, o.boards))
 		}
 	}
 	if refused {

@@ -131,3 +131,25 @@ func TestOutputFileKinds(t *testing.T) {
 		t.Errorf("a folder: exit %d %q", code, errs)
 	}
 }
+
+// TestDashIsStandardOutput: "-" writes the file to standard output, and
+// the command's other lines then go to standard error.
+func TestDashIsStandardOutput(t *testing.T) {
+	t.Parallel()
+	s := sampleEnv(t)
+	out, _, code := s.run("", "plan", "lowpass", "--pass", "1k", "--order", "2", "--netlist", "-", "--json")
+	if code != 0 || !strings.Contains(out, ".end") {
+		t.Errorf("plan --netlist -: exit %d\n%s", code, out)
+	}
+	var fit map[string]any
+	s.jsonOf(&fit, "fit", "lowpass", "--pass", "2k", "--order", "2", "--combine", "1", "--top", "1", "--save", "--json")
+	id := fit["candidates"].([]any)[0].(map[string]any)["id"].(string)
+	out, errs, code := s.run("", "build", id, "--boards", "1", "--dry-run", "--csv", "-")
+	if code != 0 || !strings.HasPrefix(out, "location,stock_id") || !strings.Contains(errs, "Pick list") && !strings.Contains(errs, "pick") {
+		t.Errorf("build --csv -: exit %d\nstdout:\n%s\nstderr:\n%s", code, out, errs)
+	}
+	out, errs, code = s.run("", "report", id, "-o", "-")
+	if code != 0 || !strings.HasPrefix(strings.TrimSpace(out), "<!DOCTYPE html>") || !strings.HasSuffix(strings.TrimSpace(out), "</html>") {
+		t.Errorf("report -o -: exit %d, stdout starts %.40q ends %.40q, stderr %q", code, out, out[max(0, len(out)-40):], errs)
+	}
+}

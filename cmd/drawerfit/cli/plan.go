@@ -3,7 +3,7 @@ package cli
 import (
 	"fmt"
 	"math"
-	"os"
+	"io"
 	"strconv"
 	"strings"
 
@@ -31,6 +31,7 @@ type planOptions struct {
 	anchor     string
 	json       bool
 	netlist    string
+	force      bool
 
 	// which optional numbers were given explicitly
 	passAttenSet, attenSet, rippleSet, orderSet, besselNormSet bool
@@ -100,7 +101,8 @@ and simulates in any SPICE-compatible program: input node in, output out.`,
 	bindSpecFlags(f, o)
 	f.StringVar(&o.anchor, "anchor", "", "value of each section's largest capacitor, e.g. 10n (default: resistors mid-range)")
 	f.BoolVar(&o.json, "json", false, "print one JSON object")
-	f.StringVar(&o.netlist, "netlist", "", "write the SPICE netlist to this file")
+	f.StringVar(&o.netlist, "netlist", "", "write the SPICE netlist to this file (- for standard output)")
+	f.BoolVar(&o.force, "force", false, forceHelp)
 	return cmd
 }
 
@@ -298,7 +300,7 @@ func runPlan(env *Env, o *planOptions) error {
 		Refs: refs,
 	})
 	if o.netlist != "" {
-		if err := os.WriteFile(o.netlist, []byte(netlist), 0o644); err != nil {
+		if err := env.writeOutputFile(o.netlist, o.force, func(w io.Writer) error { _, err := io.WriteString(w, netlist); return err }); err != nil {
 			return fmt.Errorf("write netlist: %w", err)
 		}
 	}

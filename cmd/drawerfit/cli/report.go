@@ -215,7 +215,7 @@ func runReport(env *Env, o *reportOptions, id string) error {
 				what += " (" + f.Label + ")"
 			}
 		}
-		fmt.Fprintf(env.Out, "%s: %s\n", path, what)
+		fmt.Fprintf(summaryOut(env, path), "%s: %s\n", path, what)
 	}
 	if board {
 		batch, err := production.NewBatch(d, max(d.Boards, 1))
@@ -248,7 +248,7 @@ func runReport(env *Env, o *reportOptions, id string) error {
 				}
 			}
 		}
-		fmt.Fprintf(env.Out, "%s: design %s, a board of %d filters\n", o.output, d.ID, len(sheets))
+		fmt.Fprintf(summaryOut(env, o.output), "%s: design %s, a board of %d filters\n", o.output, d.ID, len(sheets))
 	}
 	return nil
 }
@@ -306,4 +306,13 @@ func pickFilters(d *production.Design, sel string) ([]int, error) {
 		labels = append(labels, strconv.Quote(f.Label))
 	}
 	return nil, fault.NotFoundf("design %s has no filter labelled %q (labels: %s)", d.ID, sel, strings.Join(labels, ", "))
+}
+
+// summaryOut is where a line about a written file goes: standard output,
+// unless the file itself went there ("-").
+func summaryOut(env *Env, path string) io.Writer {
+	if path == "-" {
+		return env.Err
+	}
+	return env.Out
 }
