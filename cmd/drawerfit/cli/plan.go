@@ -2,8 +2,8 @@ package cli
 
 import (
 	"fmt"
-	"math"
 	"io"
+	"math"
 	"strconv"
 	"strings"
 
