@@ -401,7 +401,7 @@ func runPlan(env *Env, o *planOptions) error {
 	for _, wn := range warnings {
 		fmt.Fprintln(w, "Note: "+wn)
 	}
-	if o.netlist != "" {
+	if o.netlist != "" && o.netlist != "-" {
 		fmt.Fprintf(w, "SPICE netlist written to %s\n", o.netlist)
 	}
 	return nil

@@ -227,7 +227,11 @@ func TestPlanNetlistFile(t *testing.T) {
 	if string(b) != p.Netlist {
 		t.Error("netlist file differs from the JSON netlist")
 	}
-	code, out, _ := runPlanCmd(t, "plan", "lowpass", "--pass", "1k", "--order", "5", "--netlist", path)
+	// The file exists now: replacing it needs --force.
+	if code, _, _ := runPlanCmd(t, "plan", "lowpass", "--pass", "1k", "--order", "5", "--netlist", path); code != 1 {
+		t.Errorf("replacing the netlist without --force: exit %d", code)
+	}
+	code, out, _ := runPlanCmd(t, "plan", "lowpass", "--pass", "1k", "--order", "5", "--netlist", path, "--force")
 	if code != 0 || !strings.Contains(out, "SPICE netlist written to "+path) {
 		t.Errorf("exit %d, output %q", code, out)
 	}
