@@ -143,7 +143,7 @@ func TestDashIsStandardOutput(t *testing.T) {
 	}
 	var fit map[string]any
 	s.jsonOf(&fit, "fit", "lowpass", "--pass", "2k", "--order", "2", "--combine", "1", "--top", "1", "--save", "--json")
-	id := fit["candidates"].([]any)[0].(map[string]any)["id"].(string)
+	id := fit["candidates"].([]any)[0].(map[string]any)["design_id"].(string)
 	out, errs, code := s.run("", "build", id, "--boards", "1", "--dry-run", "--csv", "-")
 	if code != 0 || !strings.HasPrefix(out, "location,stock_id") || !strings.Contains(errs, "Pick list") && !strings.Contains(errs, "pick") {
 		t.Errorf("build --csv -: exit %d\nstdout:\n%s\nstderr:\n%s", code, out, errs)
