@@ -58,7 +58,8 @@ type Options struct {
 // no source; docs/check-values.md, "Practical rules").
 func DefaultOptions() Options {
 	return Options{Combine: 2, Boards: 1, Rank: RankBalanced, Top: 10, GoodEnough: 0.05,
-		RMin: 1e3, RMax: 1e6, CMin: 100e-12, CMax: 10e-6, Shortlist: 10}
+		RMin: synth.PracticalLimits.RMin, RMax: synth.PracticalLimits.RMax,
+		CMin: synth.PracticalLimits.CMin, CMax: synth.PracticalLimits.CMax, Shortlist: 10}
 }
 
 // Result is the outcome of a fit.

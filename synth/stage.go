@@ -108,15 +108,9 @@ type Scaling struct {
 	// geometric middle of RMin..RMax.
 	Anchor float64
 	// RMin and RMax are the allowed resistor range in ohms; 0 means the
-	// defaults 1 kΩ and 1 MΩ (common practice, no source; docs/check-values.md, "Practical rules").
+	// practical limits, PracticalLimits.RMin and RMax.
 	RMin, RMax float64
 }
-
-// Default resistor range for scaling (common practice, no source).
-const (
-	DefaultRMin = 1e3
-	DefaultRMax = 1e6
-)
 
 // Normalised returns the element values of section i normalised to the
 // design's passband edge at 1 rad/s, with unit resistors for a low-pass and
@@ -141,10 +135,10 @@ func (d *Design) Normalised(i int) ([]float64, error) {
 // Normalised.
 func (d *Design) Scale(sc Scaling) ([]Stage, error) {
 	if sc.RMin == 0 {
-		sc.RMin = DefaultRMin
+		sc.RMin = PracticalLimits.RMin
 	}
 	if sc.RMax == 0 {
-		sc.RMax = DefaultRMax
+		sc.RMax = PracticalLimits.RMax
 	}
 	if !finitePositive(sc.RMin) || !finitePositive(sc.RMax) || sc.RMin > sc.RMax {
 		return nil, fault.Invalidf("resistor range %g..%g Ω is not a positive range", sc.RMin, sc.RMax)

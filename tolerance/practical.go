@@ -11,24 +11,9 @@ import (
 	"drawerfit/synth"
 )
 
-// Limits of the practical checks (common practice, no source; docs/check-values.md,
-// "Practical rules"; Op Amps for Everyone 16.8.3 recommends 1 kΩ to 100 kΩ
-// for general use).
-const (
-	// MinResistor: below it a resistor loads the op-amp output (and the
-	// previous stage).
-	MinResistor = 1e3
-	// MaxResistor: above it resistor noise, bias-current error and stray
-	// capacitance start to matter ("a few hundred kΩ").
-	MaxResistor = 470e3
-	// MinCapacitor: below it stray and op-amp input capacitance are a
-	// noticeable part of the value.
-	MinCapacitor = 100e-12
-)
-
 // Practical returns the warnings a bench technician would give about the
-// candidate's values and parts: resistors outside MinResistor..MaxResistor,
-// capacitors below MinCapacitor and class-2 ceramic dielectrics (X7R, X5R,
+// candidate's values and parts: values outside synth.PracticalLimits (the
+// limits the fit searches within by default) and class-2 ceramic dielectrics (X7R, X5R,
 // Y5V, ...) in the signal path. The thresholds are common practice, no
 // source, and every warning says so. Errors: fault.Invalid for a malformed
 // candidate.
@@ -40,16 +25,20 @@ func Practical(c *optimize.Candidate) ([]string, error) {
 	w := []string{}
 	for ci := range b.comps {
 		bc := &b.comps[ci]
+		lim := synth.PracticalLimits
 		switch {
-		case bc.kind == synth.Resistor && bc.nominal < MinResistor:
-			w = append(w, fmt.Sprintf("%s is %s, below about 1 kΩ: it loads the op-amp and the stage before (common practice, no source)",
-				b.label(ci), ohms(bc.nominal)))
-		case bc.kind == synth.Resistor && bc.nominal > MaxResistor:
-			w = append(w, fmt.Sprintf("%s is %s, above a few hundred kΩ: noise, bias-current error and stray capacitance start to matter (common practice, no source)",
-				b.label(ci), ohms(bc.nominal)))
-		case bc.kind == synth.Capacitor && bc.nominal < MinCapacitor:
-			w = append(w, fmt.Sprintf("%s is %s, below about 100 pF: stray and op-amp input capacitance become a noticeable part of it (common practice, no source)",
-				b.label(ci), farads(bc.nominal)))
+		case bc.kind == synth.Resistor && bc.nominal < lim.RMin:
+			w = append(w, fmt.Sprintf("%s is %s, below about %s: it loads the op-amp and the stage before (common practice, no source)",
+				b.label(ci), ohms(bc.nominal), ohms(lim.RMin)))
+		case bc.kind == synth.Resistor && bc.nominal > lim.RMax:
+			w = append(w, fmt.Sprintf("%s is %s, above about %s: noise, bias-current error and stray capacitance start to matter (common practice, no source)",
+				b.label(ci), ohms(bc.nominal), ohms(lim.RMax)))
+		case bc.kind == synth.Capacitor && bc.nominal < lim.CMin:
+			w = append(w, fmt.Sprintf("%s is %s, below about %s: stray and op-amp input capacitance become a noticeable part of it (common practice, no source)",
+				b.label(ci), farads(bc.nominal), farads(lim.CMin)))
+		case bc.kind == synth.Capacitor && bc.nominal > lim.CMax:
+			w = append(w, fmt.Sprintf("%s is %s, above about %s: large capacitors of the stable dielectrics are rare and bulky (common practice, no source)",
+				b.label(ci), farads(bc.nominal), farads(lim.CMax)))
 		}
 		if bc.kind != synth.Capacitor {
 			continue

@@ -222,7 +222,7 @@ func TestPracticalWarnings(t *testing.T) {
 		t.Fatal(err)
 	}
 	joined := strings.Join(w, "\n")
-	for _, want := range []string{"R1 (section 1) is 680 Ω, below about 1 kΩ", "R2 (section 1) is 560 kΩ, above a few hundred kΩ",
+	for _, want := range []string{"R1 (section 1) is 680 Ω, below about 1 kΩ", "R2 (section 1) is 560 kΩ, above about 470 kΩ",
 		"C2 (Cg, section 1) is 47 pF, below about 100 pF", "C1 (Cf, section 1) uses a X7R ceramic"} {
 		if !strings.Contains(joined, want) {
 			t.Errorf("warnings lack %q:\n%s", want, joined)

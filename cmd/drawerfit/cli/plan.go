@@ -473,29 +473,23 @@ func formatPart(v float64, k synth.PartKind) string {
 	return stock.FormatValue(v, stock.Resistor)
 }
 
-// Practical ranges (common practice, no source; docs/check-values.md, "Practical rules"):
-// resistors 1 kΩ to 1 MΩ, capacitors from 100 pF.
-const (
-	planRMin = synth.DefaultRMin
-	planRMax = synth.DefaultRMax
-	planCMin = 100e-12
-)
-
-// rangeWarnings lists parts outside the practical ranges.
+// rangeWarnings words the parts outside the practical limits
+// (synth.PracticalLimits, the same the fit and the practical checks use).
 func rangeWarnings(stages []synth.Stage, refs func(int, int, int) string) []string {
+	lim := synth.PracticalLimits
 	var out []string
-	for i, st := range stages {
-		for j, e := range st.Topology.Elements() {
-			for k, v := range st.Positions[j].Parts {
-				switch {
-				case e.Kind == synth.Resistor && (v < planRMin || v > planRMax):
-					out = append(out, fmt.Sprintf("%s = %s is outside the practical range 1 kΩ to 1 MΩ; try another --anchor",
-						refs(i, j, k), formatPart(v, e.Kind)))
-				case e.Kind == synth.Capacitor && v < planCMin:
-					out = append(out, fmt.Sprintf("%s = %s is below 100 pF, where stray and op-amp input capacitance matter; try a larger --anchor",
-						refs(i, j, k), formatPart(v, e.Kind)))
-				}
-			}
+	for _, is := range lim.Outside(stages) {
+		ref, val := refs(is.Stage, is.Position, is.Part), formatPart(is.Value, is.Kind)
+		switch {
+		case is.Kind == synth.Resistor:
+			out = append(out, fmt.Sprintf("%s = %s is outside the practical range %s to %s; try another --anchor",
+				ref, val, formatPart(lim.RMin, is.Kind), formatPart(lim.RMax, is.Kind)))
+		case is.Low:
+			out = append(out, fmt.Sprintf("%s = %s is below %s, where stray and op-amp input capacitance matter; try a larger --anchor",
+				ref, val, formatPart(lim.CMin, is.Kind)))
+		default:
+			out = append(out, fmt.Sprintf("%s = %s is above %s, the largest practical capacitor; try a smaller --anchor",
+				ref, val, formatPart(lim.CMax, is.Kind)))
 		}
 	}
 	return out

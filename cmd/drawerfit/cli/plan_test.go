@@ -205,11 +205,12 @@ func TestPlanAnchor(t *testing.T) {
 			}
 		}
 	}
-	// Default: the resistors' geometric middle at sqrt(1 kΩ · 1 MΩ).
+	// Default: the resistors' geometric middle at sqrt(1 kΩ · 470 kΩ), the
+	// middle of the practical range (synth.PracticalLimits).
 	p := planJSONOf(t, "lowpass", "--pass", "3k", "--order", "4")
 	for _, c := range p.Sections[0].Components {
-		if c.Kind == "resistor" && !testkit.Abs(1e-6).Equal(c.Value, math.Sqrt(1e9)) {
-			t.Errorf("default-scaled %s = %g Ω, want 31.62 kΩ", c.Ref, c.Value)
+		if c.Kind == "resistor" && !testkit.Abs(1e-6).Equal(c.Value, math.Sqrt(1e3*470e3)) {
+			t.Errorf("default-scaled %s = %g Ω, want 21.68 kΩ", c.Ref, c.Value)
 		}
 	}
 }
