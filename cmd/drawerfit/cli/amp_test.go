@@ -160,12 +160,12 @@ func TestPlanFiltersSharePackages(t *testing.T) {
 		"[[filter]]\nlabel = \"high\"\nkind = \"highpass\"\npass = \"100\"\norder = 4\n")
 	var res struct {
 		Boards []struct {
-			ID       string `json:"id"`
+			ID       string `json:"design_id"`
 			StockUse []struct {
 				StockID  int64 `json:"stock_id"`
 				PerBoard int   `json:"per_board"`
 			} `json:"stock_use"`
-		} `json:"boards"`
+		} `json:"candidates"`
 	}
 	if code := s.jsonOf(&res, "fit", "--plan", plan, "--combine", "1", "--rank", "balanced", "--opamp", quad, "--top", "1", "--save", "--json"); code != 0 || len(res.Boards) == 0 {
 		t.Fatalf("plan fit exit %d: %+v", code, res)
