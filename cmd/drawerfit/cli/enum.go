@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"strings"
 
-	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
 )
 
@@ -106,20 +105,4 @@ func (e *enumValue) completions() []string {
 		}
 	}
 	return out
-}
-
-// registerEnumCompletions gives every enumerated flag in the tree under cmd
-// the completion of its choices.
-func registerEnumCompletions(cmd *cobra.Command) {
-	cmd.LocalNonPersistentFlags().VisitAll(func(fl *pflag.Flag) {
-		if e, ok := fl.Value.(*enumValue); ok {
-			// The error only says the flag has a completion already.
-			_ = cmd.RegisterFlagCompletionFunc(fl.Name, func(*cobra.Command, []string, string) ([]string, cobra.ShellCompDirective) {
-				return e.completions(), cobra.ShellCompDirectiveNoFileComp
-			})
-		}
-	})
-	for _, c := range cmd.Commands() {
-		registerEnumCompletions(c)
-	}
 }

@@ -88,7 +88,7 @@ qualified person under the applicable local rules.`,
 		NewCmdCompletion(env),
 		NewCmdVersion(env),
 	)
-	registerEnumCompletions(root)
+	registerCompletions(env, root)
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error {
 		return usageError{err}
 	})
