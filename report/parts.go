@@ -246,14 +246,20 @@ func checks(s *Sheet) ([]checkRow, string) {
 	if spec.Stop > 0 && c.StopAtten == c.StopAtten {
 		figs += ", " + num(c.StopAtten, 3) + " dB at fs"
 	}
-	nominal := Check{What: "Nominal part values, ideal op-amps", Status: CheckPassed,
+	what := "Nominal part values, ideal op-amps"
+	if a := c.Amp; a != nil {
+		// The fit scored the parts with this amplifier's model: the figures
+		// are with it, so the op-amp is checked by this line.
+		what = fmt.Sprintf("Nominal part values with the op-amp model (%s: single pole, %s gain-bandwidth)", a.Label, hz(a.Model.GBW))
+	}
+	nominal := Check{What: what, Status: CheckPassed,
 		Verdict: "meets the specification (" + figs + ")"}
 	if !c.MeetsSpec {
 		nominal.Status, nominal.Verdict = CheckFailed, "does not meet the specification ("+figs+")"
 	}
 	all := []Check{nominal}
 	all = append(all, s.Checks...)
-	if len(s.Checks) == 0 {
+	if len(s.Checks) == 0 && c.Amp == nil {
 		all = append(all, Check{What: "With an op-amp model", Verdict: "not checked (the figures assume ideal op-amps)"})
 	}
 	if y := s.Yield; y != nil {

@@ -3,6 +3,7 @@ package report
 import (
 	"bytes"
 	"flag"
+	"html/template"
 	"os"
 	"path/filepath"
 	"regexp"
@@ -362,5 +363,49 @@ func TestResponseSketch(t *testing.T) {
 		if !strings.Contains(s, want) {
 			t.Errorf("sketch lacks %q:\n%s", want, s)
 		}
+	}
+}
+
+// TestHeaderVerdicts: the header says what was checked and the verdict of
+// each, and never a bare "meets" above a failing check.
+func TestHeaderVerdicts(t *testing.T) {
+	t.Parallel()
+	lp := lowpass4(t) // misses the specification with its rounded parts (3.19 dB at fp, allowed 3.01)
+	for _, tc := range []struct {
+		name  string
+		sheet *Sheet
+		want  []string
+		not   []string
+	}{
+		{"nominal fails", &Sheet{Candidate: lp},
+			[]string{"does not meet the specification", "With an op-amp model", "not checked", "Not ready to build as it stands"},
+			[]string{"Passes every check"}},
+		{"yield below target", &Sheet{Candidate: lp, Yield: &YieldSummary{Yield: 0.5, CILow: 0.45, CIHigh: 0.55, Trials: 300, Target: 0.95}},
+			[]string{"50% pass", "below the target 95%", "Failed: Nominal part values, ideal op-amps; Yield with the stock"},
+			nil},
+		{"amplifier from stock", func() *Sheet {
+			c := *lp
+			c.Amp = &optimize.Amplifier{StockID: 7, Label: "bag 7 dual", Channels: 2, Model: synth.OpAmp{GBW: 1e6}}
+			return &Sheet{Candidate: &c}
+		}(), []string{"with the op-amp model (bag 7 dual: single pole, 1 MHz gain-bandwidth)"},
+			[]string{"With an op-amp model", "ideal op-amps</td>"}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			b, err := HTML(tc.sheet)
+			if err != nil {
+				t.Fatal(err)
+			}
+			head := splitSections(normalise(b))["job"]
+			for _, w := range tc.want {
+				if !strings.Contains(head, template.HTMLEscapeString(w)) {
+					t.Errorf("header lacks %q:\n%s", w, head)
+				}
+			}
+			for _, w := range tc.not {
+				if strings.Contains(head, template.HTMLEscapeString(w)) {
+					t.Errorf("header has %q:\n%s", w, head)
+				}
+			}
+		})
 	}
 }
