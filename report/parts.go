@@ -41,6 +41,9 @@ type Amplifier struct {
 	// package; nil means the stock gives none (the sheet then says to see
 	// the part's data sheet).
 	Pins *Pins
+	// Channels is the number of amplifiers in the package (0: unknown);
+	// the sheet names the channels no section uses.
+	Channels int
 }
 
 // Pins are the pin numbers of one op-amp channel and of its package's
@@ -52,6 +55,36 @@ type Pins struct {
 // Name is the channel's designator as the sheet prints it: U1, or U1A for
 // channel A of package U1.
 func (a Amplifier) Name() string { return a.Ref + a.Channel }
+
+// unusedChannels says which channels of multi-channel packages no section
+// uses, and what to do with them.
+func unusedChannels(amps []Amplifier) string {
+	used := map[string]map[string]bool{}
+	size := map[string]int{}
+	var order []string
+	for _, a := range amps {
+		if used[a.Ref] == nil {
+			used[a.Ref] = map[string]bool{}
+			order = append(order, a.Ref)
+		}
+		used[a.Ref][a.Channel] = true
+		size[a.Ref] = max(size[a.Ref], a.Channels)
+	}
+	var spare []string
+	for _, ref := range order {
+		for k := 0; k < size[ref] && size[ref] > 1; k++ {
+			ch := string(rune('A' + k))
+			if !used[ref][ch] {
+				spare = append(spare, ref+ch)
+			}
+		}
+	}
+	if len(spare) == 0 {
+		return ""
+	}
+	return fmt.Sprintf("Unused channel %s: wire it as a follower (output to - input) with its + input at signal ground or mid-supply, so that it does not oscillate or draw extra current (common practice, no source).",
+		strings.Join(spare, ", "))
+}
 
 // DecouplingNote is printed with the amplifiers.
 const DecouplingNote = "Decouple every op-amp package's supply pins: a 100 nF ceramic capacitor from each supply pin to ground, as close to the pins as the board allows (common practice, no source)."

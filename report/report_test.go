@@ -409,3 +409,19 @@ func TestHeaderVerdicts(t *testing.T) {
 		})
 	}
 }
+
+func TestUnusedChannels(t *testing.T) {
+	t.Parallel()
+	// Three sections on one quad package: channel D is left over; a dual
+	// fully used and single packages leave nothing to say.
+	amps := []Amplifier{{Ref: "U1", Channel: "A", Channels: 4}, {Ref: "U1", Channel: "B", Channels: 4}, {Ref: "U1", Channel: "C", Channels: 4}}
+	if got := unusedChannels(amps); !strings.Contains(got, "Unused channel U1D:") {
+		t.Errorf("quad with three used: %q", got)
+	}
+	if got := unusedChannels([]Amplifier{{Ref: "U1", Channel: "A", Channels: 2}, {Ref: "U1", Channel: "B", Channels: 2}}); got != "" {
+		t.Errorf("dual fully used: %q", got)
+	}
+	if got := unusedChannels([]Amplifier{{Ref: "U1"}, {Ref: "U2"}}); got != "" {
+		t.Errorf("single packages: %q", got)
+	}
+}

@@ -200,7 +200,7 @@ type view struct {
 	Checks                                          []checkRow
 	Verdict                                         string
 	Amplifiers                                      []ampRow
-	Decoupling                                      string
+	Decoupling, Unused                              string
 	Cautions, Warnings, Notes, DesignNotes          []string
 	Plots                                           []plotView
 	Yield                                           *yieldView
@@ -304,6 +304,7 @@ func build(s *Sheet) (*view, error) {
 	v.Checks, v.Verdict = checks(s)
 	v.Amplifiers = ampRows(amps)
 	v.Decoupling = DecouplingNote
+	v.Unused = unusedChannels(amps)
 
 	// Plots.
 	stages := c.Stages()

@@ -109,7 +109,7 @@ func ampJSON(c *optimize.Candidate) []jsonAmp {
 func sheetAmps(c *optimize.Candidate) []report.Amplifier {
 	var out []report.Amplifier
 	for i, sl := range c.AmpSlots {
-		a := report.Amplifier{Ref: fmt.Sprintf("U%d", sl.Package), Section: i + 1}
+		a := report.Amplifier{Ref: fmt.Sprintf("U%d", sl.Package), Section: i + 1, Channels: c.Amp.Channels}
 		if c.Amp.Channels > 1 {
 			a.Channel = string(rune('A' + sl.Channel))
 		}
