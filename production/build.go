@@ -136,10 +136,7 @@ func NewBatch(d *Design, boards int) (*Batch, error) {
 	b := &Batch{Design: d, Boards: boards}
 	idx := map[int64]int{}
 	for fi, f := range d.Filters {
-		prefix := ""
-		if len(d.Filters) > 1 {
-			prefix = fmt.Sprintf("F%d.", fi+1)
-		}
+		prefix := d.refPrefix(fi)
 		for _, s := range f.Candidate.Sections {
 			for _, comp := range s.Components {
 				for pi, p := range comp.Parts {
@@ -238,6 +235,32 @@ type Issue struct {
 	// tolerance, dielectric and package as a missing or changed one (0:
 	// none). For Readded it is the row now used.
 	Substitute int64
+}
+
+// refPrefix is what the designators of filter fi (0-based) start with on
+// the design's board: "F2." on a board of several filters, nothing for a
+// single filter.
+func (d *Design) refPrefix(fi int) string {
+	if len(d.Filters) > 1 {
+		return fmt.Sprintf("F%d.", fi+1)
+	}
+	return ""
+}
+
+// Touches reports whether the issue concerns filter fi (0-based) of d: a
+// row the issue names fills one of that filter's positions. On a design of
+// one filter every issue touches it.
+func (i Issue) Touches(d *Design, fi int) bool {
+	prefix := d.refPrefix(fi)
+	if prefix == "" {
+		return true
+	}
+	for _, r := range i.Refs {
+		if strings.HasPrefix(r, prefix) {
+			return true
+		}
+	}
+	return false
 }
 
 // Blocking reports whether the issue stops a build: a missing or changed

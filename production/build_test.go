@@ -132,3 +132,29 @@ func TestBatchCheck(t *testing.T) {
 		})
 	}
 }
+
+func TestIssueTouchesFilter(t *testing.T) {
+	t.Parallel()
+	board := &Design{Filters: make([]Filter, 3)}
+	single := &Design{Filters: make([]Filter, 1)}
+	is := Issue{Kind: Short, Refs: []string{"F2.R3a", "F3.C1"}}
+	for _, c := range []struct {
+		d    *Design
+		fi   int
+		want bool
+	}{
+		{board, 0, false},
+		{board, 1, true},
+		{board, 2, true},
+		{single, 0, true}, // one filter: every issue is its own
+	} {
+		if got := is.Touches(c.d, c.fi); got != c.want {
+			t.Errorf("filters %d, filter %d: touches %v, want %v", len(c.d.Filters), c.fi+1, got, c.want)
+		}
+	}
+	// F1. must not match F10. or F11. on a large board.
+	big := &Design{Filters: make([]Filter, 11)}
+	if (Issue{Refs: []string{"F10.R1", "F11.C2"}}).Touches(big, 0) {
+		t.Error("filter 1 matched the designators of filters 10 and 11")
+	}
+}

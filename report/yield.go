@@ -26,7 +26,7 @@ func YieldFrom(r *tolerance.Result) *YieldSummary {
 		Dist: string(r.Dist), Advice: r.Advice, Target: r.TargetYield,
 	}
 	if r.Edge != nil {
-		kind := r.EdgeKind
+		kind := string(r.EdgeKind)
 		if kind == "" {
 			kind = "edge frequency"
 		}

@@ -74,6 +74,17 @@ type Refit struct {
 	Candidate  *optimize.Candidate `json:"-"`
 }
 
+// EdgeKind says which edge frequency a yield analysis measures. Its value
+// is the phrase printed and written to JSON.
+type EdgeKind string
+
+const (
+	// EdgeHalfPower is the -3 dB frequency (Butterworth and Bessel).
+	EdgeHalfPower EdgeKind = "-3 dB frequency"
+	// EdgeRipple is the end of the ripple band (Chebyshev).
+	EdgeRipple EdgeKind = "ripple-band edge"
+)
+
 // Result is a yield analysis. Every float is finite (the result encodes as
 // JSON); optional figures are nil pointers or empty.
 type Result struct {
@@ -100,9 +111,8 @@ type Result struct {
 	// Nominal are the figures of the board with every part at its nominal
 	// value.
 	Nominal Figures `json:"nominal"`
-	// EdgeKind names what Edge measures: "-3 dB frequency" or
-	// "ripple-band edge".
-	EdgeKind  string       `json:"edge_kind"`
+	// EdgeKind names what Edge measures.
+	EdgeKind  EdgeKind     `json:"edge_kind"`
 	Edge      *Percentiles `json:"edge_spread_hz"`
 	PassAtten *Percentiles `json:"pass_atten_spread_db"`
 	StopAtten *Percentiles `json:"stop_atten_spread_db"`
@@ -183,10 +193,10 @@ func Run(ctx context.Context, c *optimize.Candidate, spec synth.Spec, opt Option
 	}
 
 	r := &Result{Trials: opt.Trials, Seed: opt.Seed, Dist: opt.Dist, PassMargin: opt.PassMargin,
-		StopMargin: opt.StopMargin, TargetYield: opt.TargetYield, EdgeKind: "-3 dB frequency",
+		StopMargin: opt.StopMargin, TargetYield: opt.TargetYield, EdgeKind: EdgeHalfPower,
 		Advice: []string{}, Warnings: []string{}}
 	if j.cheb {
-		r.EdgeKind = "ripple-band edge"
+		r.EdgeKind = EdgeRipple
 	}
 	ws := b.newWorkspace()
 	ws.load(b.nominalParts())

@@ -159,7 +159,7 @@ func TestChebyshevRippleEdge(t *testing.T) {
 		if !testkit.Rel(1e-7).Equal(r.Nominal.Edge, 2e3) || !testkit.Abs(1e-7).Equal(r.Nominal.PassAtten, 0.5) {
 			t.Errorf("n=%d: edge %.6f Hz, ripple %.8f dB, want 2000 Hz and 0.5 dB", n, r.Nominal.Edge, r.Nominal.PassAtten)
 		}
-		if r.EdgeKind != "ripple-band edge" {
+		if r.EdgeKind != EdgeRipple {
 			t.Errorf("edge kind %q", r.EdgeKind)
 		}
 	}

@@ -145,25 +145,20 @@ func runReport(env *Env, o *reportOptions, id string) error {
 		}
 	}
 	// What changed in stock since the design was saved, as show reports it.
-	var stockIssues []production.Issue
-	if batch, err := production.NewBatch(d, max(d.Boards, 1)); err == nil {
-		if check, err := production.DryRun(env.Ctx, db, batch); err == nil {
-			stockIssues = check.Issues
-		}
+	// A sheet without these warnings would claim the stock still matches,
+	// so a failure to check is an error, not an empty list.
+	batch, err := production.NewBatch(d, max(d.Boards, 1))
+	if err != nil {
+		return err
 	}
-	// stockWarnings are the issues that touch filter n (designators F<n+1>.*
-	// on a board; all of them for a single filter).
+	check, err := production.DryRun(env.Ctx, db, batch)
+	if err != nil {
+		return fmt.Errorf("compare the design with the stock: %w", err)
+	}
 	stockWarnings := func(n int) []string {
 		var out []string
-		prefix := "F" + strconv.Itoa(n+1) + "."
-		for _, is := range stockIssues {
-			touches := len(d.Filters) == 1
-			for _, r := range is.Refs {
-				if strings.HasPrefix(r, prefix) {
-					touches = true
-				}
-			}
-			if touches {
+		for _, is := range check.Issues {
+			if is.Touches(d, n) {
 				out = append(out, "stock: "+is.String())
 			}
 		}

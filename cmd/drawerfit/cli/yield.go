@@ -324,9 +324,9 @@ func writeYieldReport(env *Env, w io.Writer, rep *yieldReport, sens bool) {
 	}
 	hzf := func(x float64) string { return yieldHz(x) }
 	dbf := func(x float64) string { return strconv.FormatFloat(x, 'f', 3, 64) + " dB" }
-	addRow(r.EdgeKind, r.Nominal.Edge, r.Edge, hzf)
+	addRow(string(r.EdgeKind), r.Nominal.Edge, r.Edge, hzf)
 	passLabel := "passband attenuation"
-	if r.EdgeKind == "ripple-band edge" {
+	if r.EdgeKind == tolerance.EdgeRipple {
 		passLabel = "passband ripple"
 	}
 	addRow(passLabel, r.Nominal.PassAtten, r.PassAtten, dbf)
