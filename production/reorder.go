@@ -4,6 +4,7 @@ import (
 	"sort"
 	"strings"
 
+	"drawerfit/optimize"
 	"drawerfit/stock"
 )
 
@@ -82,4 +83,19 @@ func (b *Batch) Takes() map[int64]int {
 		out[p.StockID] += p.Quantity
 	}
 	return out
+}
+
+// UseCost is the parts cost of one board that takes use from the stock
+// items: each part at its row's unit price, exactly; unknown when a row
+// used has no price or is not among items.
+func UseCost(use []optimize.StockUse, items []stock.Item) stock.Money {
+	price := map[int64]stock.Money{}
+	for _, it := range items {
+		price[it.ID] = it.Price
+	}
+	var t stock.Tally
+	for _, u := range use {
+		t.Add(price[u.StockID], u.PerBoard)
+	}
+	return t.Total()
 }

@@ -38,3 +38,18 @@ func TestReorderRoundsUpToPacks(t *testing.T) {
 		t.Errorf("cost %s with %d unpriced", p, n)
 	}
 }
+
+func TestSuggestionCost(t *testing.T) {
+	t.Parallel()
+	top := stock.Item{ID: 4, Quantity: 30, Price: stock.MoneyFromMicros(65_000)} // 30 × 0.065 = 1.95
+	fresh := stock.Item{Quantity: 10, Price: stock.MoneyFromMicros(12_000)}      // a new row: estimated price
+	if c, est := (Suggestion{Items: []stock.Item{top}}).Cost(); c.String() != "1.95" || est {
+		t.Errorf("top-up: %s estimated %v", c, est)
+	}
+	if c, est := (Suggestion{Items: []stock.Item{top, fresh}}).Cost(); c.String() != "2.07" || !est {
+		t.Errorf("with a new row: %s estimated %v", c, est)
+	}
+	if c, _ := (Suggestion{Items: []stock.Item{top, {ID: 9, Quantity: 1}}}).Cost(); c.Known() {
+		t.Errorf("a row without a price must make the total unknown, got %s", c)
+	}
+}

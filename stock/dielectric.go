@@ -80,10 +80,11 @@ func (g Grade) String() string {
 	return "avoid"
 }
 
-// grades lists the dielectrics that are not Avoid. Precision: class 1
-// ceramics are preferred and high-K ceramics avoided in active filters
-// (Op Amps for Everyone 16.8.3, as quoted in docs/check-values.md,
-// "Practical rules"); the films and mica by common practice, no source.
+// grades lists the dielectrics that are not Avoid. Class 1 ceramics are
+// preferred and high-K ceramics avoided in active filters (Op Amps for
+// Everyone 16.8.3, as quoted in docs/check-values.md, "Practical rules");
+// the grades of the films and mica are common practice, no source (the
+// same section, "Dielectric grades drawerfit uses").
 var grades = map[string]Grade{
 	C0G: Precision, NP0: Precision, PP: Precision, PS: Precision, PPS: Precision, PTFE: Precision, Mica: Precision,
 	PET: Caution, PEN: Caution, PC: Caution, Film: Caution,

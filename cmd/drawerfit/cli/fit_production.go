@@ -411,6 +411,7 @@ type planRun struct {
 	elapsed time.Duration
 	ids     []string // saved design ids, parallel to result.Boards (with --save)
 	suggest *fitSuggestions
+	items   []stock.Item // the stock searched (for the boards' cost)
 }
 
 func runPlanFit(env *Env, o *fitOptions) error {
@@ -459,7 +460,7 @@ func runPlanFit(env *Env, o *fitOptions) error {
 	if err != nil {
 		return err
 	}
-	run := &planRun{file: o.plan, opts: popts, result: res, source: source, elapsed: env.Now().Sub(start)}
+	run := &planRun{file: o.plan, opts: popts, result: res, source: source, elapsed: env.Now().Sub(start), items: items}
 	if o.save && len(res.Boards) > 0 {
 		if o.stockCSV != "" {
 			return fault.Invalidf("--save keeps designs that refer to rows of the stock database; import the file first (drawerfit stock import %s) and fit without --stock", o.stockCSV)
@@ -514,8 +515,8 @@ func printPlanFit(env *Env, w io.Writer, run *planRun) {
 		fmt.Fprintln(w, "\n"+hint+".")
 		return
 	}
-	g := newGrid("#", "worst error dB", "parts", "unique", "shared", "boards", "pareto")
-	g.right(0, 1, 2, 3, 4, 5).abbrev(1, "worst dB").optional(dropFirst, 4, 6)
+	g := newGrid("#", "worst error dB", "parts", "unique", "shared", "cost/board", "boards", "pareto")
+	g.right(0, 1, 2, 3, 4, 5, 6).abbrev(1, "worst dB").optional(dropFirst, 4, 7)
 	for i, b := range res.Boards {
 		mark := ""
 		if b.Pareto {
@@ -525,7 +526,7 @@ func printPlanFit(env *Env, w io.Writer, run *planRun) {
 			mark += " fails spec"
 		}
 		g.add(strconv.Itoa(i+1), fmtErr(b.WorstError), strconv.Itoa(b.PartCount), strconv.Itoa(b.UniqueParts),
-			strconv.Itoa(b.Shared), strconv.Itoa(b.BoardsBuildable), strings.TrimSpace(mark))
+			strconv.Itoa(b.Shared), production.UseCost(b.StockUse, run.items).String(), strconv.Itoa(b.BoardsBuildable), strings.TrimSpace(mark))
 	}
 	addIDColumn(g, run.ids)
 	g.render(env, w)
@@ -591,6 +592,7 @@ type jsonBoard struct {
 	PartCount       int               `json:"part_count"`
 	UniqueParts     int               `json:"unique_parts"`
 	SharedRows      int               `json:"shared_rows"`
+	CostPerBoard    *string           `json:"cost_per_board"`
 	BoardsBuildable int               `json:"boards_buildable"`
 	Pareto          bool              `json:"pareto"`
 	StockUse        []jsonStockUse    `json:"stock_use"`
@@ -642,6 +644,7 @@ func planFitJSON(run *planRun) jsonPlanFit {
 	out.Boards = []jsonBoard{}
 	for i, b := range res.Boards {
 		jb := boardJSON(b.Filters, res.Plan.Filters, b, i+1)
+		jb.CostPerBoard = moneyJSON(production.UseCost(b.StockUse, run.items))
 		if i < len(run.ids) {
 			jb.ID = run.ids[i]
 		}

@@ -181,3 +181,45 @@ func quantitiesOf(items []map[string]any) map[float64]float64 {
 	}
 	return q
 }
+
+// TestPlanBoardCost: a board's cost_per_board is its stock use at the
+// rows' prices (null when a row has none).
+func TestPlanBoardCost(t *testing.T) {
+	t.Parallel()
+	s := sampleEnv(t)
+	plan := s.write("intercom.toml", intercomPlan)
+	var doc struct {
+		Boards []struct {
+			Cost     *string `json:"cost_per_board"`
+			StockUse []struct {
+				StockID  int64 `json:"stock_id"`
+				PerBoard int   `json:"per_board"`
+			} `json:"stock_use"`
+		} `json:"boards"`
+	}
+	s.jsonOf(&doc, "fit", "--plan", plan, "--combine", "1", "--top", "3", "--json")
+	if len(doc.Boards) == 0 {
+		t.Fatal("no boards")
+	}
+	price := map[int64]stock.Money{}
+	for _, it := range s.listJSON() {
+		p := stock.Money{}
+		if ps, ok := it["price"].(string); ok {
+			p, _ = stock.ParsePrice(ps)
+		}
+		price[int64(it["id"].(float64))] = p
+	}
+	for i, b := range doc.Boards {
+		var tl stock.Tally
+		for _, u := range b.StockUse {
+			tl.Add(price[u.StockID], u.PerBoard)
+		}
+		got := stock.Money{}
+		if b.Cost != nil {
+			got, _ = stock.ParsePrice(*b.Cost)
+		}
+		if got != tl.Total() {
+			t.Errorf("board %d: cost %v, stock use at the rows' prices %q", i+1, b.Cost, tl.Total())
+		}
+	}
+}
