@@ -195,7 +195,7 @@ func TestPlanBoardCost(t *testing.T) {
 				StockID  int64 `json:"stock_id"`
 				PerBoard int   `json:"per_board"`
 			} `json:"stock_use"`
-		} `json:"boards"`
+		} `json:"candidates"`
 	}
 	s.jsonOf(&doc, "fit", "--plan", plan, "--combine", "1", "--top", "3", "--json")
 	if len(doc.Boards) == 0 {
@@ -207,7 +207,7 @@ func TestPlanBoardCost(t *testing.T) {
 		if ps, ok := it["price"].(string); ok {
 			p, _ = stock.ParsePrice(ps)
 		}
-		price[int64(it["id"].(float64))] = p
+		price[int64(it["stock_id"].(float64))] = p
 	}
 	for i, b := range doc.Boards {
 		var tl stock.Tally
