@@ -7,6 +7,7 @@ import (
 	"sort"
 
 	"drawerfit/synth"
+	"drawerfit/tolerance"
 )
 
 // Limits are the specification's edges and attenuations, drawn on the
@@ -186,20 +187,7 @@ func PercentileBand(label string, freq []float64, gains [][]float64, pLo, pHi fl
 			}
 		}
 		sort.Float64s(col)
-		b.Lo[i], b.Hi[i] = quantile(col, pLo/100), quantile(col, pHi/100)
+		b.Lo[i], b.Hi[i] = tolerance.Quantile(col, pLo/100), tolerance.Quantile(col, pHi/100)
 	}
 	return b
-}
-
-// quantile is the type-7 quantile of sorted data (NaN when empty).
-func quantile(sorted []float64, p float64) float64 {
-	if len(sorted) == 0 {
-		return math.NaN()
-	}
-	h := p * float64(len(sorted)-1)
-	i := int(math.Floor(h))
-	if i >= len(sorted)-1 {
-		return sorted[len(sorted)-1]
-	}
-	return sorted[i] + (h-float64(i))*(sorted[i+1]-sorted[i])
 }

@@ -385,13 +385,19 @@ func percentiles(x []float64) *Percentiles {
 	}
 	sort.Float64s(v)
 	return &Percentiles{
-		Min: v[0], P1: quantile(v, 0.01), P5: quantile(v, 0.05), P50: quantile(v, 0.5),
-		P95: quantile(v, 0.95), P99: quantile(v, 0.99), Max: v[len(v)-1], N: len(v),
+		Min: v[0], P1: Quantile(v, 0.01), P5: Quantile(v, 0.05), P50: Quantile(v, 0.5),
+		P95: Quantile(v, 0.95), P99: Quantile(v, 0.99), Max: v[len(v)-1], N: len(v),
 	}
 }
 
-// quantile is the type-7 quantile of sorted data.
-func quantile(sorted []float64, p float64) float64 {
+// Quantile is the type-7 quantile (linear interpolation between order
+// statistics, R's default) of data sorted in ascending order, for p in
+// [0, 1]; NaN for no data. It is the one quantile of the project: the
+// yield's percentiles and the plotted Monte Carlo band use it.
+func Quantile(sorted []float64, p float64) float64 {
+	if len(sorted) == 0 {
+		return math.NaN()
+	}
 	h := p * float64(len(sorted)-1)
 	i := int(math.Floor(h))
 	if i >= len(sorted)-1 {

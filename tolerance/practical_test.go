@@ -2,9 +2,11 @@ package tolerance
 
 import (
 	"context"
+	"math"
 	"strings"
 	"testing"
 
+	"drawerfit/internal/testkit"
 	"drawerfit/optimize"
 	"drawerfit/synth"
 )
@@ -41,5 +43,20 @@ func TestDefaultFitPassesPracticalChecks(t *testing.T) {
 				}
 			}
 		}
+	}
+}
+
+func TestQuantileType7(t *testing.T) {
+	t.Parallel()
+	// Type-7 quantiles (R's default, Hyndman and Fan 1996, from memory):
+	// h = p·(n-1), interpolate between the order statistics around h.
+	data := []float64{1, 2, 3, 4, 10}
+	for _, c := range []struct{ p, want float64 }{
+		{0, 1}, {0.05, 1.2}, {0.5, 3}, {0.9, 7.6}, {1, 10},
+	} {
+		testkit.Close(t, "quantile", Quantile(data, c.p), c.want, testkit.Abs(1e-12))
+	}
+	if !math.IsNaN(Quantile(nil, 0.5)) {
+		t.Error("the quantile of no data is not NaN")
 	}
 }
