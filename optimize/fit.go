@@ -611,40 +611,8 @@ func realised(t *synth.Topology, v []float64) (f0, q, realF0 float64) {
 		w0 := 1 / math.Sqrt(den[2])
 		return w0 / (2 * math.Pi), 1 / (w0 * den[1]), 0
 	}
-	// Cubic a3 s³ + a2 s² + a1 s + 1: one real root and a pair.
-	p, pr := cubicRoots(den)
-	w0, qq := synth.PairF0Q(p)
-	return w0 / (2 * math.Pi), qq, math.Abs(pr) / (2 * math.Pi)
-}
-
-// cubicRoots returns one complex root of the pair and the real root of
-// 1 + a1 s + a2 s² + a3 s³ (Newton on the real root, then deflation).
-func cubicRoots(d synth.Poly) (complex128, float64) {
-	a0, a1, a2, a3 := d[0], d[1], d[2], d[3]
-	f := func(x float64) float64 { return ((a3*x+a2)*x+a1)*x + a0 }
-	// The real root is negative; bracket it.
-	lo, hi := -1.0, 0.0
-	for f(lo) > 0 {
-		lo *= 2
-	}
-	for i := 0; i < 200; i++ {
-		m := 0.5 * (lo + hi)
-		if f(m) > 0 {
-			hi = m
-		} else {
-			lo = m
-		}
-	}
-	r := 0.5 * (lo + hi)
-	// Deflate: a3 s³ + a2 s² + a1 s + a0 = (s - r)(b2 s² + b1 s + b0).
-	b2 := a3
-	b1 := a2 + r*b2
-	b0 := a1 + r*b1
-	disc := b1*b1 - 4*b2*b0
-	if disc >= 0 {
-		return complex((-b1+math.Sqrt(disc))/(2*b2), 0), r
-	}
-	return complex(-b1/(2*b2), math.Sqrt(-disc)/(2*b2)), r
+	w0, qq, wr := synth.SectionPoles(den, 3)
+	return w0 / (2 * math.Pi), qq, wr / (2 * math.Pi)
 }
 
 // markPareto marks candidates that no other listed candidate dominates in

@@ -2,6 +2,8 @@ package synth
 
 import (
 	"testing"
+
+	"drawerfit/internal/testkit"
 )
 
 func TestLimitsOutside(t *testing.T) {
@@ -52,3 +54,28 @@ func TestScaleDefaultRangeIsPractical(t *testing.T) {
 		}
 	}
 }
+
+// TestSectionPoles recovers w0, Q and the real pole from denominators built
+// from them: (1 + s/wr)(1 + s/(w0 Q) + s²/w0²) and the 1- and 2-pole forms
+// (docs/check-values.md, "Section circuits").
+func TestSectionPoles(t *testing.T) {
+	t.Parallel()
+	for _, c := range []struct{ w0, q, wr float64 }{
+		{1, 0.7071, 0.5}, {1.43017, 0.52193, 1.32268}, {2e4, 8.0, 3e3}, {0.3, 0.55, 40},
+	} {
+		a1, a2 := 1/(c.w0*c.q), 1/(c.w0*c.w0)
+		den := Poly{1, a1 + 1/c.wr, a2 + a1/c.wr, a2 / c.wr}
+		w0, q, wr := SectionPoles(den, 3)
+		if !near9(w0, c.w0) || !near9(q, c.q) || !near9(wr, c.wr) {
+			t.Errorf("3-pole %+v: got w0 %g q %g wr %g", c, w0, q, wr)
+		}
+		if w0, q, _ := SectionPoles(Poly{1, a1, a2}, 2); !near9(w0, c.w0) || !near9(q, c.q) {
+			t.Errorf("2-pole %+v: got w0 %g q %g", c, w0, q)
+		}
+		if w0, q, _ := SectionPoles(Poly{1, 1 / c.wr}, 1); !near9(w0, c.wr) || q != 0 {
+			t.Errorf("1-pole %g: got w0 %g q %g", c.wr, w0, q)
+		}
+	}
+}
+
+func near9(a, b float64) bool { return testkit.Rel(1e-9).Equal(a, b) }

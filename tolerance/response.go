@@ -250,48 +250,7 @@ func (j *judge) edgeX(w gainer, level float64) (float64, bool) {
 	return math.Sqrt(lo * hi), true
 }
 
-// sectionPoles returns the natural frequency (rad/s) and Q of a section's
-// complex pair, and for a 3-pole section the real pole's frequency, from
-// D(s) = 1 + a1 s + a2 s² (+ a3 s³). A 1-pole section returns its pole
-// frequency as w0 and q = 0.
+// sectionPoles is synth.SectionPoles (the one pole extraction).
 func sectionPoles(den synth.Poly, poles int) (w0, q, wr float64) {
-	switch poles {
-	case 1:
-		return 1 / den[1], 0, 0
-	case 2:
-		return 1 / math.Sqrt(den[2]), math.Sqrt(den[2]) / den[1], 0
-	}
-	// Cubic a3 s³ + a2 s² + a1 s + 1: it is positive at s = 0 and tends to
-	// -∞ as s -> -∞, so it has a negative real root; bracket and bisect it,
-	// then polish by Newton and deflate to the pair's quadratic.
-	a1, a2, a3 := den[1], den[2], den[3]
-	p := func(s float64) float64 { return ((a3*s+a2)*s+a1)*s + 1 }
-	hi := 0.0
-	lo := -1 / a1
-	for p(lo) > 0 {
-		hi = lo
-		lo *= 2
-	}
-	for it := 0; it < 200 && hi-lo > 1e-15*math.Abs(lo); it++ {
-		m := 0.5 * (lo + hi)
-		if p(m) > 0 {
-			hi = m
-		} else {
-			lo = m
-		}
-	}
-	r := 0.5 * (lo + hi)
-	for it := 0; it < 3; it++ {
-		d := (3*a3*r+2*a2)*r + a1
-		if d == 0 {
-			break
-		}
-		r -= p(r) / d
-	}
-	// (s - r)(a3 s² + b1 s + b0) with b1 = a2 + a3 r, b0 = a1 + b1 r.
-	b1 := a2 + a3*r
-	b0 := a1 + b1*r
-	w0 = math.Sqrt(b0 / a3)
-	q = math.Sqrt(b0*a3) / b1
-	return w0, q, -r
+	return synth.SectionPoles(den, poles)
 }
