@@ -1,8 +1,8 @@
 // Package migrations holds drawerfit's database schema as numbered SQL
 // files, embedded into the binary: one set per SQL dialect, sqlite/ and
 // postgres/, with the same numbers and file names, each leaving the same
-// tables and constraints at each number. It is its own package because
-// go:embed cannot reach files outside the package directory.
+// tables and constraints at each number. It is its own package because an
+// embed directive cannot reach files outside the package directory.
 //
 // Each file is named NNNN_words.sql, numbered from 0001 without gaps, and
 // is applied once, in order, inside a transaction by package drawerfit/store,

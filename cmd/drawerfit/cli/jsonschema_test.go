@@ -5,7 +5,6 @@ import (
 	"encoding"
 	"encoding/json"
 	"fmt"
-	"os"
 	"path/filepath"
 	"reflect"
 	"sort"
@@ -365,19 +364,6 @@ func schemaTypes(doc, s map[string]any) []string {
 		return out
 	}
 	return []string{"any"}
-}
-
-// readSchema reads a committed schema file.
-func readSchema(path string) (map[string]any, error) {
-	b, err := os.ReadFile(path)
-	if err != nil {
-		return nil, err
-	}
-	var doc map[string]any
-	if err := json.Unmarshal(b, &doc); err != nil {
-		return nil, fmt.Errorf("%s: %w", path, err)
-	}
-	return doc, nil
 }
 
 // schemaDir is where the schema files live, from this package.
