@@ -8,17 +8,18 @@ import (
 	"drawerfit/internal/testkit"
 )
 
-// butterworthAtten is the Butterworth magnitude of the handbook form
-// |H|² = 1/(1 + (f/f3)^(2n)) (Williams and Taylor, Electronic Filter Design
-// Handbook, ch. 2; from memory), in dB of attenuation, written here
-// without synth's pole code.
+// butterworthAtten is the Butterworth magnitude |H|² = 1/(1 + (f/f3)^(2n))
+// (docs/check-values.md, "Approximations"), in dB of attenuation, written
+// here without synth's pole code.
 func butterworthAtten(f, f3 float64, n int) float64 {
 	return 10 * math.Log10(1+math.Pow(f/f3, 2*float64(n)))
 }
 
 // chebyshevAtten is the Chebyshev type I attenuation relative to the
 // passband maximum, 10 log10(1 + ε² T_n²(x)) with ε² = 10^(r/10) - 1 and x
-// the frequency over the ripple-band edge (same handbook, ch. 2; from
+// the frequency over the ripple-band edge (docs/check-values.md,
+// "Approximations", where ε is defined; the magnitude form is the standard
+// one of Williams and Taylor, Electronic Filter Design Handbook, ch. 2, from
 // memory).
 func chebyshevAtten(x, r float64, n int) float64 {
 	e2 := math.Pow(10, r/10) - 1
