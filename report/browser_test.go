@@ -178,7 +178,8 @@ func browserSheet(lp *optimize.Candidate, note string) *Sheet {
 	bias2 := optimize.Component{Ref: NextDesignator(lp, "R", 1), Kind: synth.Resistor, Arrangement: synth.Single,
 		Parts: []optimize.Part{r(68e3)}, Value: 68e3}
 	// Channel A and B of the common dual op-amp pinout (outputs 1 and 7,
-	// - inputs 2 and 6, + inputs 3 and 5, V- 4, V+ 8; from memory).
+	// - inputs 2 and 6, + inputs 3 and 5, V- 4, V+ 8; from memory, docs/check-values.md,
+	// "Amplifier packages").
 	dual := "dual op-amp, invented part DX-2, SOIC-8"
 	return &Sheet{
 		Title: "Logger input anti-alias, board rev C", Boards: 25, Date: date,
