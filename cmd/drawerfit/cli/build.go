@@ -136,6 +136,9 @@ func runBuild(env *Env, o *buildOptions, id string) error {
 	if o.csv != "" && o.csv == o.bom {
 		return fault.Invalidf("--csv and --bom name the same file %s", o.csv)
 	}
+	if o.json && (o.csv == "-" || o.bom == "-") {
+		return fault.Invalidf("--json and a CSV file on standard output (-) cannot share it; give the CSV a file name")
+	}
 	db, d, err := env.openDesign(id, !o.dryRun)
 	if err != nil {
 		return err
