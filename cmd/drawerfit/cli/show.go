@@ -134,6 +134,8 @@ func showJSON(d *production.Design, issues []production.Issue, items []stock.Ite
 		jc := candidateJSON(f.Candidate, d.Rank)
 		jc.ID = d.ID
 		jc.BoardsBuildable = d.BoardsBuildable(items)
+		// At the stock's prices now (a saved design keeps no prices).
+		jc.CostPerBoard = moneyJSON(production.UseCost(f.Candidate.StockUse, items))
 		return jsonShowFilter{jsonCandidate: jc, Spec: specJSON(f.Spec, f.Spec.Order), Saved: saved, Boards: d.Boards,
 			StockIssues: issuesJSON(issues)}
 	}
@@ -144,6 +146,7 @@ func showJSON(d *production.Design, issues []production.Issue, items []stock.Ite
 	b := designBoard(d, items)
 	jb := boardJSON(b.Filters, specs, b, d.Rank)
 	jb.ID, jb.Name = d.ID, d.Name
+	jb.CostPerBoard = moneyJSON(production.UseCost(b.StockUse, items))
 	return jsonShowBoard{jsonBoard: jb, Saved: saved, Boards: d.Boards, StockIssues: issuesJSON(issues)}
 }
 
