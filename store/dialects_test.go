@@ -7,7 +7,6 @@ import (
 	"math/rand/v2"
 	"net/url"
 	"os"
-	"path/filepath"
 	"testing"
 	"time"
 
@@ -86,5 +85,3 @@ func openTestPostgres(t *testing.T) *DB {
 	t.Cleanup(func() { db.Close() })
 	return db
 }
-
-var _ = filepath.Join
