@@ -9,6 +9,7 @@ import (
 
 	"drawerfit/fault"
 	"drawerfit/optimize"
+	"drawerfit/stock"
 	"drawerfit/synth"
 )
 
@@ -102,5 +103,54 @@ func TestEncodeRefusesUnstoredRows(t *testing.T) {
 	_, err := EncodeDesign(&Design{Boards: 1, Filters: []Filter{{Spec: r.Spec, Candidate: &c}}})
 	if fault.KindOf(err) != fault.Invalid || !strings.Contains(err.Error(), "stored stock rows") {
 		t.Fatalf("encode with an unstored part: %v", err)
+	}
+}
+
+// TestDesignDocumentKeepsTheAmplifier: a candidate fitted with an amplifier
+// row comes back with the same amplifier, slots, packages and ideal-amplifier
+// error; its stock use and pick list keep the packages.
+func TestDesignDocumentKeepsTheAmplifier(t *testing.T) {
+	t.Parallel()
+	spec := synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 5}
+	o := optimize.DefaultOptions()
+	o.Combine, o.Top = 1, 3
+	items := sampleStock(t)
+	var dual int64
+	for _, it := range items {
+		if it.Kind == stock.OpAmp && it.Channels == 2 {
+			dual = it.ID
+		}
+	}
+	r, err := optimize.FitAmps(context.Background(), items, spec, o, optimize.AmpChoice{Mode: optimize.AmpPinned, StockID: dual})
+	if err != nil || len(r.Candidates) == 0 {
+		t.Fatalf("fit: %v", err)
+	}
+	c := r.Candidates[0]
+	d := &Design{Boards: 1, Settings: SettingsOf(o), Filters: []Filter{{Spec: r.Spec, Candidate: c}}}
+	doc, err := EncodeDesign(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := DecodeDesign(doc)
+	if err != nil {
+		t.Fatal(err)
+	}
+	gc := got.Filters[0].Candidate
+	if !reflect.DeepEqual(gc.Amp, c.Amp) || !reflect.DeepEqual(gc.AmpSlots, c.AmpSlots) || gc.AmpPackages != c.AmpPackages ||
+		gc.IdealAmpError != c.IdealAmpError || !reflect.DeepEqual(gc.StockUse, c.StockUse) {
+		t.Fatalf("amplifier after the round trip: %+v %+v %d, want %+v %+v %d", gc.Amp, gc.AmpSlots, gc.AmpPackages, c.Amp, c.AmpSlots, c.AmpPackages)
+	}
+	b, err := NewBatch(got, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	found := false
+	for _, p := range b.Picks {
+		if p.StockID == dual {
+			found = p.Quantity == 2*c.AmpPackages && len(p.Refs) == len(c.Sections) && p.Part.Kind == stock.OpAmp
+		}
+	}
+	if !found {
+		t.Fatalf("no pick of %d packages of row %d: %+v", 2*c.AmpPackages, dual, b.Picks)
 	}
 }
