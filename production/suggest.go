@@ -624,7 +624,7 @@ func SuggestPlan(ctx context.Context, items []stock.Item, pr *PlanResult, o Plan
 		}
 		if len(rel.Boards) > 0 {
 			ref = rel.Boards[0]
-			base.Shortfall = shortOf(items, boardOutcome(rel).Uses)
+			base.Shortfall = shortOf(items, filterUses(ref, pr.Plan.Boards))
 			if tr, ok := topUpTrial(items, base.Shortfall); ok {
 				trials = append(trials, tr) // nil groups: every filter is fitted again
 			}
@@ -640,6 +640,20 @@ func SuggestPlan(ctx context.Context, items []stock.Item, pr *PlanResult, o Plan
 		trials = append(trials, newValueTrials(items, refs, groups, o.Fit, so.trials())...)
 	}
 	return suggestCore(ctx, items, pr.Plan.Boards, base, trials, run, ranker{rank: o.Fit.Rank, goodEnough: o.Fit.GoodEnough}, so)
+}
+
+// filterUses is what boards boards of b take from each row as the joint
+// search counts it: every filter's own stock use, so amplifier packages
+// the filters share on the board are counted per filter (the search's
+// bound), which a top-up must cover.
+func filterUses(b *Board, boards int) map[int64]int {
+	uses := map[int64]int{}
+	for _, c := range b.Filters {
+		for _, u := range c.StockUse {
+			uses[u.StockID] += u.PerBoard * boards
+		}
+	}
+	return uses
 }
 
 // refitPlan repeats a plan's joint search on items, fitting again the
