@@ -72,15 +72,32 @@ Each candidate is scored by its response error: the largest difference, in
 dB, between its magnitude response (nominal values, ideal op-amps) and the
 ideal response of the same approximation and order, on a logarithmic grid of
 100 points per decade from fp/10 to fs (high-pass: fs to 10·fp). It meets the
-specification when its own attenuation is at most Ap at fp and at least As at
-fs. Parts counts physical parts per board; unique counts distinct stock rows.
+specification when its own attenuation is at most Ap at fp (for Chebyshev,
+its ripple up to fp at most the allowed ripple) and at least As at fs. Parts
+counts physical parts per board; unique counts distinct stock rows.
 
-Ranking (--rank balanced, the default): candidates whose error is within
---good-enough come first, fewest parts first, then fewest unique parts, then
-cost per board, then error; the rest follow by error. --rank
-error|parts|unique|cost sorts by one objective. A '*' in the pareto column
-marks candidates that no other listed candidate beats in error, parts and
-unique parts at once.
+Target placement (--placement inside, the default): when the order leaves
+slack, the target is centred in the specification, so that the built filter
+may drift the same factor in frequency either way before it fails at fp or
+fs (a Chebyshev also gets a smaller ripple); the design notes say where it
+was placed and the margins it leaves. --placement edge, and a specification
+without slack (an order and no stopband), keep the classical placement.
+
+Ranking (--rank yield, the default): every listed candidate is simulated
+--trials times (default 2,000) with each part drawn within its stock row's
+tolerance (a row without one at 5 % for a capacitor, 1 % for a resistor,
+with a warning), the same draws for every candidate (--seed), and judged
+against the specification. Candidates whose yield reaches --target-yield
+(default 95 %) come first, fewest parts first, then fewest unique parts,
+then yield; the rest follow by yield. The search keeps 30 candidates for
+this (by parts among those whose error takes at most a third of the
+target's margin), screens each with 256 simulated boards and confirms the
+best with the full count; the output says how many. --rank balanced puts
+candidates whose error is within --good-enough first, fewest parts first,
+then fewest unique parts, then cost per board, then error, and the rest by
+error; --rank error|parts|unique|cost sorts by one objective. A '*' in the
+pareto column marks candidates that no other listed candidate beats in
+error, parts and unique parts at once.
 
 Cost: with unit prices in the stock (stock set ID --price 0.012), every
 candidate shows its parts cost per board: each physical part, both parts of

@@ -65,18 +65,15 @@ func addFitCheckFlags(cmd *cobra.Command, o *fitCheckOptions) {
 	f.StringVar(&o.png, "png", "", "also write the best candidate's plots as PNG files into this directory")
 	cmd.Long += `
 
-Checks. --yield simulates building every listed candidate --trials times
-(default 2,000) with every part drawn within its stock row's tolerance
-(uniform; --dist normal takes the tolerance as 3 sigma) and the same random
-draws for every candidate (--seed), judges each simulated board against the
-specification (widened by --pass-margin/--stop-margin), and shows the yield
-with its 95% Wilson interval and each candidate's place by yield; --rank
-yield lists the candidates by yield, highest first (the search still keeps
-them by the balanced ranking). The best candidate also gets the computed
-advice: which part causes the failures, what a tighter part or a wider
-acceptance window would give, and, when its nominal response sits on a
-limit, the same order fitted with its edge moved inside the specification.
-With --boards N it forecasts how many of the N boards pass.
+Checks. Every listed candidate shows its yield with its 95% Wilson interval
+(parts uniform within their tolerance; --dist normal takes the tolerance as
+3 sigma; the acceptance window widened by --pass-margin/--stop-margin), and
+the best one its margins and the parts that cause most failures. --yield
+adds the full analysis of the best: the worst-case corners, the computed
+advice (what a tighter part or a wider acceptance window would give, and,
+when its target sits on the edge, the same order fitted with its target
+placed inside the specification) and, with --boards N, how many of the N
+boards should pass.
 
 --gbw FREQ (and --dc-gain DB, default 100) analyses every candidate with a
 single-pole op-amp model and shows the response change it adds; a section
