@@ -46,6 +46,8 @@ type Error struct {
 	Kind Kind
 	Msg  string
 	Err  error // optional cause
+	// Field is the option the error is about, if any (see InvalidFieldf).
+	Field Field
 }
 
 func (e *Error) Error() string {
@@ -85,3 +87,33 @@ func KindOf(err error) Kind {
 
 // Is reports whether err carries the given kind.
 func Is(err error, k Kind) bool { return err != nil && KindOf(err) == k }
+
+// Field names, in the domain's words, the option or value an Invalid error
+// is about: the name of the options struct field ("Combine", "Boards").
+// The message speaks of the quantity, never of a command-line flag; the
+// CLI maps a field to its flag when it prints the error.
+type Field string
+
+// InvalidFieldf returns an Invalid error about field f with a formatted
+// message.
+func InvalidFieldf(f Field, format string, args ...any) error {
+	e := newf(Invalid, format, args...).(*Error)
+	e.Field = f
+	return e
+}
+
+// FieldOf returns the field of the first *Error in err's chain that names
+// one ("" when there is none).
+func FieldOf(err error) Field {
+	for err != nil {
+		var e *Error
+		if !errors.As(err, &e) {
+			return ""
+		}
+		if e.Field != "" {
+			return e.Field
+		}
+		err = e.Err
+	}
+	return ""
+}

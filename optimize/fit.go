@@ -325,24 +325,24 @@ const defaultSectionBudget = 5_000_000
 func checkOptions(o *Options) error {
 	switch {
 	case o.Combine != 1 && o.Combine != 2:
-		return fault.Invalidf("--combine must be 1 (single parts) or 2 (pairs too), not %d", o.Combine)
+		return fault.InvalidFieldf("Combine", "parts per position must be 1 (single parts) or 2 (pairs too), not %d", o.Combine)
 	case o.Boards < 1:
-		return fault.Invalidf("--boards must be at least 1, not %d", o.Boards)
+		return fault.InvalidFieldf("Boards", "the number of boards must be at least 1, not %d", o.Boards)
 	case o.Boards > stock.MaxQuantity:
 		// Every board takes a part from some row, which holds at most
 		// MaxQuantity; the bound also keeps parts-per-batch sums far from
 		// integer overflow.
-		return fault.Invalidf("--boards must be at most %d (the most a stock row can hold)", stock.MaxQuantity)
+		return fault.InvalidFieldf("Boards", "the number of boards must be at most %d (the most a stock row can hold)", stock.MaxQuantity)
 	case o.Top < 1:
-		return fault.Invalidf("--top must be at least 1, not %d", o.Top)
+		return fault.InvalidFieldf("Top", "the number of candidates to list must be at least 1, not %d", o.Top)
 	case !(o.GoodEnough >= 0) || math.IsInf(o.GoodEnough, 0):
-		return fault.Invalidf("--good-enough must be a non-negative number of dB")
+		return fault.InvalidFieldf("GoodEnough", "the good-enough response error must be a non-negative number of dB")
 	case !(o.RMin > 0 && o.RMin < o.RMax) || math.IsInf(o.RMax, 0):
 		return fault.Invalidf("the resistor range must satisfy 0 < min < max")
 	case !(o.CMin > 0 && o.CMin < o.CMax) || math.IsInf(o.CMax, 0):
 		return fault.Invalidf("the capacitor range must satisfy 0 < min < max")
 	case o.MaxOrder < 0 || o.MaxOrder > synth.MaxOrder:
-		return fault.Invalidf("--max-order must be between 1 and %d", synth.MaxOrder)
+		return fault.InvalidFieldf("MaxOrder", "the highest order must be between 1 and %d", synth.MaxOrder)
 	}
 	if o.Shortlist <= 0 {
 		o.Shortlist = 10

@@ -236,9 +236,9 @@ func TestFitBadInput(t *testing.T) {
 	}{
 		{"empty-stock", nil, good, nil, fault.Infeasible, "no usable"},
 		{"no-capacitors", resistorsOnly, good, nil, fault.Infeasible, "capacitors"},
-		{"boards-zero", items, good, func(o *Options) { o.Boards = 0 }, fault.Invalid, "--boards"},
-		{"top-zero", items, good, func(o *Options) { o.Top = 0 }, fault.Invalid, "--top"},
-		{"combine-three", items, good, func(o *Options) { o.Combine = 3 }, fault.Invalid, "--combine"},
+		{"boards-zero", items, good, func(o *Options) { o.Boards = 0 }, fault.Invalid, "Boards"},
+		{"top-zero", items, good, func(o *Options) { o.Top = 0 }, fault.Invalid, "Top"},
+		{"combine-three", items, good, func(o *Options) { o.Combine = 3 }, fault.Invalid, "Combine"},
 		{"stop-on-wrong-side", items, synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Stop: 500, StopAtten: 40}, nil, fault.Invalid, ""},
 		{"bessel-impossible", items, synth.Spec{Kind: synth.LowPass, Approx: synth.Bessel, Pass: 1000, Stop: 2000, StopAtten: 30}, nil, fault.Infeasible, ""},
 	} {
@@ -254,7 +254,13 @@ func TestFitBadInput(t *testing.T) {
 			if fault.KindOf(err) != tc.kind {
 				t.Errorf("kind %v, want %v: %v", fault.KindOf(err), tc.kind, err)
 			}
-			if !strings.Contains(err.Error(), tc.words) {
+			// Option mistakes name their field, in the domain's words (the
+			// CLI maps it to a flag); other errors mention what limited them.
+			if f := fault.FieldOf(err); f != "" {
+				if string(f) != tc.words || strings.Contains(err.Error(), "--") {
+					t.Errorf("field %q (message %q), want field %q and no flag text", f, err, tc.words)
+				}
+			} else if !strings.Contains(err.Error(), tc.words) {
 				t.Errorf("message %q does not mention %q", err, tc.words)
 			}
 		})

@@ -128,10 +128,10 @@ type Batch struct {
 // a board of several filters. Errors: fault.Invalid for boards < 1.
 func NewBatch(d *Design, boards int) (*Batch, error) {
 	if boards < 1 {
-		return nil, fault.Invalidf("--boards must be at least 1, not %d", boards)
+		return nil, fault.InvalidFieldf("Boards", "the number of boards must be at least 1, not %d", boards)
 	}
 	if boards > stock.MaxQuantity {
-		return nil, fault.Invalidf("--boards must be at most %d (the most a stock row can hold)", stock.MaxQuantity)
+		return nil, fault.InvalidFieldf("Boards", "the number of boards must be at most %d (the most a stock row can hold)", stock.MaxQuantity)
 	}
 	b := &Batch{Design: d, Boards: boards}
 	idx := map[int64]int{}

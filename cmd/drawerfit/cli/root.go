@@ -146,8 +146,27 @@ func Run(env *Env, args []string) int {
 		// and loses its numeric code.
 		err = store.Plain(err, store.RedactURL(path))
 	}
-	fmt.Fprintln(env.Err, "drawerfit: "+err.Error())
+	fmt.Fprintln(env.Err, "drawerfit: "+withFlag(err))
 	return exitCode(err)
+}
+
+// fieldFlags maps the fields that domain errors name (fault.Field) to the
+// flags that set them. The domain never writes flag names; the CLI adds
+// them here.
+var fieldFlags = map[fault.Field]string{
+	"Combine":    "--combine",
+	"Boards":     "--boards",
+	"Top":        "--top",
+	"GoodEnough": "--good-enough",
+	"MaxOrder":   "--max-order",
+}
+
+// withFlag is err's message, led by the flag its field maps to.
+func withFlag(err error) string {
+	if fl, ok := fieldFlags[fault.FieldOf(err)]; ok {
+		return fl + ": " + err.Error()
+	}
+	return err.Error()
 }
 
 // exitError ends a command with a given status; its message (if any) has

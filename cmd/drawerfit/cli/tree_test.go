@@ -8,6 +8,9 @@ import (
 
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
+
+	"drawerfit/fault"
+	"drawerfit/production"
 )
 
 // parseOnly runs cmd on args with its run function replaced (the caller
@@ -162,5 +165,21 @@ func TestVersionFlag(t *testing.T) {
 	out.Reset()
 	if code := Run(env, []string{"version"}); code != 0 || out.String() != want {
 		t.Errorf("version printed %q (exit %d), want %q", out.String(), code, want)
+	}
+}
+
+// TestDomainFieldMappedToFlag: a domain error names its field; the CLI
+// leads the message with the field's flag.
+func TestDomainFieldMappedToFlag(t *testing.T) {
+	t.Parallel()
+	_, err := production.NewBatch(&production.Design{}, 0)
+	if fault.FieldOf(err) != "Boards" || strings.Contains(err.Error(), "--") {
+		t.Fatalf("domain error %q (field %q): want field Boards and no flag text", err, fault.FieldOf(err))
+	}
+	if got := withFlag(err); !strings.HasPrefix(got, "--boards: ") {
+		t.Errorf("CLI message %q, want it led by --boards", got)
+	}
+	if got := withFlag(fault.Invalidf("plain")); got != "plain" {
+		t.Errorf("an error without a field became %q", got)
 	}
 }
