@@ -264,7 +264,7 @@ func newStockListCmd(env *Env) *cobra.Command {
 formatted value, tolerance, quantity, package, dielectric, location, the
 shop's voltage rating, unit price, minimum and pack size, and the note.
 On a terminal it draws a table; piped, it prints tab-separated lines. --json
-prints an array of objects with the keys id, kind, value (ohms or farads),
+prints an array of objects with the keys stock_id, kind, value (ohms or farads),
 tolerance (a fraction), quantity, package, dielectric, location, note,
 voltage (volts), price (an exact decimal string), min, pack (null when not
 set) and supplier_ref; amplifier rows (value 0) add label, channels,
