@@ -49,6 +49,11 @@ type docSpec struct {
 	// specification; empty (documents before it existed) is the classical
 	// placement.
 	Placement string `json:"placement,omitempty"`
+	// GainDB, Polarity and Topology are the passband gain and the choices
+	// of circuit (empty or zero: unity gain, any polarity, auto).
+	GainDB   float64 `json:"gain_db,omitempty"`
+	Polarity string  `json:"polarity,omitempty"`
+	Topology string  `json:"topology,omitempty"`
 }
 
 type docCandidate struct {
@@ -125,6 +130,13 @@ func specDoc(s synth.Spec) docSpec {
 	if s.Placement != synth.PlaceEdge {
 		d.Placement = s.Placement.String()
 	}
+	d.GainDB = s.GainDB
+	if s.Polarity != synth.PolarityAny {
+		d.Polarity = s.Polarity.String()
+	}
+	if s.Topology != synth.TopologyAuto {
+		d.Topology = s.Topology.String()
+	}
 	return d
 }
 
@@ -147,6 +159,17 @@ func (d docSpec) spec() (synth.Spec, error) {
 	}
 	if d.Placement != "" {
 		if s.Placement, err = synth.ParsePlacement(d.Placement); err != nil {
+			return s, err
+		}
+	}
+	s.GainDB = d.GainDB
+	if d.Polarity != "" {
+		if s.Polarity, err = synth.ParsePolarity(d.Polarity); err != nil {
+			return s, err
+		}
+	}
+	if d.Topology != "" {
+		if s.Topology, err = synth.ParseTopologyChoice(d.Topology); err != nil {
 			return s, err
 		}
 	}
@@ -254,6 +277,15 @@ func (dc docCandidate) candidate(spec synth.Spec) (*optimize.Candidate, error) {
 		BoardsBuildable: dc.BoardsBuildable, Pareto: dc.Pareto}
 	if dc.StopAtten != nil {
 		c.StopAtten = *dc.StopAtten
+	}
+	// The fit may have built a section with another of its alternatives
+	// (a multiple-feedback instead of a Sallen-Key section).
+	for i, ds := range dc.Sections {
+		if sd.Sections[i].Topology.ID() != ds.Topology {
+			if t := synth.TopologyByID(ds.Topology); t != nil {
+				_ = sd.Use(i, t) // refused: reported just below
+			}
+		}
 	}
 	for i, ds := range dc.Sections {
 		target := sd.Sections[i]

@@ -454,18 +454,33 @@ func PlanTopology(k Kind, gain float64, c TopologyChoice) *Topology {
 	return TopologyFor(k, 2)
 }
 
+// Use builds section i with topology t, one of its Alternatives. Errors:
+// fault.Invalid when t is not among them.
+func (d *Design) Use(i int, t *Topology) error {
+	for _, a := range d.Alternatives(i) {
+		if a == t {
+			d.Sections[i].Topology = t
+			return nil
+		}
+	}
+	return fault.Invalidf("section %d (%s) cannot be built as a %s", i+1, d.Sections[i].Topology.name, t.name)
+}
+
 // Alternatives returns the topologies that may build section i under the
 // design's specification, the plan's own choice first: for a 2-pole
 // section under TopologyAuto both families (the Sallen-Key that fits the
-// section's gain, and the multiple-feedback), otherwise only the section's
-// topology.
+// section's gain, and the multiple-feedback), otherwise only the one the
+// specification asks for.
 func (d *Design) Alternatives(i int) []*Topology {
 	sec := &d.Sections[i]
-	if sec.Topology.poles != 2 || d.Spec.Topology != TopologyAuto {
-		return []*Topology{sec.Topology}
+	k := d.Spec.Kind
+	if sec.Topology.poles != 2 {
+		return []*Topology{TopologyFor(k, sec.Topology.poles)}
 	}
-	mfb := PlanTopology(d.Spec.Kind, sec.Gain, TopologyMFB)
-	return []*Topology{sec.Topology, mfb}
+	if d.Spec.Topology != TopologyAuto {
+		return []*Topology{PlanTopology(k, sec.Gain, d.Spec.Topology)}
+	}
+	return []*Topology{PlanTopology(k, sec.Gain, TopologySallenKey), PlanTopology(k, sec.Gain, TopologyMFB)}
 }
 
 // TargetGroupDelay returns the ideal cascade's group delay in seconds at

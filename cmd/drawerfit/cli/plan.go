@@ -28,6 +28,9 @@ type planOptions struct {
 	odd        string
 	besselNorm string
 	placement  string // "inside" or "edge"; empty: edge
+	gain       float64
+	polarity   string
+	topology   string
 	anchor     string
 	json       bool
 	netlist    string
@@ -44,8 +47,8 @@ func NewCmdPlan(env *Env, runF func(*planOptions) error) *cobra.Command {
 	cmd := &cobra.Command{
 		Use:   "plan lowpass|highpass --pass FREQ [--stop FREQ --atten DB | --order N]",
 		Short: "Design the ideal filter: order, sections, normalised and scaled values",
-		Long: `plan designs a unity-gain active filter from a specification, without
-looking at the stock: the order, each section's natural frequency f0 and Q
+		Long: `plan designs an active filter from a specification, without looking at
+the stock: the order, each section's natural frequency f0 and Q
 in cascade order (rising Q), its normalised element values (passband edge at
 1 rad/s, unit resistors for a low-pass, unit capacitors for a high-pass), and
 values scaled by the classical hand procedure: frequency scaling by 2π·fp
@@ -65,6 +68,13 @@ for Chebyshev the edge is the end of the full ripple band. Frequencies accept 15
 Odd orders build the real pole as its own RC section (--odd 1pole) or with
 the lowest-Q pair in one 3-pole section (--odd 3pole).
 
+--gain asks for passband gain in dB (up to 40), shared equally in dB over
+the 2-pole sections. Those are Sallen-Key sections (with a gain divider
+Rb/Ra above 0 dB) or, with --topology mfb, multiple-feedback sections,
+which invert: the output says whether the whole filter does, and
+--polarity keep refuses an inverting filter. The design equations of each
+circuit used are printed under the components.
+
 The netlist (--netlist, and in --json) uses only R, C, V and E elements
 and simulates in any SPICE-compatible program: input node in, output out.`,
 		Example: `  # A rain gauge's ultrasonic echo pick-up: keep 40 kHz and up, at least
@@ -74,6 +84,10 @@ and simulates in any SPICE-compatible program: input node in, output out.`,
   # A model railway's sound card: smooth the DAC output with a 5th-order
   # Bessel low-pass at 8 kHz, one 3-pole section first, 4.7 nF capacitors
   drawerfit plan lowpass --pass 8kHz --response bessel --order 5 --odd 3pole --anchor 4n7
+
+  # A tide gauge's pressure sensor: 20 dB of gain and a low-pass at 2 kHz
+  # from multiple-feedback sections with 10 nF capacitors
+  drawerfit plan lowpass --pass 2k --stop 8k --atten 40 --gain 20 --topology mfb --anchor 10n
 
   # The same as JSON, with the SPICE netlist written to a file
   drawerfit plan lowpass --pass 8k --response bessel --order 5 --json --netlist smoother.cir`,
@@ -123,6 +137,11 @@ func bindSpecFlags(f *pflag.FlagSet, o *planOptions) {
 		choice{"mag", "-3 dB at fp"}, choice{"delay", "unit delay scaled to fp"})
 	enumFlag(f, &o.placement, "placement", "inside", "placement", "where the target sits", nil,
 		choice{"inside", "centred in the specification when the order leaves slack"}, choice{"edge", "classical: Ap exactly at fp"})
+	f.Float64Var(&o.gain, "gain", 0, "passband gain, dB (0..40; at DC for a low-pass, at high frequencies for a high-pass), shared equally over the 2-pole sections")
+	enumFlag(f, &o.polarity, "polarity", "any", "polarity", "polarity", nil,
+		choice{"any", "inverting sections allowed; the output says whether the filter inverts"}, choice{"keep", "the filter must not invert"})
+	enumFlag(f, &o.topology, "topology", "auto", "topology", "2-pole sections", map[string]string{"sk": "sallen-key", "multiple-feedback": "mfb"},
+		choice{"auto", "the fit chooses per section; plan uses sallen-key"}, choice{"sallen-key", ""}, choice{"mfb", "multiple feedback, inverting"})
 }
 
 // planSpec turns the options into a specification; every mistake is a
@@ -194,6 +213,20 @@ func planSpec(o *planOptions) (synth.Spec, error) {
 			return s, fault.Invalidf("--placement: %v", err)
 		}
 	}
+	if !(o.gain >= 0 && o.gain <= synth.MaxGainDB) {
+		return s, fault.Invalidf("--gain must be 0..%d dB, got %g", synth.MaxGainDB, o.gain)
+	}
+	s.GainDB = o.gain
+	if o.polarity != "" {
+		if s.Polarity, err = synth.ParsePolarity(o.polarity); err != nil {
+			return s, fault.Invalidf("--polarity: %v", err)
+		}
+	}
+	if o.topology != "" {
+		if s.Topology, err = synth.ParseTopologyChoice(o.topology); err != nil {
+			return s, fault.Invalidf("--topology: %v", err)
+		}
+	}
 	if s.Stop == 0 && s.Order == 0 {
 		return s, fault.Invalidf("give a stopband (--stop and --atten) or an order (--order)")
 	}
@@ -217,6 +250,9 @@ type planJSON struct {
 	Notes         []string          `json:"notes"`
 	Netlist       string            `json:"netlist"`
 	Placement     placementJSON     `json:"placement"`
+	GainDB        float64           `json:"gain_db"`
+	Inverting     bool              `json:"inverting"`
+	Topologies    []string          `json:"topologies"`
 }
 
 // placementJSON says where the target was placed (plan and fit).
@@ -255,6 +291,9 @@ type planSectionJSON struct {
 	Q          float64             `json:"q"`
 	RealF0Hz   *float64            `json:"real_f0_hz"`
 	Reason     string              `json:"reason"`
+	GainDB     float64             `json:"gain_db"`
+	Inverting  bool                `json:"inverting"`
+	Equations  []string            `json:"equations"`
 	Components []planComponentJSON `json:"components"`
 }
 
@@ -306,10 +345,11 @@ func runPlan(env *Env, o *planOptions) error {
 	}
 	// Attenuation of the analysed (scaled) response, not the ideal target:
 	// they agree, and this is what the values deliver.
-	passAtt := synth.Attenuation(synth.CascadeResponse(stages, 2*math.Pi*spec.Pass))
+	// Relative to the passband gain.
+	passAtt := synth.Attenuation(synth.CascadeResponse(stages, 2*math.Pi*spec.Pass)) + d.GainDB()
 	var stopAtt *float64
 	if spec.Stop > 0 {
-		a := synth.Attenuation(synth.CascadeResponse(stages, 2*math.Pi*spec.Stop))
+		a := synth.Attenuation(synth.CascadeResponse(stages, 2*math.Pi*spec.Stop)) + d.GainDB()
 		stopAtt = &a
 	}
 	warnings := rangeWarnings(stages, refs)
@@ -322,6 +362,9 @@ func runPlan(env *Env, o *planOptions) error {
 			Notes:         append(append([]string{}, d.Notes...), warnings...),
 			Netlist:       netlist,
 			Placement:     placementOf(d),
+			GainDB:        d.GainDB(),
+			Inverting:     d.Inverting(),
+			Topologies:    []string{},
 		}
 		if spec.Stop > 0 {
 			out.StopHz, out.StopAttenDB = &spec.Stop, &spec.StopAtten
@@ -338,7 +381,9 @@ func runPlan(env *Env, o *planOptions) error {
 			if err != nil {
 				return err
 			}
-			js := planSectionJSON{Topology: sec.Topology.ID(), Name: sec.Topology.Name(), F0Hz: sec.F0, Q: sec.Q, Reason: sec.Reason}
+			js := planSectionJSON{Topology: sec.Topology.ID(), Name: sec.Topology.Name(), F0Hz: sec.F0, Q: sec.Q, Reason: sec.Reason,
+				GainDB: 20 * math.Log10(sec.Gain), Inverting: sec.Topology.Inverting(), Equations: sec.Topology.Equations()}
+			out.Topologies = append(out.Topologies, sec.Topology.ID())
 			if sec.RealF0 > 0 {
 				rf := sec.RealF0
 				js.RealF0Hz = &rf
@@ -362,7 +407,12 @@ func runPlan(env *Env, o *planOptions) error {
 		fmt.Fprintln(w, "  "+n)
 	}
 	fmt.Fprintln(w)
-	secs := newGrid("stage", "topology", "f0", "Q", "reason").right(0, 2, 3).wrap(24, 4).wrap(12, 1)
+	withGain := spec.GainDB > 0 || d.Inverting() || spec.Topology != synth.TopologyAuto
+	cols := []string{"stage", "topology", "f0", "Q", "reason"}
+	if withGain {
+		cols = []string{"stage", "topology", "f0", "Q", "gain", "reason"}
+	}
+	secs := newGrid(cols...).right(0, 2, 3).wrap(24, len(cols)-1).wrap(12, 1)
 	secs.title = "Sections in cascade order"
 	for i, sec := range d.Sections {
 		q := "-"
@@ -372,6 +422,14 @@ func runPlan(env *Env, o *planOptions) error {
 		f0 := formatHz(sec.F0)
 		if sec.RealF0 > 0 {
 			f0 += " (real pole " + formatHz(sec.RealF0) + ")"
+		}
+		if withGain {
+			g := formatDB(20*math.Log10(sec.Gain), 2) + " dB"
+			if sec.Topology.Inverting() {
+				g += ", inverting"
+			}
+			secs.add(strconv.Itoa(i+1), sec.Topology.Name(), f0, q, g, sec.Reason)
+			continue
 		}
 		secs.add(strconv.Itoa(i+1), sec.Topology.Name(), f0, q, sec.Reason)
 	}
@@ -392,6 +450,25 @@ func runPlan(env *Env, o *planOptions) error {
 		}
 	}
 	comps.render(env, w)
+	if withGain {
+		// The design equations of each topology used (Op Amps for
+		// Everyone, SLOD006B, ch. 16, from memory; docs/check-values.md,
+		// "Section circuits").
+		fmt.Fprintln(w)
+		fmt.Fprintln(w, "Design equations")
+		seen := map[string]bool{}
+		for _, sec := range d.Sections {
+			t := sec.Topology
+			if seen[t.ID()] {
+				continue
+			}
+			seen[t.ID()] = true
+			fmt.Fprintf(w, "  %s:\n", t.Name())
+			for _, eq := range t.Equations() {
+				fmt.Fprintf(w, "    %s\n", eq)
+			}
+		}
+	}
 	fmt.Fprintln(w)
 	fmt.Fprintf(w, "Attenuation: %s dB at fp %s (allowed %.3f dB)", formatDB(passAtt, 3), formatHz(spec.Pass), spec.PassAtten)
 	if stopAtt != nil {
@@ -414,6 +491,12 @@ func planTitle(d *synth.Design) string {
 	fmt.Fprintf(&b, "%s-order %s %s, fp %s", ordinal(d.Order), approxName(s), kindName(s.Kind), formatHz(s.Pass))
 	if s.Stop > 0 {
 		fmt.Fprintf(&b, ", fs %s with %.4g dB", formatHz(s.Stop), s.StopAtten)
+	}
+	if g := d.GainDB(); g > 0 {
+		fmt.Fprintf(&b, ", gain %.4g dB", g)
+	}
+	if d.Inverting() {
+		b.WriteString(", inverting")
 	}
 	return b.String()
 }

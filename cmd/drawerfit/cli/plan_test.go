@@ -274,6 +274,12 @@ func TestPlanErrors(t *testing.T) {
 		{"unknown-flag", []string{"lowpass", "--pass", "1k", "--order", "2", "--colour"}, 2, "unknown flag"},
 		{"bessel-infeasible", []string{"lowpass", "--pass", "1k", "--stop", "2k", "--atten", "30", "--response", "bessel"}, 1, "the most is 14.17 dB"},
 		{"order-limit", []string{"lowpass", "--pass", "1k", "--stop", "1.2k", "--atten", "100"}, 1, "the limit is 12"},
+		{"gain-too-high", []string{"lowpass", "--pass", "1k", "--order", "2", "--gain", "41"}, 2, "--gain must be 0..40 dB"},
+		{"gain-negative", []string{"lowpass", "--pass", "1k", "--order", "2", "--gain", "-3"}, 2, "--gain must be 0..40 dB"},
+		{"bad-polarity", []string{"lowpass", "--pass", "1k", "--order", "2", "--polarity", "flip"}, 2, "--polarity"},
+		{"bad-topology", []string{"lowpass", "--pass", "1k", "--order", "2", "--topology", "twin-t"}, 2, "--topology"},
+		{"gain-without-2pole", []string{"lowpass", "--pass", "1k", "--order", "1", "--gain", "6"}, 1, "needs a 2-pole section"},
+		{"mfb-keep-odd", []string{"lowpass", "--pass", "1k", "--order", "6", "--gain", "6", "--topology", "mfb", "--polarity", "keep"}, 1, "polarity keep forbids"},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -310,6 +316,8 @@ func TestPlanGolden(t *testing.T) {
 	}{
 		{"testdata/plan-butterworth-lowpass.golden", []string{"lowpass", "--pass", "1k", "--stop", "3k", "--atten", "40", "--odd", "3pole"}},
 		{"testdata/plan-chebyshev-highpass.golden", []string{"highpass", "--pass", "40k", "--stop", "10k", "--atten", "50", "--response", "chebyshev", "--ripple", "0.5", "--anchor", "1n"}},
+		{"testdata/plan-mfb-gain-lowpass.golden", []string{"lowpass", "--pass", "2k", "--stop", "8k", "--atten", "40", "--gain", "20", "--topology", "mfb", "--anchor", "10n"}},
+		{"testdata/plan-sallen-key-gain-highpass.golden", []string{"highpass", "--pass", "300", "--order", "3", "--gain", "12", "--topology", "sallen-key"}},
 	}
 	for _, c := range cases {
 		t.Run(c.file, func(t *testing.T) {
