@@ -17,7 +17,10 @@ import (
 // the ideal section.
 func ampTargets(sec *synth.Section, g *scoreGrid, op *synth.OpAmp) (search, ideal *target) {
 	ideal = newTarget(sec, g)
-	if op == nil {
+	if op == nil || sec.Topology.Minus() != "out" {
+		// The predistortion models a follower; a section with gain or an
+		// inverting section is searched against its ideal target and
+		// re-scored with the amplifier afterwards.
 		return ideal, ideal
 	}
 	pd, _ := Predistort(sec, op, g.w)

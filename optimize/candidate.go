@@ -1,6 +1,7 @@
 package optimize
 
 import (
+	"math"
 	"sort"
 
 	"drawerfit/stock"
@@ -129,6 +130,30 @@ type Candidate struct {
 	// Amp; the figure an ideal-amplifier score would give these parts).
 	IdealAmpError float64
 }
+
+// GainDB returns the section's passband gain in dB from its built values
+// (at DC for a low-pass, at high frequencies for a high-pass).
+func (s *SectionFit) GainDB() float64 {
+	return 20 * math.Log10(math.Abs(s.Target.Topology.PassbandGain(s.Values())))
+}
+
+// GainDB returns the candidate's passband gain in dB from its built values:
+// the sum of its sections'.
+func (c *Candidate) GainDB() float64 {
+	var g float64
+	for i := range c.Sections {
+		g += c.Sections[i].GainDB()
+	}
+	return g
+}
+
+// Inverting reports whether the candidate inverts the signal (an odd
+// number of inverting sections).
+func (c *Candidate) Inverting() bool { return c.Design.Inverting() }
+
+// Topologies names the candidate's circuits in cascade order, e.g.
+// "MFB + 2 × SK" (synth.Design.TopologySummary).
+func (c *Candidate) Topologies() string { return c.Design.TopologySummary() }
 
 // Order returns the filter order of the candidate.
 func (c *Candidate) Order() int { return c.Design.Order }

@@ -116,9 +116,11 @@ func Fit(ctx context.Context, items []stock.Item, spec synth.Spec, o Options) (*
 		return nil, err
 	}
 	type job struct {
-		n   int
-		odd synth.Odd
+		n    int
+		odd  synth.Odd
+		base int // the design the variant was made from
 	}
+	base := 0
 	var jobs []job
 	var designs []*synth.Design
 	for _, n := range orders {
@@ -138,8 +140,19 @@ func Fit(ctx context.Context, items []stock.Item, spec synth.Spec, o Options) (*
 			if err != nil {
 				return nil, err
 			}
-			jobs = append(jobs, job{n, odd})
-			designs = append(designs, d)
+			// Every assignment of circuits the specification allows (the
+			// 2-pole sections as Sallen-Key or multiple-feedback under
+			// auto); sections shared by several are searched once.
+			base++
+			for _, v := range d.Variants() {
+				for i, sec := range v.Sections {
+					if searchMethod(sec.Topology) == "" {
+						return nil, fault.Invalidf("section %d: the fit has no search for the %s", i+1, sec.Topology.Name())
+					}
+				}
+				jobs = append(jobs, job{n, odd, base})
+				designs = append(designs, v)
+			}
 		}
 	}
 	rows, why, short := usableRows(items, o)
@@ -183,6 +196,7 @@ func Fit(ctx context.Context, items []stock.Item, spec synth.Spec, o Options) (*
 		stopIdx = indexOf(grid.f, spec.Stop)
 	}
 	top := &topList{k: o.Top}
+	searched := map[sectionKey]searchedSection{}
 	var closest *combo
 	var lists [][][]sectionCand
 	var diags [][]sectionDiag
@@ -198,7 +212,8 @@ func Fit(ctx context.Context, items []stock.Item, spec synth.Spec, o Options) (*
 		savedTop, savedClosest := append([]*combo(nil), top.list...), closest
 		for k := o.Shortlist; ; k *= 8 {
 			var cb *combiner
-			secLists, secDiag, cb = searchDesign(d, &grid, res, caps, rows, o, k, ji, passIdx, stopIdx, spec, top, progress, stop)
+			secLists, secDiag, cb = searchDesign(d, &grid, res, caps, rows, o, k, ji, passIdx, stopIdx, spec, top, progress, stop,
+				searched, jb.base)
 			if stop.Load() {
 				return nil, interrupted(ctx)
 			}
@@ -255,10 +270,25 @@ func Fit(ctx context.Context, items []stock.Item, spec synth.Spec, o Options) (*
 	return r, nil
 }
 
+// sectionKey identifies one section search: the variants of a design share
+// the searches of their common sections.
+type sectionKey struct {
+	base, section int
+	topology      string
+	k             int
+}
+
+// searchedSection is a finished section search.
+type searchedSection struct {
+	list []sectionCand
+	diag sectionDiag
+}
+
 // searchDesign searches every section of design d with shortlists of k per
 // part count and combines them into top.
 func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []Row, o Options, k, ji, passIdx, stopIdx int,
-	spec synth.Spec, top *topList, progress func(), stop *atomic.Bool) ([][]sectionCand, []sectionDiag, *combiner) {
+	spec synth.Spec, top *topList, progress func(), stop *atomic.Bool,
+	searched map[sectionKey]searchedSection, base int) ([][]sectionCand, []sectionDiag, *combiner) {
 	secLists := make([][]sectionCand, len(d.Sections))
 	secDiag := make([]sectionDiag, len(d.Sections))
 	tdbTotal := make([]float64, len(grid.w))
@@ -282,10 +312,23 @@ func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []
 		}
 		return secLists, secDiag, &combiner{}
 	}
+	// The combiner's attenuations are relative to the passband gain.
+	gainDB := d.GainDB()
 	for i := range d.Sections {
 		t, ideal := targets[i], ideals[i]
 		for g, v := range ideal.tdb {
 			tdbTotal[g] += v
+		}
+		if i == 0 {
+			for g := range tdbTotal {
+				tdbTotal[g] -= gainDB
+			}
+		}
+		key := sectionKey{base: base, section: i, topology: t.topo.ID(), k: k}
+		if r, ok := searched[key]; ok {
+			secLists[i], secDiag[i] = r.list, r.diag
+			progress()
+			continue
 		}
 		ss := &sectionSearch{t: t, res: res, cap: caps, rows: rows, boards: o.Boards,
 			k: k, ceiling: sectionCeiling, rmin: o.RMin, rmax: o.RMax, stop: stop,
@@ -296,6 +339,7 @@ func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []
 		}
 		rescoreWithAmp(secLists[i], ideal, o.Amp)
 		sortForRank(secLists[i], o.Rank)
+		searched[key] = searchedSection{secLists[i], secDiag[i]}
 		progress()
 	}
 	cb := &combiner{lists: secLists, rows: rows, boards: o.Boards, rank: o.Rank,

@@ -444,8 +444,12 @@ func (w *worker) rowUse(n int) ([]rowCount, bool) {
 }
 
 func (w *worker) search(part, of int) {
-	if w.s.t.topo.Poles() > 2 {
+	switch searchMethod(w.s.t.topo) {
+	case "three-pole":
 		w.searchThreePole(part, of)
+		return
+	case "solved":
+		w.searchSolved(part, of)
 		return
 	}
 	w.seed(part, of)

@@ -610,3 +610,90 @@ func siString(x float64, unit string) string {
 	}
 	return fmt.Sprintf("%.4g %s", x, unit)
 }
+
+// MaxVariants bounds the topology assignments Variants lists: with more
+// 2-pole sections than fit in it, only the uniform assignments are listed.
+const MaxVariants = 16
+
+// Variants returns the design built with every assignment of its
+// sections' Alternatives that the specification's polarity allows, the
+// plan's own assignment first (when allowed). When the assignments number
+// more than MaxVariants, only the uniform ones (every 2-pole section of one
+// family) are returned. Each variant is a copy; d is not changed.
+func (d *Design) Variants() []*Design {
+	var idx []int
+	var alts [][]*Topology
+	total := 1
+	for i := range d.Sections {
+		if a := d.Alternatives(i); len(a) > 1 {
+			idx = append(idx, i)
+			alts = append(alts, a)
+			total *= len(a)
+		}
+	}
+	if len(idx) == 0 {
+		return []*Design{d}
+	}
+	var out []*Design
+	add := func(choice []int) {
+		v := *d
+		v.Sections = append([]Section(nil), d.Sections...)
+		v.Notes = append([]string(nil), d.Notes...)
+		for k, i := range idx {
+			v.Sections[i].Topology = alts[k][choice[k]]
+		}
+		if d.Spec.Polarity == PolarityKeep && v.Inverting() {
+			return
+		}
+		out = append(out, &v)
+	}
+	choice := make([]int, len(idx))
+	if total > MaxVariants {
+		for c := 0; c < len(alts[0]); c++ {
+			for k := range choice {
+				choice[k] = min(c, len(alts[k])-1)
+			}
+			add(choice)
+		}
+		return out
+	}
+	for {
+		add(choice)
+		k := len(choice) - 1
+		for k >= 0 {
+			choice[k]++
+			if choice[k] < len(alts[k]) {
+				break
+			}
+			choice[k] = 0
+			k--
+		}
+		if k < 0 {
+			return out
+		}
+	}
+}
+
+// TopologySummary names the design's circuits in cascade order, counting
+// runs of one family: "RC + 2 × SK", "MFB + SK".
+func (d *Design) TopologySummary() string {
+	var parts []string
+	for i := 0; i < len(d.Sections); {
+		t := d.Sections[i].Topology
+		j := i
+		for j < len(d.Sections) && d.Sections[j].Topology.family == t.family && d.Sections[j].Topology.poles == t.poles {
+			j++
+		}
+		f := t.family
+		name := f.Short()
+		if d.Sections[i].Topology.poles == 3 {
+			name = "3-pole SK"
+		}
+		if j-i > 1 {
+			name = fmt.Sprintf("%d × %s", j-i, name)
+		}
+		parts = append(parts, name)
+		i = j
+	}
+	return strings.Join(parts, " + ")
+}

@@ -223,3 +223,45 @@ func TestGainAssignment(t *testing.T) {
 		}
 	}
 }
+
+// TestVariants checks the topology assignments the fit searches: every
+// combination under auto, none that inverts under polarity keep, and the
+// summary names.
+func TestVariants(t *testing.T) {
+	t.Parallel()
+	d, err := NewDesign(Spec{Approx: Butterworth, Pass: 1000, Order: 5, GainDB: 20}, 0, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	vs := d.Variants()
+	if len(vs) != 4 {
+		t.Fatalf("%d variants of RC + two 2-pole sections, want 4", len(vs))
+	}
+	names := map[string]bool{}
+	for _, v := range vs {
+		names[v.TopologySummary()] = true
+		testkit.Close(t, "variant gain", v.GainDB(), 20, testkit.Abs(1e-9))
+	}
+	for _, want := range []string{"RC + 2 × SK", "RC + SK + MFB", "RC + MFB + SK", "RC + 2 × MFB"} {
+		if !names[want] {
+			t.Errorf("no variant %q among %v", want, names)
+		}
+	}
+	if d.Sections[1].Topology != SallenKeyGainLowPass() {
+		t.Errorf("Variants changed the design")
+	}
+	s := d.Spec
+	s.Polarity = PolarityKeep
+	k, err := NewDesign(s, 0, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, v := range k.Variants() {
+		if v.Inverting() {
+			t.Errorf("polarity keep listed the inverting %s", v.TopologySummary())
+		}
+	}
+	if n := len(k.Variants()); n != 2 {
+		t.Errorf("polarity keep: %d variants, want 2 (no MFB, or both)", n)
+	}
+}

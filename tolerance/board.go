@@ -177,6 +177,10 @@ func (b *board) nominalParts() []float64 {
 type coeffs struct {
 	num, den synth.Poly
 	poles    int
+	// pass2 is the section's passband |H|² (1 for a unity-gain section):
+	// a board's response is judged relative to its own passband gain, as
+	// the specification's attenuations are.
+	pass2 float64
 }
 
 // workspace is the per-goroutine scratch for analysing a board.
@@ -229,11 +233,28 @@ func (w *workspace) loadSection(si int, parts []float64) {
 	for k, ci := range s.comps {
 		v[k] = w.compValue(ci, parts)
 	}
-	w.coeffs[si].num, w.coeffs[si].den = s.topo.Coeffs(v)
+	c := &w.coeffs[si]
+	c.num, c.den = s.topo.Coeffs(v)
+	p := c.num[0] / c.den[0]
+	if s.topo.Response() == synth.HighPass {
+		p = c.num[c.poles] / c.den[c.poles]
+	}
+	c.pass2 = p * p
+}
+
+// passGain2 returns the cascade's passband |H|² (1 for unity-gain
+// sections).
+func (w *workspace) passGain2() float64 {
+	g := 1.0
+	for i := range w.coeffs {
+		g *= w.coeffs[i].pass2
+	}
+	return g
 }
 
 // gain2 returns the cascade's |H(jω)|², with the board's amplifier when
-// it has one (measured from its passband gain).
+// it has one (measured from its passband gain), relative to the
+// passband gain of its sections with gain.
 func (w *workspace) gain2(omega float64) float64 {
 	if w.b.amp != nil && !w.ideal {
 		if w.b.ampFmax > 0 {
@@ -244,12 +265,15 @@ func (w *workspace) gain2(omega float64) float64 {
 			h := synth.AmpResponse(s.topo, w.vals[i], w.b.amp, omega)
 			g *= real(h)*real(h) + imag(h)*imag(h)
 		}
-		return g / w.b.ampRef
+		return g / w.b.ampRef / w.passGain2()
 	}
 	g := 1.0
 	for i := range w.coeffs {
 		c := &w.coeffs[i]
 		g *= synth.Gain2(c.num, c.den, c.poles, omega)
+		if c.pass2 != 1 {
+			g /= c.pass2
+		}
 	}
 	return g
 }

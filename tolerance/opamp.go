@@ -160,7 +160,8 @@ func CheckOpAmp(c *optimize.Candidate, spec synth.Spec, op synth.OpAmp) (*OpAmpR
 	ws.ideal = true // the reference: the same parts with ideal amplifiers
 	ws.load(b.nominalParts())
 	dc := op.DCFollowerGain()
-	ref := math.Pow(dc*dc, float64(len(b.sections)))
+	// Times the ideal passband gain of sections with gain.
+	ref := math.Pow(dc*dc, float64(len(b.sections))) * ws.passGain2()
 	ob := &opampBoard{b: b, vals: ws.vals, op: &op, ref: ref}
 	rep := &OpAmpReport{GBW: op.GBW, DCGain: op.DCGain, Rule: GBWRuleSource, Warnings: []string{}}
 

@@ -449,7 +449,7 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 		return
 	}
 	withAmp := len(res.Candidates) > 0 && res.Candidates[0].Amp != nil
-	head := []string{"#", "order", "sections", "error dB", "at fp dB", "at fs dB", "parts", "unique", "cost/board", "boards", "pareto"}
+	head := []string{"#", "order", "sections", "error dB", "at fp dB", "at fs dB", "parts", "unique", "cost/board", "boards", "pareto", "topology"}
 	if withAmp {
 		head = append(head, "amplifier", "ideal-amp dB")
 	}
@@ -457,11 +457,11 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 	g.right(0, 1, 3, 4, 5, 6, 7, 8, 9)
 	// On a narrow terminal: the error, the parts and the place stay; the
 	// stock detail goes first, the figures at fp and fs later.
-	g.abbrev(1, "ord").abbrev(3, "err dB").abbrev(4, "fp dB").abbrev(5, "fs dB").abbrev(7, "uniq").abbrev(8, "cost").abbrev(10, "P")
-	g.optional(dropFirst, 7, 10).optional(dropLater, 1, 4, 5, 8).optional(dropLast, 9)
+	g.abbrev(1, "ord").abbrev(3, "err dB").abbrev(4, "fp dB").abbrev(5, "fs dB").abbrev(7, "uniq").abbrev(8, "cost").abbrev(10, "P").abbrev(11, "circuits")
+	g.optional(dropFirst, 7, 10).optional(dropLater, 1, 4, 5, 8, 11).optional(dropLast, 9)
 	if withAmp {
-		g.right(12)
-		g.abbrev(11, "amp").abbrev(12, "ideal dB").optional(dropLater, 12)
+		g.right(13)
+		g.abbrev(12, "amp").abbrev(13, "ideal dB").optional(dropLater, 13)
 	}
 	for i, c := range res.Candidates {
 		mark := ""
@@ -476,7 +476,7 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 		}
 		row := []string{strconv.Itoa(i + 1), strconv.Itoa(c.Order()), c.Arrangement(), fmtErr(c.ResponseError),
 			formatDB(c.PassAtten, 3), stopCell(c.StopAtten), strconv.Itoa(c.PartCount), strconv.Itoa(c.UniqueParts),
-			c.CostPerBoard.String(), strconv.Itoa(c.BoardsBuildable), strings.TrimSpace(mark)}
+			c.CostPerBoard.String(), strconv.Itoa(c.BoardsBuildable), strings.TrimSpace(mark), topologyCell(c)}
 		if withAmp {
 			row = append(row, ampCell(c), fmtErr(c.IdealAmpError))
 		}
@@ -507,8 +507,16 @@ func printCandidateDetail(env *Env, w io.Writer, c *optimize.Candidate, rank int
 	if c.CostPerBoard.Known() {
 		cost = ", parts cost " + c.CostPerBoard.String() + " per board"
 	}
-	fmt.Fprintf(w, "\nCandidate #%d: order %d, %s, response error %s dB, %s from %s%s, %s\n",
-		rank, c.Order(), c.Arrangement(), fmtErr(c.ResponseError), plural(c.PartCount, "part"), plural(c.UniqueParts, "stock row"), cost, ampSummary(c))
+	fmt.Fprintf(w, "\nCandidate #%d: order %d, %s (%s), response error %s dB, %s from %s%s, %s\n",
+		rank, c.Order(), c.Arrangement(), topologyCell(c), fmtErr(c.ResponseError), plural(c.PartCount, "part"), plural(c.UniqueParts, "stock row"), cost, ampSummary(c))
+	if g := c.GainDB(); math.Abs(g) > 0.005 || c.Inverting() {
+		inv := "does not invert"
+		if c.Inverting() {
+			inv = "inverts"
+		}
+		fmt.Fprintf(w, "Passband gain %s dB from the built values (asked %s dB); the filter %s.\n",
+			formatDB(g, 2), formatDB(c.Design.Spec.GainDB, 2), inv)
+	}
 	for i, s := range c.Sections {
 		t := s.Target
 		head := fmt.Sprintf("Section %d, %s: target f0 %s", i+1, t.Topology.Name(), formatHz(t.F0))
@@ -521,6 +529,12 @@ func printCandidateDetail(env *Env, w io.Writer, c *optimize.Candidate, rank int
 		}
 		if t.Topology.Poles() == 3 {
 			head += fmt.Sprintf("; real pole %s (target %s)", formatHz(s.RealF0), formatHz(t.RealF0))
+		}
+		if !t.Topology.GainFixed() || t.Topology.Inverting() {
+			head += fmt.Sprintf("; gain %s dB (target %s dB)", formatDB(s.GainDB(), 2), formatDB(20*math.Log10(t.Gain), 2))
+			if t.Topology.Inverting() {
+				head += ", inverting"
+			}
 		}
 		if c.Amp != nil && i < len(c.AmpSlots) {
 			head += "; amplifier " + c.AmpSlots[i].Designator(c.Amp.Channels)
@@ -652,9 +666,23 @@ func searchedText(r *optimize.Result) string {
 	var parts []string
 	for _, d := range r.Designs {
 		c := optimize.Candidate{Design: d}
-		parts = append(parts, fmt.Sprintf("order %d (%s)", d.Order, c.Arrangement()))
+		p := fmt.Sprintf("order %d (%s)", d.Order, c.Arrangement())
+		if s := d.TopologySummary(); strings.Contains(s, "MFB") || d.Spec.GainDB > 0 {
+			p = fmt.Sprintf("order %d (%s)", d.Order, s)
+		}
+		parts = append(parts, p)
 	}
 	return strings.Join(parts, ", ")
+}
+
+// topologyCell names a candidate's circuits, with " inv" when the filter
+// inverts.
+func topologyCell(c *optimize.Candidate) string {
+	s := c.Topologies()
+	if c.Inverting() {
+		s += ", inverting"
+	}
+	return s
 }
 
 // progress prints a one-line progress indicator on stderr when it is a
@@ -706,6 +734,8 @@ type jsonComponent struct {
 
 type jsonSection struct {
 	Topology   string          `json:"topology"`
+	GainDB     float64         `json:"gain_db"`
+	Inverting  bool            `json:"inverting"`
 	TargetF0   float64         `json:"target_f0_hz"`
 	TargetQ    float64         `json:"target_q"`
 	F0         float64         `json:"f0_hz"`
@@ -739,6 +769,10 @@ type jsonCandidate struct {
 	DielectricCautions []string       `json:"dielectric_cautions"`
 	BoardsBuildable    int            `json:"boards_buildable"`
 	Pareto             bool           `json:"pareto"`
+	GainDB             float64        `json:"gain_db"`
+	Inverting          bool           `json:"inverting"`
+	Topology           string         `json:"topology"`
+	Topologies         []string       `json:"topologies"`
 	Sections           []jsonSection  `json:"sections"`
 	StockUse           []jsonStockUse `json:"stock_use"`
 	Netlist            string         `json:"netlist"`
@@ -769,6 +803,9 @@ type jsonSpec struct {
 	StopAtten *float64 `json:"stop_atten_db"`
 	Ripple    *float64 `json:"ripple_db"`
 	Order     *int     `json:"order"`
+	GainDB    float64  `json:"gain_db"`
+	Polarity  string   `json:"polarity"`
+	Topology  string   `json:"topology"`
 }
 
 type jsonFit struct {
@@ -791,7 +828,8 @@ type jsonSearched struct {
 }
 
 func specJSON(s synth.Spec, order int) jsonSpec {
-	js := jsonSpec{Kind: s.Kind.String(), Response: s.Approx.String(), PassHz: s.Pass, PassAtten: s.PassAtten}
+	js := jsonSpec{Kind: s.Kind.String(), Response: s.Approx.String(), PassHz: s.Pass, PassAtten: s.PassAtten,
+		GainDB: s.GainDB, Polarity: s.Polarity.String(), Topology: s.Topology.String()}
 	if s.Stop > 0 {
 		fs, as := s.Stop, s.StopAtten
 		js.StopHz, js.StopAtten = &fs, &as
@@ -811,7 +849,8 @@ func candidateJSON(c *optimize.Candidate, rank int) jsonCandidate {
 		MeetsSpec: c.MeetsSpec, Attenuation: jsonAtten{Pass: c.PassAtten}, PartCount: c.PartCount,
 		UniqueParts: c.UniqueParts, CostPerBoard: moneyJSON(c.CostPerBoard), BoardsBuildable: c.BoardsBuildable,
 		DielectricCautions: append([]string{}, c.Cautions...),
-		Pareto:             c.Pareto, Netlist: candidateNetlist(c), OpAmps: ampJSON(c), OpAmpCount: len(c.Sections),
+		GainDB:             c.GainDB(), Inverting: c.Inverting(), Topology: c.Topologies(), Topologies: []string{},
+		Pareto: c.Pareto, Netlist: candidateNetlist(c), OpAmps: ampJSON(c), OpAmpCount: len(c.Sections),
 		DesignNotes: append([]string{}, c.Design.Notes...), Placement: placementOf(c.Design),
 		Warnings: []string{}, BiasResistors: []jsonBias{}}
 	if c.Amp != nil {
@@ -823,7 +862,9 @@ func candidateJSON(c *optimize.Candidate, rank int) jsonCandidate {
 		jc.Attenuation.Stop = &v
 	}
 	for _, s := range c.Sections {
-		js := jsonSection{Topology: s.Target.Topology.ID(), TargetF0: s.Target.F0, TargetQ: s.Target.Q, F0: s.F0, Q: s.Q}
+		js := jsonSection{Topology: s.Target.Topology.ID(), TargetF0: s.Target.F0, TargetQ: s.Target.Q, F0: s.F0, Q: s.Q,
+			GainDB: s.GainDB(), Inverting: s.Target.Topology.Inverting()}
+		jc.Topologies = append(jc.Topologies, s.Target.Topology.ID())
 		for _, comp := range s.Components {
 			jcmp := jsonComponent{Ref: comp.Ref, Symbol: comp.Symbol, Value: comp.Value, Arrangement: comp.Arrangement.String(),
 				Tolerance: comp.Tolerance()}
