@@ -4,6 +4,7 @@ import (
 	"context"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 
 	"drawerfit/stock"
@@ -81,9 +82,26 @@ func allValues(items []stock.Item, k stock.Kind, pairs bool) []float64 {
 	return in
 }
 
+// exhaustiveBestOf returns the smallest response error over every
+// assignment of every design (the variants of circuits a fit searches).
+func exhaustiveBestOf(ds []*synth.Design, res, caps []float64, distinct bool) float64 {
+	best := math.Inf(1)
+	for _, d := range ds {
+		best = math.Min(best, exhaustiveBestDistinct(d, res, caps, distinct))
+	}
+	return best
+}
+
 // exhaustiveBest returns the smallest response error over every assignment
 // of the design's sections.
 func exhaustiveBest(d *synth.Design, res, caps []float64) float64 {
+	return exhaustiveBestDistinct(d, res, caps, false)
+}
+
+// exhaustiveBestDistinct is exhaustiveBest; with distinct, no value is used
+// twice in one section (a stock of one part per row and value, built once:
+// tight quantities; only for single-section designs).
+func exhaustiveBestDistinct(d *synth.Design, res, caps []float64, distinct bool) float64 {
 	g := gridFor(d.Spec)
 	tdb := make([]float64, len(g.w))
 	for i, w := range g.w {
@@ -110,6 +128,9 @@ func exhaustiveBest(d *synth.Design, res, caps []float64) float64 {
 				vals = caps
 			}
 			for _, x := range vals {
+				if distinct && slices.Contains(v[:i], x) {
+					continue
+				}
 				v[i] = x
 				rec(i + 1)
 			}
@@ -145,6 +166,10 @@ func exhaustiveBest(d *synth.Design, res, caps []float64) float64 {
 
 func TestFitMatchesExhaustiveSearch(t *testing.T) {
 	t.Parallel()
+	// The unity-gain cases keep to Sallen-Key (the searches that walk the
+	// (ln w0, ln Q) boxes); the reference's combination of sections grows
+	// as the product of the sections' assignments, which the
+	// multiple-feedback alternatives of a 4th order would make too large.
 	cases := []struct {
 		name   string
 		spec   synth.Spec
@@ -152,12 +177,20 @@ func TestFitMatchesExhaustiveSearch(t *testing.T) {
 		nr, nc int
 		pairs  bool
 	}{
-		{"butterworth-2-pairs", synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2}, synth.OddOnePole, 4, 3, true},
-		{"chebyshev-2-highpass-pairs", synth.Spec{Kind: synth.HighPass, Approx: synth.Chebyshev, Ripple: 0.5, Pass: 2000, Order: 2}, synth.OddOnePole, 4, 3, true},
-		{"butterworth-3-rc-singles", synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 3}, synth.OddOnePole, 8, 6, false},
+		{"butterworth-2-pairs", synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2, Topology: synth.TopologySallenKey}, synth.OddOnePole, 4, 3, true},
+		{"chebyshev-2-highpass-pairs", synth.Spec{Kind: synth.HighPass, Approx: synth.Chebyshev, Ripple: 0.5, Pass: 2000, Order: 2, Topology: synth.TopologySallenKey}, synth.OddOnePole, 4, 3, true},
+		{"butterworth-3-rc-singles", synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 3, Topology: synth.TopologySallenKey}, synth.OddOnePole, 8, 6, false},
 		{"bessel-3-threepole-singles", synth.Spec{Kind: synth.LowPass, Approx: synth.Bessel, Pass: 1000, Order: 3}, synth.OddThreePole, 8, 6, false},
 		{"butterworth-3-threepole-highpass-singles", synth.Spec{Kind: synth.HighPass, Approx: synth.Butterworth, Pass: 500, Order: 3}, synth.OddThreePole, 8, 6, false},
-		{"butterworth-4-singles", synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 4}, synth.OddOnePole, 8, 6, false},
+		{"butterworth-4-singles", synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 4, Topology: synth.TopologySallenKey}, synth.OddOnePole, 8, 6, false},
+		// The gain and multiple-feedback sections (searched from their
+		// descriptions): one family forced, and auto (both families).
+		{"sallen-key-gain-2-singles", synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2, GainDB: 12, Topology: synth.TopologySallenKey}, synth.OddOnePole, 7, 4, false},
+		{"sallen-key-gain-2-highpass-singles", synth.Spec{Kind: synth.HighPass, Approx: synth.Chebyshev, Ripple: 1, Pass: 1000, Order: 2, GainDB: 6, Topology: synth.TopologySallenKey}, synth.OddOnePole, 7, 4, false},
+		{"mfb-2-gain-singles", synth.Spec{Kind: synth.LowPass, Approx: synth.Bessel, Pass: 1000, Order: 2, GainDB: 20, Topology: synth.TopologyMFB}, synth.OddOnePole, 8, 5, false},
+		{"mfb-2-highpass-gain-singles", synth.Spec{Kind: synth.HighPass, Approx: synth.Butterworth, Pass: 500, Order: 2, GainDB: 6, Topology: synth.TopologyMFB}, synth.OddOnePole, 6, 6, false},
+		{"auto-2-gain-singles", synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2, GainDB: 10}, synth.OddOnePole, 6, 4, false},
+		{"auto-3-gain-keep-singles", synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 3, GainDB: 6, Polarity: synth.PolarityKeep}, synth.OddOnePole, 6, 4, false},
 	}
 	if testing.Short() {
 		cases = cases[:3]
@@ -182,7 +215,7 @@ func TestFitMatchesExhaustiveSearch(t *testing.T) {
 				if len(r.Candidates) == 0 {
 					t.Fatal("no candidate")
 				}
-				want := exhaustiveBest(r.Designs[0], allValues(items, stock.Resistor, tc.pairs), allValues(items, stock.Capacitor, tc.pairs))
+				want := exhaustiveBestOf(r.Designs, allValues(items, stock.Resistor, tc.pairs), allValues(items, stock.Capacitor, tc.pairs), false)
 				got := r.Candidates[0].ResponseError
 				// The exhaustive reference may find values the fit's
 				// section ceiling excludes only when every assignment is
@@ -195,6 +228,43 @@ func TestFitMatchesExhaustiveSearch(t *testing.T) {
 				}
 			})
 		}
+	}
+}
+
+// TestFitTightQuantitiesMatchExhaustive: one part per stock row and one
+// board, so no value can fill two positions of a section; the fit must
+// find the exhaustive optimum over assignments of distinct parts, for the
+// gain and multiple-feedback sections too.
+func TestFitTightQuantitiesMatchExhaustive(t *testing.T) {
+	t.Parallel()
+	for _, spec := range []synth.Spec{
+		{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2},
+		{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: 1000, Order: 2, GainDB: 12},
+		{Kind: synth.HighPass, Approx: synth.Butterworth, Pass: 1000, Order: 2, GainDB: 6, Topology: synth.TopologyMFB},
+	} {
+		t.Run(spec.Topology.String()+"-"+spec.Kind.String()+"-"+ftoa(spec.GainDB), func(t *testing.T) {
+			t.Parallel()
+			items := smallStock(3, 7, 5)
+			for i := range items {
+				items[i].Quantity = 1
+			}
+			o := DefaultOptions()
+			o.Rank, o.ShowFailing, o.Top, o.Combine = RankError, true, 1, 1
+			r, err := Fit(context.Background(), items, spec, o)
+			if err != nil {
+				t.Fatal(err)
+			}
+			want := exhaustiveBestOf(r.Designs, allValues(items, stock.Resistor, false), allValues(items, stock.Capacitor, false), true)
+			if want > sectionCeiling {
+				t.Skipf("every assignment is worse than %g dB (best %.3f dB)", sectionCeiling, want)
+			}
+			if len(r.Candidates) == 0 {
+				t.Fatalf("no candidate; exhaustive best %.6f dB", want)
+			}
+			if got := r.Candidates[0].ResponseError; math.Abs(got-want) > 1e-9 {
+				t.Errorf("fit best error %.12f dB, exhaustive %.12f dB", got, want)
+			}
+		})
 	}
 }
 
@@ -218,7 +288,7 @@ func TestFitPoorStockMatchesExhaustive(t *testing.T) {
 	if err != nil || len(r.Candidates) == 0 {
 		t.Fatalf("fit: %v", err)
 	}
-	want := exhaustiveBest(r.Designs[0], allValues(items, stock.Resistor, false), allValues(items, stock.Capacitor, false))
+	want := exhaustiveBestOf(r.Designs, allValues(items, stock.Resistor, false), allValues(items, stock.Capacitor, false), false)
 	if got := r.Candidates[0].ResponseError; math.Abs(got-want) > 1e-9 {
 		t.Errorf("fit best error %.9f dB, exhaustive %.9f dB", got, want)
 	}

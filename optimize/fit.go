@@ -121,6 +121,7 @@ func Fit(ctx context.Context, items []stock.Item, spec synth.Spec, o Options) (*
 		base int // the design the variant was made from
 	}
 	base := 0
+	var skipped []error
 	var jobs []job
 	var designs []*synth.Design
 	for _, n := range orders {
@@ -138,6 +139,13 @@ func Fit(ctx context.Context, items []stock.Item, spec synth.Spec, o Options) (*
 			s.Order, s.Odd = n, odd
 			d, err := synth.NewDesign(s, n, odd)
 			if err != nil {
+				// An arrangement that cannot carry the gain or keep the
+				// polarity (no 2-pole section, an odd number of inverting
+				// ones) is skipped while another can.
+				if fault.KindOf(err) == fault.Infeasible && (spec.GainDB > 0 || spec.Polarity == synth.PolarityKeep) {
+					skipped = append(skipped, err)
+					continue
+				}
 				return nil, err
 			}
 			// Every assignment of circuits the specification allows (the
@@ -154,6 +162,9 @@ func Fit(ctx context.Context, items []stock.Item, spec synth.Spec, o Options) (*
 				designs = append(designs, v)
 			}
 		}
+	}
+	if len(designs) == 0 && len(skipped) > 0 {
+		return nil, skipped[0]
 	}
 	rows, why, short := usableRows(items, o)
 	res, err := buildValues(rows, synth.Resistor, o.Combine, o.Boards, o.RMin, o.RMax)
@@ -180,6 +191,9 @@ func Fit(ctx context.Context, items []stock.Item, spec synth.Spec, o Options) (*
 		return nil, fault.Infeasiblef("the stock has no usable %s%s", what, why)
 	}
 	r := &Result{Spec: spec, Resistors: len(res.vals), Capacitors: len(caps.vals), Designs: designs}
+	for _, e := range skipped {
+		r.Notes = append(r.Notes, "not searched: "+e.Error())
+	}
 	totalSections, doneSections := 0, 0
 	for _, d := range designs {
 		totalSections += len(d.Sections)

@@ -203,6 +203,13 @@ func (w *worker) dividerChoices(divC, divP int, gain float64) []int32 {
 func (w *worker) solveAndOffer(n int, solved []int, den synth.Poly, gain float64, divC, divP int, smallR, smallC bool) {
 	s := w.s
 	topo := s.t.topo
+	if w.allSmall(solved, smallR, smallC) {
+		// Every value in every solved position: no solution is needed,
+		// and assignments near a solution that does not exist are kept.
+		w.diag.ratioOK++
+		w.offerAround(nil, solved, -1, smallR, smallC)
+		return
+	}
 	var partners []int32
 	if divC >= 0 {
 		// Fix the divider's partner to the stock values around its exact
@@ -249,6 +256,17 @@ func (w *worker) solveAndOffer(n int, solved []int, den synth.Poly, gain float64
 	}
 }
 
+// allSmall reports whether every solved position's kind has a small stock
+// (so that the search tries all its values).
+func (w *worker) allSmall(solved []int, smallR, smallC bool) bool {
+	for _, i := range solved {
+		if w.s.t.topo.Element(i).Kind == synth.Capacitor && !smallC || w.s.t.topo.Element(i).Kind == synth.Resistor && !smallR {
+			return false
+		}
+	}
+	return true
+}
+
 // probeVector returns w.v with every zero entry set to 1, so that the
 // passband gain (which depends only on the gain elements) can be read
 // before the other elements are known.
@@ -290,7 +308,7 @@ func (w *worker) offerAround(sol []float64, solved []int, divP int, smallR, smal
 			set, small = s.cap, smallC
 		}
 		a, b := 0, len(set.vals)
-		if !small {
+		if !small && sol != nil {
 			if sol[i] < s.rmin || sol[i] > s.rmax {
 				if set == s.res {
 					return

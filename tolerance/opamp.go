@@ -88,6 +88,24 @@ func GBWRule(poles int, f0, q, realF0 float64) (gbw float64, rule string) {
 	return g, r
 }
 
+// NoiseGain returns the section's noise gain at DC, 1 + Zf/Zi seen from the
+// op-amp's inputs: 1 for a follower, K = 1 + Rb/Ra for a Sallen-Key with a
+// gain divider, 1 + |G| for a multiple-feedback section of passband gain
+// magnitude G. A section with gain needs that many times the follower's
+// gain-bandwidth: the closed-loop bandwidth of an amplifier is its GBW over
+// its noise gain (common practice; the book's rule is for unity-gain
+// sections, so scaling it by the noise gain is our reading, not the
+// book's).
+func NoiseGain(t *synth.Topology, v []float64) float64 {
+	switch {
+	case t.Minus() == "out":
+		return 1
+	case t.Inverting():
+		return 1 + math.Abs(t.PassbandGain(v))
+	}
+	return math.Abs(t.PassbandGain(v))
+}
+
 // GBWRuleSource names the published rule in every warning.
 const GBWRuleSource = "Op Amps for Everyone, section 16.8.4"
 
@@ -185,6 +203,10 @@ func CheckOpAmp(c *optimize.Candidate, spec synth.Spec, op synth.OpAmp) (*OpAmpR
 		t := c.Sections[si].Target
 		os := OpAmpSection{Section: si + 1, Topology: s.topo.ID(), F0: t.F0, Q: t.Q, RealF0: t.RealF0}
 		os.RequiredGBW, os.Rule = GBWRule(s.topo.Poles(), os.F0, os.Q, os.RealF0)
+		if ng := NoiseGain(s.topo, ws.vals[si]); ng > 1+1e-9 {
+			os.RequiredGBW *= ng
+			os.Rule += fmt.Sprintf(", times the noise gain %.3g", ng)
+		}
 		os.OK = op.GBW >= os.RequiredGBW
 		num, den := ws.coeffs[si].num, ws.coeffs[si].den
 		for _, f := range band {

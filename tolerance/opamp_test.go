@@ -343,3 +343,22 @@ func TestYieldWithTheCandidatesAmplifier(t *testing.T) {
 		t.Errorf("a 200 kHz amplifier under a 10 kHz filter changes no board's verdict (%d)", rs.Passed)
 	}
 }
+
+// TestNoiseGainRule checks the gain-bandwidth demand of sections with gain:
+// the follower rule times the noise gain, K for a Sallen-Key with a divider
+// and 1 + G for a multiple-feedback section (common practice; see
+// NoiseGain).
+func TestNoiseGainRule(t *testing.T) {
+	t.Parallel()
+	sk := []float64{10e3, 10e3, 10e-9, 10e-9, 10e3, 15e3} // K = 2.5
+	if g := NoiseGain(synth.SallenKeyGainLowPass(), sk); math.Abs(g-2.5) > 1e-12 {
+		t.Errorf("Sallen-Key noise gain %g, want 2.5", g)
+	}
+	mfb := []float64{10e3, 40e3, 10e3, 100e-9, 1e-9} // G = 4
+	if g := NoiseGain(synth.MFBLowPass(), mfb); math.Abs(g-5) > 1e-12 {
+		t.Errorf("MFB noise gain %g, want 5", g)
+	}
+	if g := NoiseGain(synth.SallenKeyLowPass(), []float64{1, 1, 1, 1}); g != 1 {
+		t.Errorf("follower noise gain %g", g)
+	}
+}
