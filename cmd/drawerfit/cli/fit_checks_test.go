@@ -238,8 +238,14 @@ func TestFitGBW(t *testing.T) {
 					t.Fatalf("candidate %d has no op-amp check", i+1)
 				}
 				for _, s := range c.OpAmp.Sections {
-					// The Q <= 1 form of the rule, 100·Q·f0 (docs/check-values.md, "Practical rules").
-					if want := 100 * s.Q * s.F0; !testkit.Rel(1e-9).Equal(s.RequiredGBW, want) {
+					// The Q <= 1 form of the rule, 100·Q·f0 (docs/check-values.md, "Practical rules"),
+					// times the noise gain: 1 for a follower, 1 + R2/R1 = 2 for a
+					// unity-gain multiple-feedback section (tolerance.NoiseGain).
+					ng := 1.0
+					if strings.HasPrefix(s.Topology, "mfb") {
+						ng = 2
+					}
+					if want := 100 * s.Q * s.F0 * ng; !testkit.Rel(1e-9).Equal(s.RequiredGBW, want) {
 						t.Errorf("section %d needs %v Hz, want %v", s.Section, s.RequiredGBW, want)
 					}
 					if s.OK == tc.warn {
