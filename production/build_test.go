@@ -158,3 +158,31 @@ func TestIssueTouchesFilter(t *testing.T) {
 		t.Error("filter 1 matched the designators of filters 10 and 11")
 	}
 }
+
+// TestDesignBoardSharedRows: rows used by two distinct filters count once
+// each; two filters built alike (one candidate) share nothing with
+// themselves.
+func TestDesignBoardSharedRows(t *testing.T) {
+	t.Parallel()
+	a := &optimize.Candidate{StockUse: []optimize.StockUse{{StockID: 1, PerBoard: 2}, {StockID: 2, PerBoard: 1}}}
+	b := &optimize.Candidate{StockUse: []optimize.StockUse{{StockID: 2, PerBoard: 2}, {StockID: 3, PerBoard: 1}}}
+	c := &optimize.Candidate{StockUse: []optimize.StockUse{{StockID: 1, PerBoard: 1}, {StockID: 2, PerBoard: 1}}}
+	for _, tc := range []struct {
+		name    string
+		filters []*optimize.Candidate
+		want    int
+	}{
+		{"one filter", []*optimize.Candidate{a}, 0},
+		{"identical filters, one candidate", []*optimize.Candidate{a, a}, 0},
+		{"row 2 shared", []*optimize.Candidate{a, b}, 1},
+		{"rows 1 and 2 shared, row 3 not", []*optimize.Candidate{a, b, c}, 2},
+	} {
+		d := &Design{}
+		for _, f := range tc.filters {
+			d.Filters = append(d.Filters, Filter{Candidate: f})
+		}
+		if got := d.Board(nil); got.Shared != tc.want || len(got.Filters) != len(tc.filters) {
+			t.Errorf("%s: shared %d with %d filters, want %d", tc.name, got.Shared, len(got.Filters), tc.want)
+		}
+	}
+}

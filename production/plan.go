@@ -380,6 +380,20 @@ func (pr *PlanResult) Design(b *Board, rank int, s Settings) *Design {
 	return d
 }
 
+// Board returns the board figures of a saved design: its filters'
+// candidates, worst error, parts, unique rows, stock use, the rows shared
+// by distinct filters (as the joint search counts them) and the boards the
+// stock items cover.
+func (d *Design) Board(items []stock.Item) *Board {
+	b := &Board{WorstError: d.WorstError(), MeetsSpec: d.MeetsSpec(), PartCount: d.PartCount(),
+		UniqueParts: d.UniqueParts(), StockUse: d.StockUse(), BoardsBuildable: d.BoardsBuildable(items), Pareto: d.Pareto}
+	for _, f := range d.Filters {
+		b.Filters = append(b.Filters, f.Candidate)
+	}
+	b.Shared = sharedRows(b.Filters)
+	return b
+}
+
 // sharedRows counts rows used by two or more distinct candidates.
 func sharedRows(cs []*optimize.Candidate) int {
 	users := map[int64]map[*optimize.Candidate]bool{}

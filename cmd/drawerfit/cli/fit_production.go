@@ -656,29 +656,5 @@ func planFitJSON(run *planRun) jsonPlanFit {
 }
 
 // designBoard is the board figures of a saved design, for its JSON, with
-// the boards the current stock items cover.
-func designBoard(d *production.Design, items []stock.Item) *production.Board {
-	b := &production.Board{WorstError: d.WorstError(), MeetsSpec: d.MeetsSpec(), PartCount: d.PartCount(),
-		UniqueParts: d.UniqueParts(), StockUse: d.StockUse(), BoardsBuildable: d.BoardsBuildable(items), Pareto: d.Pareto}
-	seen := map[*optimize.Candidate]bool{}
-	var distinct []*optimize.Candidate
-	for _, f := range d.Filters {
-		b.Filters = append(b.Filters, f.Candidate)
-		if !seen[f.Candidate] {
-			seen[f.Candidate] = true
-			distinct = append(distinct, f.Candidate)
-		}
-	}
-	users := map[int64]int{}
-	for _, c := range distinct {
-		for _, u := range c.StockUse {
-			users[u.StockID]++
-		}
-	}
-	for _, n := range users {
-		if n > 1 {
-			b.Shared++
-		}
-	}
-	return b
-}
+// the boards the current stock items cover (production.Design.Board).
+func designBoard(d *production.Design, items []stock.Item) *production.Board { return d.Board(items) }
