@@ -225,3 +225,34 @@ func TestPlanBoardCost(t *testing.T) {
 		}
 	}
 }
+
+// TestStockReorderCSV: the reorder list as a sheet, with to_buy in whole
+// packs and a formula-looking supplier-ref guarded as export does.
+func TestStockReorderCSV(t *testing.T) {
+	t.Parallel()
+	s := newStockEnv(t)
+	s.ok("stock", "import", s.write("d.csv", "kind,value,quantity,min,pack,price,supplier-ref\n"+
+		"R,4k7,30,50,100,0.012,=cmd\n"+ // 20 short of its minimum: one pack of 100
+		"R,10k,80,50,,,\n")) // above its minimum: not listed
+	out := filepath.Join(s.dir, "order.csv")
+	s.ok("stock", "reorder", "--csv", out)
+	f, err := os.Open(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	recs, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(recs) != 2 {
+		t.Fatalf("%d records:\n%v", len(recs), recs)
+	}
+	col := map[string]string{}
+	for i, h := range recs[0] {
+		col[h] = recs[1][i]
+	}
+	if col["to_buy"] != "100" || col["cost"] != "1.20" || col["supplier_ref"] != "'=cmd" || col["quantity"] != "30" || col["min"] != "50" {
+		t.Errorf("reorder line %v", col)
+	}
+}
