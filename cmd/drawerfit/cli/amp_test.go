@@ -184,3 +184,28 @@ func TestPlanFiltersSharePackages(t *testing.T) {
 		t.Fatalf("pick list of the shared quad:\n%s", out)
 	}
 }
+
+// TestSlowSectionsInJSON: a 100 kHz filter on the 1 MHz quad: the sections
+// the quad cannot bring within --good-enough are named with the
+// gain-bandwidth they need.
+func TestSlowSectionsInJSON(t *testing.T) {
+	t.Parallel()
+	s := sampleEnv(t)
+	quad := ampRow(t, s, "blue bag")
+	var fit struct {
+		Slow []struct {
+			Section int      `json:"section"`
+			Need    *float64 `json:"need_gbw_hz"`
+			Fastest string   `json:"fastest"`
+		} `json:"slow_sections"`
+	}
+	s.jsonOf(&fit, "fit", "lowpass", "--pass", "100k", "--order", "4", "--combine", "1", "--rank", "balanced", "--opamp", quad, "--json")
+	if len(fit.Slow) == 0 {
+		t.Fatal("no slow section for a 100 kHz filter on a 1 MHz amplifier")
+	}
+	for _, sl := range fit.Slow {
+		if sl.Need == nil || !(*sl.Need > 1e6) || sl.Fastest != "blue bag" {
+			t.Errorf("slow section %+v", sl)
+		}
+	}
+}

@@ -445,6 +445,9 @@ func printFit(env *Env, w io.Writer, run *fitRun) {
 		for _, l := range res.Limits {
 			fmt.Fprintln(w, "  - "+l)
 		}
+		for _, n := range slowNotes(run) {
+			fmt.Fprintln(w, "  - "+n)
+		}
 		fmt.Fprintln(w, "\n"+tryText(run))
 		return
 	}
@@ -819,6 +822,8 @@ type jsonFit struct {
 	Notes      []string        `json:"notes"`
 	// Suggestions are the purchase suggestions (with --suggest).
 	Suggestions []jsonSuggestion `json:"suggestions"`
+	// SlowSections are the sections no amplifier tried is fast enough for.
+	SlowSections []jsonSlowSection `json:"slow_sections"`
 }
 
 // jsonSearched is one design the search tried: its order and arrangement.
@@ -887,7 +892,7 @@ func candidateJSON(c *optimize.Candidate, rank int) jsonCandidate {
 func fitJSON(run *fitRun) jsonFit {
 	res := run.result
 	out := jsonFit{Spec: specJSON(res.Spec, run.spec.Order), Candidates: []jsonCandidate{},
-		Limits: append([]string{}, res.Limits...), Notes: append([]string{}, res.Notes...), Searched: []jsonSearched{}}
+		Limits: append([]string{}, res.Limits...), Notes: append([]string{}, res.Notes...), Searched: []jsonSearched{}, SlowSections: slowJSON(run)}
 	for _, d := range res.Designs {
 		c := optimize.Candidate{Design: d}
 		out.Searched = append(out.Searched, jsonSearched{Order: d.Order, Arrangement: c.Arrangement()})

@@ -8,6 +8,7 @@ import (
 	"drawerfit/optimize"
 	"drawerfit/report"
 	"drawerfit/stock"
+	"drawerfit/synth"
 )
 
 // ampCell is the table's amplifier column: "#159 ×2" (stock row, packages
@@ -67,7 +68,7 @@ func slowNotes(run *fitRun) []string {
 		}
 		need := "no gain-bandwidth up to 1 THz is enough"
 		if s.NeedGBW > 0 {
-			need = "it needs a gain-bandwidth of about " + stock.FormatGBW(s.NeedGBW)
+			need = "it needs a gain-bandwidth of about " + synth.FormatFrequency(s.NeedGBW, 3)
 		}
 		out = append(out, fmt.Sprintf("order %d, section %d (%s): no amplifier tried is fast enough; with the fastest, %s, its predistorted realisation stays %.2f dB off (good enough: %g dB); %s",
 			s.Order, s.Section, desc, s.Fastest, s.ErrorDB, run.opts.GoodEnough, need))
@@ -121,6 +122,36 @@ func sheetAmps(c *optimize.Candidate) []report.Amplifier {
 			a.Location, a.StockID = c.Amp.Location, c.Amp.StockID
 		}
 		out = append(out, a)
+	}
+	return out
+}
+
+// jsonSlowSection is a section no amplifier tried is fast enough for
+// (--json "slow_sections").
+type jsonSlowSection struct {
+	Order   int     `json:"order"`
+	Section int     `json:"section"` // 1-based
+	F0      float64 `json:"f0_hz"`
+	Q       float64 `json:"q"`
+	ErrorDB float64 `json:"error_db"` // with the fastest amplifier tried
+	Fastest string  `json:"fastest"`
+	// NeedGBW is the gain-bandwidth that would do (Hz); null when none up
+	// to 1 THz does.
+	NeedGBW *float64 `json:"need_gbw_hz"`
+}
+
+func slowJSON(run *fitRun) []jsonSlowSection {
+	out := []jsonSlowSection{}
+	if run.amps == nil {
+		return out
+	}
+	for _, s := range run.amps.Slow {
+		j := jsonSlowSection{Order: s.Order, Section: s.Section, F0: s.F0, Q: s.Q, ErrorDB: s.ErrorDB, Fastest: s.Fastest}
+		if s.NeedGBW > 0 {
+			v := s.NeedGBW
+			j.NeedGBW = &v
+		}
+		out = append(out, j)
 	}
 	return out
 }
