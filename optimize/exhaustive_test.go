@@ -92,13 +92,8 @@ func exhaustiveBestOf(ds []*synth.Design, res, caps []float64, distinct bool) fl
 	return best
 }
 
-// exhaustiveBest returns the smallest response error over every assignment
-// of the design's sections.
-func exhaustiveBest(d *synth.Design, res, caps []float64) float64 {
-	return exhaustiveBestDistinct(d, res, caps, false)
-}
-
-// exhaustiveBestDistinct is exhaustiveBest; with distinct, no value is used
+// exhaustiveBestDistinct returns the smallest response error over every
+// assignment of the design's sections; with distinct, no value is used
 // twice in one section (a stock of one part per row and value, built once:
 // tight quantities; only for single-section designs).
 func exhaustiveBestDistinct(d *synth.Design, res, caps []float64, distinct bool) float64 {
