@@ -427,3 +427,15 @@ func (c *combiner) leaf(parts int) {
 	}
 	c.out.add(cb)
 }
+
+// dropDesign removes every listed combo of design ji.
+func (t *topList) dropDesign(ji int) {
+	k := 0
+	for _, c := range t.list {
+		if c.design != ji {
+			t.list[k] = c
+			k++
+		}
+	}
+	t.list = t.list[:k]
+}

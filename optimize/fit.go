@@ -76,6 +76,10 @@ type Result struct {
 	Notes []string
 	// Designs are the ideal designs that were searched.
 	Designs []*synth.Design
+	// Proven is true when the first candidate is proven optimal by its
+	// ranking key over every assignment of stock values (doc.go,
+	// "Exactness"); Notes then say nothing is unproven.
+	Proven bool
 	// Resistors and Capacitors count the realisable values searched.
 	Resistors, Capacitors int
 }
@@ -214,47 +218,71 @@ func Fit(ctx context.Context, items []stock.Item, spec synth.Spec, o Options) (*
 	var closest *combo
 	var lists [][][]sectionCand
 	var diags [][]sectionDiag
+	f := &fitRun{grid: &grid, res: res, caps: caps, rows: rows, o: o, spec: spec, passIdx: passIdx, stopIdx: stopIdx,
+		top: top, stop: stop, progress: progress, searched: searched}
+	// Phase 1: every design from its sections' shortlists, which gives an
+	// incumbent quickly.
 	for ji, jb := range jobs {
 		d := designs[ji]
-		// The shortlists are exact per section, but a poor cascade can be
-		// made of sections that rank low on their own and cancel each
-		// other's deviations. When nothing listed so far is within the
-		// good-enough error, search this design again with shortlists
-		// eight times as long (once).
-		var secLists [][]sectionCand
-		var secDiag []sectionDiag
-		savedTop, savedClosest := append([]*combo(nil), top.list...), closest
-		for k := o.Shortlist; ; k *= 8 {
-			var cb *combiner
-			secLists, secDiag, cb = searchDesign(d, &grid, res, caps, rows, o, k, ji, passIdx, stopIdx, spec, top, progress, stop,
-				searched, jb.base)
-			if stop.Load() {
-				return nil, interrupted(ctx)
+		secLists, secDiag, cb := f.searchDesign(d, o.Shortlist, ji, jb.base)
+		if stop.Load() {
+			return nil, interrupted(ctx)
+		}
+		for si, sd := range secDiag {
+			if sd.truncated {
+				r.Notes = append(r.Notes, fmt.Sprintf("order %d (%s), section %d: the search stopped after scoring %d assignments; the list is not proven exact",
+					jb.n, arrangementName(d), si+1, sd.evals))
 			}
-			for si, sd := range secDiag {
-				if sd.truncated {
-					r.Notes = append(r.Notes, fmt.Sprintf("order %d (%s), section %d: the search stopped after scoring %d assignments; the list is not proven exact",
-						jb.n, arrangementName(d), si+1, sd.evals))
-				}
-			}
-			if cb.truncated {
-				r.Notes = append(r.Notes, fmt.Sprintf("order %d (%s): the cross-section search stopped after %d combinations; the list may miss some designs",
-					jb.n, arrangementName(d), cb.nodes))
-			}
-			if cb.closest != nil && (closest == nil || cb.closest.err < closest.err) {
-				closest = cb.closest
-			}
-			if top.hasWithin(o.GoodEnough) || cb.minErr <= o.GoodEnough || k > o.Shortlist || cb.truncated {
-				break
-			}
-			// Search again from the list as it was before this design.
-			top.list = append(top.list[:0], savedTop...)
-			closest = savedClosest
+		}
+		if cb.truncated {
+			r.Notes = append(r.Notes, fmt.Sprintf("order %d (%s): the cross-section search stopped after %d combinations; the list is not proven exact",
+				jb.n, arrangementName(d), cb.nodes))
+		}
+		if cb.closest != nil && (closest == nil || cb.closest.err < closest.err) {
+			closest = cb.closest
 		}
 		lists = append(lists, secLists)
 		diags = append(diags, secDiag)
-
 	}
+	// Phase 2: the exact phase for every design, bounded by the incumbent.
+	var unproven []string
+	if _, _, ok := proofBound(top, o); !ok && (o.Rank == RankError || o.Rank == RankBalanced) {
+		// Nothing listed meets the specification: every design within
+		// the section ceiling is searched (its cascade error is at most
+		// the ceiling times its sections).
+		for ji, jb := range jobs {
+			d := designs[ji]
+			why := f.exactDesign(d, ji, sectionCeiling*float64(len(d.Sections)), 0, lists, &closest)
+			if stop.Load() {
+				return nil, interrupted(ctx)
+			}
+			if why != "" {
+				unproven = append(unproven, fmt.Sprintf("order %d (%s): %s", jb.n, arrangementName(d), why))
+			}
+		}
+	}
+	if B, P, ok := proofBound(top, o); ok {
+		unproven = nil
+		for ji, jb := range jobs {
+			d := designs[ji]
+			why := f.exactDesign(d, ji, B, P, lists, &closest)
+			if stop.Load() {
+				return nil, interrupted(ctx)
+			}
+			if why != "" {
+				unproven = append(unproven, fmt.Sprintf("order %d (%s): %s", jb.n, arrangementName(d), why))
+			}
+			if nb, np, ok := proofBound(top, o); ok && nb <= B {
+				B, P = nb, np
+			}
+		}
+	} else if len(top.list) > 0 {
+		unproven = append(unproven, "the "+o.Rank.String()+" ranking has no error bound to prove the list against")
+	}
+	if len(unproven) > 0 {
+		r.Notes = append(r.Notes, "not proven exact: "+strings.Join(unproven, "; "))
+	}
+	r.Proven = len(unproven) == 0 && len(top.list) > 0
 	for _, c := range top.list {
 		r.Candidates = append(r.Candidates, assemble(c, r.Designs[c.design], lists[c.design], rows, res, caps, o))
 	}
@@ -298,20 +326,32 @@ type searchedSection struct {
 	diag sectionDiag
 }
 
+// fitRun holds what every design's search of one fit shares.
+type fitRun struct {
+	grid             *scoreGrid
+	res, caps        *valueSet
+	rows             []Row
+	o                Options
+	spec             synth.Spec
+	passIdx, stopIdx int
+	top              *topList
+	stop             *atomic.Bool
+	progress         func()
+	searched         map[sectionKey]searchedSection // section searches shared by the variants of a design
+}
+
 // searchDesign searches every section of design d with shortlists of k per
 // part count and combines them into top.
-func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []Row, o Options, k, ji, passIdx, stopIdx int,
-	spec synth.Spec, top *topList, progress func(), stop *atomic.Bool,
-	searched map[sectionKey]searchedSection, base int) ([][]sectionCand, []sectionDiag, *combiner) {
+func (f *fitRun) searchDesign(d *synth.Design, k, ji, base int) ([][]sectionCand, []sectionDiag, *combiner) {
+	o := f.o
 	secLists := make([][]sectionCand, len(d.Sections))
 	secDiag := make([]sectionDiag, len(d.Sections))
-	tdbTotal := make([]float64, len(grid.w))
 	targets := make([]*target, len(d.Sections))
 	ideals := make([]*target, len(d.Sections))
 	unreachable := false
 	for i := range d.Sections {
-		t, ideal := ampTargets(&d.Sections[i], grid, o.Amp)
-		t.setDomain(res, caps)
+		t, ideal := ampTargets(&d.Sections[i], f.grid, o.Amp)
+		t.setDomain(f.res, f.caps)
 		targets[i], ideals[i] = t, ideal
 		// Nothing in stock comes near this section: the design cannot be
 		// built, so none of its sections is searched.
@@ -322,53 +362,68 @@ func searchDesign(d *synth.Design, grid *scoreGrid, res, caps *valueSet, rows []
 	}
 	if unreachable {
 		for range d.Sections {
-			progress()
+			f.progress()
 		}
 		return secLists, secDiag, &combiner{}
 	}
-	// The combiner's attenuations are relative to the passband gain.
-	gainDB := d.GainDB()
 	for i := range d.Sections {
 		t, ideal := targets[i], ideals[i]
-		for g, v := range ideal.tdb {
-			tdbTotal[g] += v
-		}
-		if i == 0 {
-			for g := range tdbTotal {
-				tdbTotal[g] -= gainDB
-			}
-		}
 		key := sectionKey{base: base, section: i, topology: t.topo.ID(), k: k}
-		if r, ok := searched[key]; ok {
+		if r, ok := f.searched[key]; ok {
 			secLists[i], secDiag[i] = r.list, r.diag
-			progress()
+			f.progress()
 			continue
 		}
-		ss := &sectionSearch{t: t, res: res, cap: caps, rows: rows, boards: o.Boards,
-			k: k, ceiling: sectionCeiling, rmin: o.RMin, rmax: o.RMax, stop: stop,
-			evalBudget: max(1, o.SectionBudget/o.Workers)}
+		ss := f.sectionSearch(t, k)
 		secLists[i], secDiag[i] = ss.run(o.Workers)
-		if stop.Load() {
+		if f.stop.Load() {
 			return secLists, secDiag, &combiner{}
 		}
 		rescoreWithAmp(secLists[i], ideal, o.Amp)
 		sortForRank(secLists[i], o.Rank)
-		searched[key] = searchedSection{secLists[i], secDiag[i]}
-		progress()
+		f.searched[key] = searchedSection{secLists[i], secDiag[i]}
+		f.progress()
 	}
-	cb := &combiner{lists: secLists, rows: rows, boards: o.Boards, rank: o.Rank,
-		goodEnough: o.GoodEnough, design: ji, passIdx: passIdx, stopIdx: stopIdx,
+	cb := f.combine(d, secLists, ji)
+	return secLists, secDiag, cb
+}
+
+func (f *fitRun) sectionSearch(t *target, k int) *sectionSearch {
+	o := f.o
+	return &sectionSearch{t: t, res: f.res, cap: f.caps, rows: f.rows, boards: o.Boards,
+		k: k, ceiling: sectionCeiling, rmin: o.RMin, rmax: o.RMax, stop: f.stop,
+		evalBudget: max(1, o.SectionBudget/o.Workers)}
+}
+
+// combine runs the cross-section search of design d over lists into the
+// top list.
+func (f *fitRun) combine(d *synth.Design, lists [][]sectionCand, ji int) *combiner {
+	o, spec, grid := f.o, f.spec, f.grid
+	// The combiner's attenuations are relative to the passband gain.
+	tdbTotal := make([]float64, len(grid.w))
+	gainDB := d.GainDB()
+	for i := range d.Sections {
+		t := newTarget(&d.Sections[i], grid)
+		for g, v := range t.tdb {
+			tdbTotal[g] += v
+		}
+	}
+	for g := range tdbTotal {
+		tdbTotal[g] -= gainDB
+	}
+	cb := &combiner{lists: lists, rows: f.rows, boards: o.Boards, rank: o.Rank,
+		goodEnough: o.GoodEnough, design: ji, passIdx: f.passIdx, stopIdx: f.stopIdx,
 		tdbTotal: tdbTotal, ap: spec.PassAtten, as: spec.StopAtten, keepFail: o.ShowFailing, ripple: spec.Approx == synth.Chebyshev,
-		out: top, budget: o.NodeBudget, stop: stop, rmid: math.Sqrt(o.RMin * o.RMax), minErr: math.Inf(1)}
-	cb.passFrom, cb.passTo = 0, passIdx
+		out: f.top, budget: o.NodeBudget, stop: f.stop, rmid: math.Sqrt(o.RMin * o.RMax), minErr: math.Inf(1)}
+	cb.passFrom, cb.passTo = 0, f.passIdx
 	if spec.Kind == synth.HighPass {
-		cb.passFrom, cb.passTo = passIdx, len(grid.w)-1
+		cb.passFrom, cb.passTo = f.passIdx, len(grid.w)-1
 	}
 	for i := range d.Sections {
 		cb.resIdx = append(cb.resIdx, d.Sections[i].Topology.Indices(synth.Resistor))
 	}
 	cb.run()
-	return secLists, secDiag, cb
+	return cb
 }
 
 // sectionCeiling is the largest section error (dB) a shortlist keeps: a

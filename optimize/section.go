@@ -202,6 +202,10 @@ type sectionSearch struct {
 	// evalBudget bounds the assignments each worker scores (0: no bound);
 	// a worker that reaches it stops, and the section is not proven exact.
 	evalBudget int
+	// fixed, when set, is the one box every walk uses (the exact phase).
+	fixed *box
+	// partsCap, when positive, skips assignments of more parts.
+	partsCap int8
 }
 
 // halted reports whether the fit was cancelled.
@@ -233,6 +237,17 @@ type worker struct {
 	hasPrev  bool
 	evals    int  // assignments scored
 	over     bool // the evaluation budget ran out
+
+	// The exact phase collects every admitted assignment (collectOffer).
+	collect bool
+	idx     []int
+	allow   [2][]float64
+	all     []sectionCand
+	partner *onePole      // with a 1-pole partner section: the exact test
+	bound   float64       // the cascade error bound B of the exact phase
+	count   *atomic.Int64 // candidates collected by all workers
+	spans   [][2]float64  // the 1-pole frequencies the collected candidates admit
+	w0In    spans         // for a 1-pole: the frequencies its partner admits
 }
 
 // passLevels are the error levels (dB) of the successive passes of a
@@ -312,6 +327,9 @@ func (w *worker) box(e float64) box {
 }
 
 func (w *worker) boxLevel(e float64) box {
+	if w.s.fixed != nil {
+		return *w.s.fixed
+	}
 	if w.levelCap > 0 {
 		e = math.Min(e, w.levelCap)
 	}
@@ -376,6 +394,13 @@ func (w *worker) offer() {
 	var parts int8
 	for i := 0; i < n; i++ {
 		parts += w.realOf(i).n
+	}
+	if s.partsCap > 0 && parts > s.partsCap {
+		return
+	}
+	if w.collect {
+		w.collectOffer(n, parts)
+		return
 	}
 	lim := w.list.limit(parts, s.ceiling)
 	w.evals++
@@ -461,19 +486,24 @@ func (w *worker) search(part, of int) {
 	}
 	for _, b := range levels {
 		w.setPass(b)
-		switch w.s.t.topo {
-		case synth.FirstOrderLowPass(), synth.FirstOrderHighPass():
-			w.searchFirstOrder(part, of)
-		case synth.SallenKeyLowPass():
-			w.searchSallenKeyLowPass(part, of)
-		case synth.SallenKeyHighPass():
-			w.searchSallenKeyHighPass(part, of)
-		}
+		w.walk(part, of)
 		if w.halted() || w.maxClassLimit() <= b {
 			return
 		}
 		w.setPass(0)
 		w.prev, w.hasPrev = w.box(b), true
+	}
+}
+
+// walk runs the box walk of the section's topology once.
+func (w *worker) walk(part, of int) {
+	switch w.s.t.topo {
+	case synth.FirstOrderLowPass(), synth.FirstOrderHighPass():
+		w.searchFirstOrder(part, of)
+	case synth.SallenKeyLowPass():
+		w.searchSallenKeyLowPass(part, of)
+	case synth.SallenKeyHighPass():
+		w.searchSallenKeyHighPass(part, of)
 	}
 }
 
@@ -560,6 +590,9 @@ func (w *worker) searchFirstOrder(part, of int) {
 		w.diag.ratioOK++
 		C := cr.value
 		for n := 1; n <= 2; n++ {
+			if s.partsCap > 0 && cr.n+int8(n) > s.partsCap {
+				continue
+			}
 			rs := s.res.sub[n]
 			b := w.box(w.list.limit(cr.n+int8(n), s.ceiling))
 			lo := math.Exp(-b.xhi) / (t.w0 * C)
@@ -615,6 +648,9 @@ func (w *worker) searchSallenKeyLowPass(part, of int) {
 // resistor pair had a capacitor Cf in range.
 func (w *worker) skLowPassClass(g int, cgR *real, big, small *valueSet, same bool, rparts int8) bool {
 	s := w.s
+	if s.partsCap > 0 && cgR.n+1+rparts > s.partsCap {
+		return false
+	}
 	t := s.t
 	w0t, qt := t.w0, t.q
 	Cg := cgR.value
@@ -699,6 +735,9 @@ func (w *worker) searchSallenKeyHighPass(part, of int) {
 		w.diag.capSets += c1 + 1
 		any := false
 		for nf := 1; nf <= 2; nf++ {
+			if s.partsCap > 0 && c1R.n+1+int8(nf)+1 > s.partsCap {
+				continue
+			}
 			fs := s.res.sub[nf]
 			// The window must hold the box of each class it can end in.
 			b := box{xlo: 1, xhi: -1, ylo: 1, yhi: -1}
