@@ -204,6 +204,17 @@ type combiner struct {
 	budget    int  // largest number of nodes to visit; 0 means no limit
 	truncated bool // the budget ran out
 	stop      *atomic.Bool
+	// capped limits the search to combinations with error at most errCap
+	// and (when positive) at most partsCap parts.
+	capped   bool
+	errCap   float64
+	partsCap int
+	probe    []int // grid points of the quick test (probeOver)
+	// The last section's candidates ordered by their deviation at the
+	// pivot grid point (lastKey ascending).
+	pivot     int
+	lastOrder [][]int // per part count
+	lastKey   [][]float64
 	halted    bool // stopped by the context
 }
 
@@ -293,8 +304,52 @@ func (c *combiner) dfs(s, parts int) {
 		c.leaf(parts)
 		return
 	}
+	if c.capped && s == m-1 {
+		c.lastSection(s, parts)
+		return
+	}
 	for i := range c.lists[s] {
+		c.visit(s, i, parts)
+	}
+}
+
+// lastSection visits the candidates of the last section that can keep the
+// error within the cap at the pivot point and the parts within their
+// budget: per part count, a window of the candidates sorted by their
+// deviation there.
+func (c *combiner) lastSection(s, parts int) {
+	c.sortLast()
+	lim := c.errCap*(1+1e-9) + 1e-12
+	v := c.partial[s][c.pivot]
+	for p := range c.lastKey {
+		if c.partsCap > 0 && parts+p > c.partsCap {
+			break
+		}
+		keys := c.lastKey[p]
+		lo := sort.SearchFloat64s(keys, -lim-v)
+		hi := sort.Search(len(keys), func(k int) bool { return keys[k] > lim-v })
+		for k := lo; k < hi; k++ {
+			c.visit(s, c.lastOrder[p][k], parts)
+		}
+	}
+}
+
+// visit tries candidate i at depth s.
+func (c *combiner) visit(s, i, parts int) {
+	{
 		sc := &c.lists[s][i]
+		if c.capped {
+			// A cheap test at a few grid points before the whole curve:
+			// any subset of the grid bounds the final error from below.
+			c.nodes++
+			if c.budget > 0 && c.nodes > c.budget {
+				c.truncated = true
+				return
+			}
+			if c.partsCap > 0 && parts+int(sc.parts)+c.remParts[s+1] > c.partsCap || c.probeOver(s, sc) {
+				return
+			}
+		}
 		// Quantities across sections.
 		ok := true
 		added := 0
@@ -343,6 +398,16 @@ func (c *combiner) promising(s, parts int) bool {
 	}
 	if c.halted {
 		return false
+	}
+	if c.capped {
+		// The exact phase looks only for combinations that could rank
+		// first: error within its bound, parts within its budget.
+		if c.partsCap > 0 && parts+c.remParts[s] > c.partsCap {
+			return false
+		}
+		if c.lowerErr(s) > c.errCap*(1+1e-9)+1e-12 {
+			return false
+		}
 	}
 	worst, full := c.out.worst()
 	if !full {
@@ -438,4 +503,62 @@ func (t *topList) dropDesign(ji int) {
 		}
 	}
 	t.list = t.list[:k]
+}
+
+// probeOver reports whether adding candidate sc at depth s already
+// exceeds the error cap at one of the probe points, whatever the remaining
+// sections add.
+func (c *combiner) probeOver(s int, sc *sectionCand) bool {
+	if c.probe == nil {
+		n := len(c.tdbTotal)
+		for k := 0; k < 16; k++ {
+			c.probe = append(c.probe, k*(n-1)/15)
+		}
+	}
+	lim := c.errCap*(1+1e-9) + 1e-12
+	prev, mn, mx := c.partial[s], c.remMin[s+1], c.remMax[s+1]
+	for _, g := range c.probe {
+		v := prev[g] + sc.dev[g]
+		if v+mn[g] > lim || v+mx[g] < -lim {
+			return true
+		}
+	}
+	return false
+}
+
+// sortLast prepares the window search of the last section (once): the
+// pivot is the grid point where its candidates' deviations spread most;
+// the candidates are grouped by part count and sorted by their deviation
+// at the pivot.
+func (c *combiner) sortLast() {
+	if c.lastOrder != nil {
+		return
+	}
+	l := c.lists[len(c.lists)-1]
+	var spread float64
+	for g := range c.tdbTotal {
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for i := range l {
+			lo, hi = math.Min(lo, l[i].dev[g]), math.Max(hi, l[i].dev[g])
+		}
+		if hi-lo > spread {
+			spread, c.pivot = hi-lo, g
+		}
+	}
+	maxP := 0
+	for i := range l {
+		maxP = max(maxP, int(l[i].parts))
+	}
+	c.lastOrder = make([][]int, maxP+1)
+	c.lastKey = make([][]float64, maxP+1)
+	for i := range l {
+		p := l[i].parts
+		c.lastOrder[p] = append(c.lastOrder[p], i)
+	}
+	for p, ord := range c.lastOrder {
+		sort.SliceStable(ord, func(a, b int) bool { return l[ord[a]].dev[c.pivot] < l[ord[b]].dev[c.pivot] })
+		for _, i := range ord {
+			c.lastKey[p] = append(c.lastKey[p], l[i].dev[c.pivot])
+		}
+	}
 }

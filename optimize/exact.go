@@ -294,6 +294,9 @@ func (s *sectionSearch) enumerate(workers int, b box, idx []int, allow [2][]floa
 	return out[:k], mergeSpans(sp), true
 }
 
+// exactNodes bounds the combiner's nodes in the exact phase of a design.
+const exactNodes = 20_000_000
+
 // collectEvals bounds the assignments one worker scores in the exact
 // phase of one section; beyond it the design is not proven exact.
 const collectEvals = 1_000_000
@@ -501,12 +504,13 @@ func proofBound(top *topList, o Options) (B float64, parts int, ok bool) {
 // design's lists to every realisation the joint regions admit and combines
 // them again. It returns why the design is not proven, or "".
 func (f *fitRun) exactDesign(d *synth.Design, ji int, B float64, maxParts int, lists [][][]sectionCand, closest **combo) string {
-	if f.o.Amp != nil {
-		return "the proof covers ideal amplifiers only, not a finite gain-bandwidth"
-	}
 	ts := make([]*target, len(d.Sections))
+	ideals := make([]*target, len(d.Sections))
 	for i := range d.Sections {
-		ts[i] = newTarget(&d.Sections[i], f.grid)
+		// With an amplifier the regions are those of the predistorted
+		// targets, and the candidates are scored again with it (see
+		// amp.go); the proof then holds for the predistorted targets only.
+		ts[i], ideals[i] = ampTargets(&d.Sections[i], f.grid, f.o.Amp)
 		ts[i].setDomain(f.res, f.caps)
 		if !ts[i].hasDom {
 			return "a " + d.Sections[i].Topology.Name() + " section is searched near its exact solution only"
@@ -601,6 +605,7 @@ func (f *fitRun) exactDesign(d *synth.Design, ji int, B float64, maxParts int, l
 		if !ok {
 			return fmt.Sprintf("section %d has more than %d candidates (or %d assignments to score per worker) within the proven region", s+1, collectLimit, collectEvals)
 		}
+		rescoreWithAmp(got, ideals[s], f.o.Amp)
 		widened[s] = unionCands(old[s], got)
 		sortForRank(widened[s], f.o.Rank)
 	}
@@ -611,12 +616,18 @@ func (f *fitRun) exactDesign(d *synth.Design, ji int, B float64, maxParts int, l
 		*closest = nil
 	}
 	lists[ji] = widened
-	cb := f.combine(d, widened, ji)
+	cb := f.combineCapped(d, widened, ji, func(c *combiner) {
+		c.capped, c.errCap, c.partsCap = true, B, maxParts
+		c.budget = min(c.budget, exactNodes)
+	})
 	if cb.closest != nil && (*closest == nil || cb.closest.err < (*closest).err) {
 		*closest = cb.closest
 	}
 	if cb.truncated {
 		return "the cross-section search ran out of nodes"
+	}
+	if f.o.Amp != nil {
+		return "with a finite gain-bandwidth the sections are bounded through their predistorted targets, which approximate the amplifier's effect"
 	}
 	return ""
 }

@@ -398,6 +398,11 @@ func (f *fitRun) sectionSearch(t *target, k int) *sectionSearch {
 // combine runs the cross-section search of design d over lists into the
 // top list.
 func (f *fitRun) combine(d *synth.Design, lists [][]sectionCand, ji int) *combiner {
+	return f.combineCapped(d, lists, ji, nil)
+}
+
+// combineCapped is combine with the search limited as cap says (nil: not).
+func (f *fitRun) combineCapped(d *synth.Design, lists [][]sectionCand, ji int, cap func(*combiner)) *combiner {
 	o, spec, grid := f.o, f.spec, f.grid
 	// The combiner's attenuations are relative to the passband gain.
 	tdbTotal := make([]float64, len(grid.w))
@@ -421,6 +426,9 @@ func (f *fitRun) combine(d *synth.Design, lists [][]sectionCand, ji int) *combin
 	}
 	for i := range d.Sections {
 		cb.resIdx = append(cb.resIdx, d.Sections[i].Topology.Indices(synth.Resistor))
+	}
+	if cap != nil {
+		cap(cb)
 	}
 	cb.run()
 	return cb
