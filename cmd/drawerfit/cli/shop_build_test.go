@@ -23,10 +23,10 @@ func savedDesign(t *testing.T, s *stockEnv) string {
 			ID string `json:"design_id"`
 		} `json:"candidates"`
 	}
-	// Sallen-Key sections: the design the build tests were written for,
-	// whose rows hold enough parts for their batches of 7.
+	// Sallen-Key sections fitted for 7 boards: the tests build batches of
+	// up to seven boards of the saved design.
 	if code := s.jsonOf(&fit, "fit", "lowpass", "--pass", "2k", "--order", "4", "--combine", "1", "--top", "1", "--save", "--json",
-		"--opamp", "none", "--topology", "sallen-key"); code != 0 || len(fit.Candidates) == 0 {
+		"--opamp", "none", "--topology", "sallen-key", "--boards", "7"); code != 0 || len(fit.Candidates) == 0 {
 		t.Fatalf("fit exit %d, %+v", code, fit)
 	}
 	return fit.Candidates[0].ID
