@@ -91,3 +91,57 @@ func BenchmarkFitFullSeries(b *testing.B) {
 }
 
 func orderName(n int) string { return "order" + string(rune('0'+n/10)) + string(rune('0'+n%10)) }
+
+// hostileSpecs is a grid of specifications a new user may type that reach
+// the edges of what a drawer can build (invented cases): very low and very
+// high edges, high orders, large ripple and very high Q.
+func hostileSpecs() []struct {
+	name string
+	spec synth.Spec
+} {
+	type hs = struct {
+		name string
+		spec synth.Spec
+	}
+	lp := func(f float64, n int) synth.Spec {
+		return synth.Spec{Kind: synth.LowPass, Approx: synth.Butterworth, Pass: f, Order: n}
+	}
+	cheb := func(f float64, n int, ripple float64) synth.Spec {
+		return synth.Spec{Kind: synth.LowPass, Approx: synth.Chebyshev, Ripple: ripple, Pass: f, Order: n}
+	}
+	hp := synth.Spec{Kind: synth.HighPass, Approx: synth.Butterworth, Pass: 5e6, Stop: 1.67e6, StopAtten: 40}
+	return []hs{
+		{"lp-0.01Hz-o2", lp(0.01, 2)}, {"lp-0.05Hz-o2", lp(0.05, 2)}, {"lp-0.5Hz-o2", lp(0.5, 2)},
+		{"lp-1MHz-o2", lp(1e6, 2)}, {"lp-2MHz-o2", lp(2e6, 2)}, {"lp-10MHz-o2", lp(10e6, 2)},
+		{"lp-1kHz-o1", lp(1e3, 1)}, {"lp-1kHz-o12", lp(1e3, 12)}, {"lp-10Hz-o12", lp(10, 12)},
+		{"cheb3dB-1kHz-o8", cheb(1e3, 8, 3)}, {"cheb30dB-1kHz-o2", cheb(1e3, 2, 30)}, {"cheb1dB-1kHz-o12", cheb(1e3, 12, 1)},
+		{"hp-5MHz-stop", hp},
+	}
+}
+
+// BenchmarkFitHostile fits every specification of the hostile grid on the
+// sample drawer and reports the median time of each fit and the slowest of
+// those medians (the bound: 2 s).
+func BenchmarkFitHostile(b *testing.B) {
+	items := sampleStock(b)
+	o := DefaultOptions()
+	var slowest float64
+	slowName := ""
+	for _, h := range hostileSpecs() {
+		var times []time.Duration
+		for i := 0; i < b.N; i++ {
+			t0 := time.Now()
+			if _, err := Fit(context.Background(), items, h.spec, o); err != nil {
+				b.Fatalf("%s: %v", h.name, err)
+			}
+			times = append(times, time.Since(t0))
+		}
+		m := median(times).Seconds()
+		b.ReportMetric(m, "s/"+h.name)
+		if m > slowest {
+			slowest, slowName = m, h.name
+		}
+	}
+	b.ReportMetric(slowest, "s/slowest-median")
+	b.Logf("slowest: %s", slowName)
+}
