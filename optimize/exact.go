@@ -513,7 +513,7 @@ func (f *fitRun) exactDesign(d *synth.Design, ji int, B float64, maxParts int, l
 		ts[i], ideals[i] = ampTargets(&d.Sections[i], f.grid, f.o.Amp)
 		ts[i].setDomain(f.res, f.caps)
 		if !ts[i].hasDom {
-			return "a " + d.Sections[i].Topology.Name() + " section is searched near its exact solution only"
+			return "the proof covers unity-gain Sallen-Key and RC sections, not a " + d.Sections[i].Topology.Name() + " section"
 		}
 	}
 	idx := ts[0].coarse()
