@@ -109,17 +109,6 @@ func sameResponse(a, b *combo) bool {
 		eq(a.err, b.err) && eq(a.passAtten, b.passAtten) && eq(a.stopAtten, b.stopAtten)
 }
 
-// hasWithin reports whether a listed combo meets the specification within
-// error e.
-func (t *topList) hasWithin(e float64) bool {
-	for _, c := range t.list {
-		if c.meets && c.err <= e {
-			return true
-		}
-	}
-	return false
-}
-
 // topList keeps the best k combos in order.
 type topList struct {
 	k    int
