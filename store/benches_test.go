@@ -20,7 +20,6 @@ import (
 	"testing"
 	"time"
 
-	"drawerfit/migrations"
 	"drawerfit/production"
 	"drawerfit/stock"
 )
@@ -285,33 +284,6 @@ func TestBenchesCreateOneServerDatabase(t *testing.T) {
 	}
 	for pair := 0; pair < 10; pair++ {
 		url := newPostgresDatabase(t)
-		var cmds []*exec.Cmd
-		var gates []io.WriteCloser
-		for i := 0; i < 2; i++ {
-			cmd := helper(t, "open", url)
-			in, _ := cmd.StdinPipe()
-			if err := cmd.Start(); err != nil {
-				t.Fatal(err)
-			}
-			cmds, gates = append(cmds, cmd), append(gates, in)
-		}
-		for _, g := range gates {
-			g.Close()
-		}
-		for i, cmd := range cmds {
-			if err := cmd.Wait(); err != nil {
-				t.Fatalf("pair %d, process %d: %v", pair, i, err)
-			}
-		}
-		db, err := Open(url)
-		if err != nil {
-			t.Fatal(err)
-		}
-		var n, max int
-		db.SQL().QueryRow(`SELECT COUNT(*), MAX(version) FROM schema_version`).Scan(&n, &max)
-		db.Close()
-		if n != max || max != migrations.Latest() {
-			t.Fatalf("pair %d: %d migration records, highest %d, want %d each", pair, n, max, migrations.Latest())
-		}
+		openTogether(t, pair, url)
 	}
 }

@@ -297,33 +297,41 @@ func TestTwoProcessesCreateOneFile(t *testing.T) {
 	dir := t.TempDir()
 	for pair := 0; pair < 50; pair++ {
 		path := filepath.Join(dir, fmt.Sprintf("first-use-%d.db", pair))
-		var cmds []*exec.Cmd
-		var gates []io.WriteCloser
-		for i := 0; i < 2; i++ {
-			cmd := helper(t, "open", path)
-			in, _ := cmd.StdinPipe()
-			if err := cmd.Start(); err != nil {
-				t.Fatal(err)
-			}
-			cmds, gates = append(cmds, cmd), append(gates, in)
-		}
-		for _, g := range gates {
-			g.Close()
-		}
-		for i, cmd := range cmds {
-			if err := cmd.Wait(); err != nil {
-				t.Fatalf("pair %d, helper %d: %v", pair, i, err)
-			}
-		}
-		db, err := Open(path)
-		if err != nil {
+		openTogether(t, pair, path)
+	}
+}
+
+// openTogether starts two helper processes that open target at the same
+// moment (released together through their standard input), waits for both,
+// and checks that every migration was recorded exactly once.
+func openTogether(t *testing.T, pair int, target string) {
+	t.Helper()
+	var cmds []*exec.Cmd
+	var gates []io.WriteCloser
+	for i := 0; i < 2; i++ {
+		cmd := helper(t, "open", target)
+		in, _ := cmd.StdinPipe()
+		if err := cmd.Start(); err != nil {
 			t.Fatal(err)
 		}
-		var n, max int
-		db.SQL().QueryRow(`SELECT COUNT(*), MAX(version) FROM schema_version`).Scan(&n, &max)
-		db.Close()
-		if n != max || max != migrations.Latest() {
-			t.Fatalf("pair %d: %d migration records, highest %d, want %d each", pair, n, max, migrations.Latest())
+		cmds, gates = append(cmds, cmd), append(gates, in)
+	}
+	for _, g := range gates {
+		g.Close()
+	}
+	for i, cmd := range cmds {
+		if err := cmd.Wait(); err != nil {
+			t.Fatalf("pair %d, process %d: %v", pair, i, err)
 		}
+	}
+	db, err := Open(target)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var n, max int
+	db.SQL().QueryRow(`SELECT COUNT(*), MAX(version) FROM schema_version`).Scan(&n, &max)
+	db.Close()
+	if n != max || max != migrations.Latest() {
+		t.Fatalf("pair %d: %d migration records, highest %d, want %d each", pair, n, max, migrations.Latest())
 	}
 }
